@@ -1,0 +1,41 @@
+import { z } from 'zod'
+import { Email, Id, Password, PersonName, Timestamp } from './common'
+
+export const SignUpBody = z.object({ email: Email, password: Password, name: PersonName })
+export type SignUpBody = z.infer<typeof SignUpBody>
+
+export const SignInBody = z.object({
+  email: Email,
+  // Sign-in does not re-apply the length floor: an old password must still get a clear "wrong password".
+  password: z.string({ error: 'must be text' }).min(1, { error: 'must not be empty' }).max(200, { error: 'must be at most 200 characters' }),
+})
+export type SignInBody = z.infer<typeof SignInBody>
+
+export const UpdateMeBody = z.object({ name: PersonName })
+export type UpdateMeBody = z.infer<typeof UpdateMeBody>
+
+export const ChangePasswordBody = z.object({
+  currentPassword: z.string({ error: 'must be text' }).min(1, { error: 'must not be empty' }).max(200),
+  newPassword: Password,
+})
+export type ChangePasswordBody = z.infer<typeof ChangePasswordBody>
+
+export const ResetRequestBody = z.object({ email: Email })
+export type ResetRequestBody = z.infer<typeof ResetRequestBody>
+
+export const ResetConfirmBody = z.object({
+  token: z.string({ error: 'must be text' }).regex(/^[A-Za-z0-9_-]{20,100}$/, { error: 'is not a reset token' }),
+  password: Password,
+})
+export type ResetConfirmBody = z.infer<typeof ResetConfirmBody>
+
+export const User = z.object({
+  id: Id,
+  email: z.string(),
+  name: z.string(),
+  createdAt: Timestamp,
+})
+export type User = z.infer<typeof User>
+
+export const MeResponse = z.object({ user: User })
+export type MeResponse = z.infer<typeof MeResponse>

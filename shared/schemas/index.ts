@@ -1,0 +1,5 @@
+export * from './common'
+export * from './auth'
+export * from './projects'
+export * from './devMail'
+export * from './health'

@@ -1,0 +1,55 @@
+import { z } from 'zod'
+import { ROLES } from '../auth/roles'
+import { Email, Id, Timestamp } from './common'
+
+export const RoleSchema = z.enum(ROLES, { error: `must be one of ${ROLES.join(', ')}` })
+
+const ProjectName = z
+  .string({ error: 'must be text' })
+  .trim()
+  .min(1, { error: 'must not be empty' })
+  .max(120, { error: 'must be at most 120 characters' })
+const ProjectDescription = z.string({ error: 'must be text' }).trim().max(2000, { error: 'must be at most 2000 characters' })
+
+export const ProjectCreateBody = z.object({ name: ProjectName, description: ProjectDescription.default('') })
+export type ProjectCreateBody = z.infer<typeof ProjectCreateBody>
+
+export const ProjectUpdateBody = z
+  .object({ name: ProjectName, description: ProjectDescription })
+  .partial()
+  .refine((v) => v.name !== undefined || v.description !== undefined, { error: 'give a name or a description to change' })
+export type ProjectUpdateBody = z.infer<typeof ProjectUpdateBody>
+
+export const ProjectParams = z.object({ projectId: Id })
+export const MemberParams = z.object({ projectId: Id, userId: Id })
+
+export const Project = z.object({
+  id: Id,
+  name: z.string(),
+  description: z.string(),
+  role: RoleSchema,
+  memberCount: z.number().int(),
+  createdAt: Timestamp,
+  updatedAt: Timestamp,
+})
+export type Project = z.infer<typeof Project>
+
+export const ProjectList = z.object({ projects: z.array(Project) })
+export const ProjectResponse = z.object({ project: Project })
+
+export const Member = z.object({
+  userId: Id,
+  name: z.string(),
+  email: z.string(),
+  role: RoleSchema,
+  joinedAt: Timestamp,
+})
+export type Member = z.infer<typeof Member>
+export const MemberList = z.object({ members: z.array(Member) })
+export const MemberResponse = z.object({ member: Member })
+
+/** Adds a person who already has an account; people without one are invited by e-mail. */
+export const MemberAddBody = z.object({ email: Email, role: RoleSchema })
+export type MemberAddBody = z.infer<typeof MemberAddBody>
+export const MemberUpdateBody = z.object({ role: RoleSchema })
+export type MemberUpdateBody = z.infer<typeof MemberUpdateBody>

@@ -1,0 +1,2 @@
+// Placeholder replaced when the database test harness lands.
+export default function setup(): void {}
