@@ -1,2 +1,26 @@
-// Placeholder replaced when the database test harness lands.
-export default function setup(): void {}
+import pg from 'pg'
+import { createDb, createPool } from '../../server/db'
+import { migrateToLatest } from '../../server/db/migrate'
+
+export const TEMPLATE_DB = 'spanmark_template'
+
+/**
+ * Migrates one template database per run; each test file then clones it (CREATE DATABASE ... TEMPLATE),
+ * which takes milliseconds and keeps files independent. Without TEST_DATABASE_ADMIN_URL (a unit-only run
+ * outside `npm test`) nothing is prepared and database tests say so.
+ */
+export default async function setup(): Promise<void> {
+  const admin = process.env.TEST_DATABASE_ADMIN_URL
+  if (!admin) return
+  const client = new pg.Client({ connectionString: admin })
+  await client.connect()
+  await client.query(`DROP DATABASE IF EXISTS ${TEMPLATE_DB} WITH (FORCE)`)
+  await client.query(`CREATE DATABASE ${TEMPLATE_DB}`)
+  await client.end()
+  const url = new URL(admin)
+  url.pathname = `/${TEMPLATE_DB}`
+  const pool = createPool(url.toString())
+  const db = createDb(pool)
+  await migrateToLatest(db)
+  await db.destroy()
+}

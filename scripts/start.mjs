@@ -1,0 +1,53 @@
+#!/usr/bin/env node
+// `npm start`: everything from a fresh machine to a running Spanmark. Plain Node on purpose: it runs
+// before node_modules exists. Installs what is missing, starts a private PostgreSQL cluster (kept between
+// runs), builds the client and starts the server, which applies migrations, seeds the demo project into
+// an empty database and starts the local mail fake. Ctrl-C stops what this script started.
+import { ensureNodeModules, fail, localBin, log, run, startChild } from './lib/system.mjs'
+import { chooseDataDir, ensurePostgresInstalled, startCluster, stopCluster } from './lib/postgres.mjs'
+
+const dev = process.argv.includes('--dev')
+
+async function main() {
+  ensureNodeModules()
+  const bin = ensurePostgresInstalled()
+  const { dataDir, fallback } = chooseDataDir()
+  if (fallback) log(`the postgres user cannot reach this checkout, so the database lives in ${dataDir}`)
+  const pgPort = Number(process.env.SPANMARK_PG_PORT ?? 54329)
+  const cluster = await startCluster({ bin, dataDir, port: pgPort, database: 'spanmark' })
+  log(`PostgreSQL on 127.0.0.1:${cluster.port}, data in ${dataDir}${cluster.started ? '' : ' (already running, reused)'}`)
+
+  if (!dev) {
+    log('building the client (vite build)')
+    run(localBin('vite'), ['build', '--logLevel', 'warn'])
+  }
+
+  const env = {
+    ...process.env,
+    SPANMARK_ENV: process.env.SPANMARK_ENV ?? 'development',
+    DATABASE_URL: cluster.url,
+    PORT: process.env.SPANMARK_PORT ?? process.env.PORT ?? '5480',
+    MAIL_FAKE: process.env.MAIL_FAKE ?? '1',
+    SEED_DEMO: process.env.SEED_DEMO ?? '1',
+  }
+  const server = startChild(localBin('tsx'), ['server/index.ts'], { env })
+
+  let stopping = false
+  const stop = (signal) => {
+    if (stopping) return
+    stopping = true
+    log(`stopping (${signal})`)
+    server.kill('SIGTERM')
+  }
+  process.on('SIGINT', () => stop('SIGINT'))
+  process.on('SIGTERM', () => stop('SIGTERM'))
+
+  const code = await new Promise((resolve) => server.on('exit', (c, s) => resolve(c ?? (s ? 1 : 0))))
+  if (cluster.started) {
+    log('stopping PostgreSQL')
+    stopCluster({ bin, dataDir })
+  }
+  process.exit(stopping ? 0 : code)
+}
+
+main().catch((err) => fail(err instanceof Error ? err.message : String(err)))

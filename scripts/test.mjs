@@ -1,0 +1,70 @@
+#!/usr/bin/env node
+// `npm test`: the same bootstrap as `npm start` with a throwaway PostgreSQL cluster, then the type check,
+// the client build (the browser tests load it) and every vitest suite: unit, API, browser. Ends with the
+// plain line `N passed, N failed` and exits non-zero on any failure.
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { spawnSync } from 'node:child_process'
+import { aptInstall, ensureNodeModules, fail, localBin, log, root } from './lib/system.mjs'
+import { ensurePostgresInstalled, freePort, startCluster, stopCluster } from './lib/postgres.mjs'
+
+function ensureChromium() {
+  if (fs.existsSync('/usr/bin/chromium')) return
+  log('Chromium is not installed: installing it from Debian packages (for the browser tests)')
+  aptInstall(['chromium'])
+}
+
+async function main() {
+  const started = Date.now()
+  ensureNodeModules()
+  const bin = ensurePostgresInstalled()
+  ensureChromium()
+
+  // Under /tmp so the postgres user can always reach it, whatever the checkout's folder modes.
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-test-'))
+  fs.chmodSync(tmp, 0o755)
+  const dataDir = path.join(tmp, 'pg')
+  const cluster = await startCluster({ bin, dataDir, port: await freePort(), database: 'spanmark_test' })
+  log(`throwaway PostgreSQL on 127.0.0.1:${cluster.port} in ${dataDir}`)
+
+  let passed = 0
+  let failed = 0
+  let vitestCode = 1
+  try {
+    const tc = spawnSync(localBin('vue-tsc'), ['--noEmit', '-p', 'tsconfig.json'], { stdio: 'inherit', cwd: root })
+    if (tc.status === 0) { passed++; log('type check: passed') } else { failed++; log('type check: FAILED') }
+
+    const build = spawnSync(localBin('vite'), ['build', '--logLevel', 'warn'], { stdio: 'inherit', cwd: root })
+    if (build.status === 0) { passed++; log('client build: passed') } else { failed++; log('client build: FAILED') }
+
+    const outDir = path.join(root, 'tests', 'output')
+    fs.mkdirSync(outDir, { recursive: true })
+    const report = path.join(outDir, 'vitest.json')
+    fs.rmSync(report, { force: true })
+    const args = ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`, ...process.argv.slice(2)]
+    const vt = spawnSync(localBin('vitest'), args, {
+      stdio: 'inherit',
+      cwd: root,
+      env: { ...process.env, SPANMARK_ENV: 'test', TEST_DATABASE_ADMIN_URL: cluster.adminUrl },
+    })
+    vitestCode = vt.status ?? 1
+    if (fs.existsSync(report)) {
+      const r = JSON.parse(fs.readFileSync(report, 'utf8'))
+      passed += r.numPassedTests
+      failed += r.numFailedTests
+      // A suite that fails to load has no tests to count: count it as a failure.
+      failed += r.testResults.filter((t) => t.status === 'failed' && t.assertionResults.length === 0).length
+    } else {
+      failed++
+    }
+  } finally {
+    stopCluster({ bin, dataDir })
+    fs.rmSync(tmp, { recursive: true, force: true })
+  }
+  log(`finished in ${((Date.now() - started) / 1000).toFixed(0)} s`)
+  process.stdout.write(`${passed} passed, ${failed} failed\n`)
+  process.exit(failed > 0 || vitestCode !== 0 ? 1 : 0)
+}
+
+main().catch((err) => fail(err instanceof Error ? err.message : String(err)))

@@ -1,0 +1,23 @@
+import { NodePostgresAdapter } from '@lucia-auth/adapter-postgresql'
+import { Lucia, TimeSpan } from 'lucia'
+import type pg from 'pg'
+
+export const SESSION_COOKIE = 'spanmark_session'
+
+export function createLucia(pool: pg.Pool, secureCookies: boolean) {
+  return new Lucia(new NodePostgresAdapter(pool, { user: 'users', session: 'sessions' }), {
+    sessionExpiresIn: new TimeSpan(30, 'd'),
+    sessionCookie: { name: SESSION_COOKIE, attributes: { secure: secureCookies, sameSite: 'lax' } },
+    // The adapter selects every user column; only these leave the server.
+    getUserAttributes: (a) => ({ email: a.email, name: a.name, createdAt: a.created_at }),
+  })
+}
+
+export type Auth = ReturnType<typeof createLucia>
+
+declare module 'lucia' {
+  interface Register {
+    Lucia: Auth
+    DatabaseUserAttributes: { email: string; name: string; created_at: Date }
+  }
+}

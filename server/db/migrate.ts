@@ -1,0 +1,31 @@
+import fs from 'node:fs/promises'
+import path from 'node:path'
+import { fileURLToPath, pathToFileURL } from 'node:url'
+import { Migrator, type Kysely, type Migration, type MigrationProvider } from 'kysely'
+
+export const migrationsDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..', 'migrations')
+
+/**
+ * Kysely's FileMigrationProvider imports through its own code, which vitest does not transform, so .ts
+ * migrations fail there; importing them from here works under tsx and vitest alike.
+ */
+class FolderMigrationProvider implements MigrationProvider {
+  constructor(private readonly dir: string) {}
+  async getMigrations(): Promise<Record<string, Migration>> {
+    const files = (await fs.readdir(this.dir)).filter((f) => /^\d{14}_[\w-]+\.ts$/.test(f)).sort()
+    const out: Record<string, Migration> = {}
+    for (const f of files) out[f.replace(/\.ts$/, '')] = (await import(pathToFileURL(path.join(this.dir, f)).href)) as Migration
+    return out
+  }
+}
+
+export async function migrateToLatest(db: Kysely<any>, dir = migrationsDir): Promise<string[]> {
+  const migrator = new Migrator({ db, provider: new FolderMigrationProvider(dir) })
+  const { error, results } = await migrator.migrateToLatest()
+  const failed = results?.find((r) => r.status === 'Error')
+  if (error || failed) {
+    const what = failed ? `migration ${failed.migrationName} failed` : 'migrations failed'
+    throw new Error(`${what}: ${error instanceof Error ? error.message : String(error)}`)
+  }
+  return (results ?? []).map((r) => r.migrationName)
+}

@@ -1,0 +1,25 @@
+import pino from 'pino'
+
+/** Secrets that must never reach a log line: cookies, bearer tokens, passwords, one-time tokens. */
+export const REDACT = [
+  'req.headers.cookie',
+  'req.headers.authorization',
+  'res.headers["set-cookie"]',
+  '*.password',
+  '*.newPassword',
+  '*.currentPassword',
+  '*.token',
+]
+
+export function createLogger(level: string, pretty: boolean): pino.Logger {
+  return pino({
+    level,
+    redact: { paths: REDACT, censor: '[redacted]' },
+    ...(pretty ? { transport: { target: 'pino-pretty', options: { translateTime: 'HH:MM:ss', ignore: 'pid,hostname' } } } : {}),
+  })
+}
+
+/** A URL with every query value that looks like a credential replaced, for request logs. */
+export function scrubUrl(url: string): string {
+  return url.replace(/([?&](?:token|key|pass|code)=)[^&#]*/gi, '$1[redacted]')
+}

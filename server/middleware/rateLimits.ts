@@ -1,0 +1,28 @@
+import { rateLimit } from 'express-rate-limit'
+import type { RequestHandler } from 'express'
+import { ErrorCode } from '@shared/schemas/common'
+import type { Config } from '../config'
+import type { LimiterName } from '../routes/registry'
+
+const WHAT: Record<LimiterName, string> = {
+  signIn: 'sign-in attempts',
+  passwordReset: 'password reset requests',
+  signUp: 'sign-ups',
+}
+
+export function createLimiters(limits: Config['rateLimits']): Record<LimiterName, RequestHandler> {
+  const make = (name: LimiterName): RequestHandler =>
+    rateLimit({
+      windowMs: limits[name].windowMs,
+      limit: limits[name].limit,
+      standardHeaders: 'draft-8',
+      legacyHeaders: false,
+      handler: (_req, res, _next, options) => {
+        const minutes = Math.ceil(options.windowMs / 60_000)
+        res.status(429).json({
+          error: { code: ErrorCode.tooManyRequests, message: `Too many ${WHAT[name]} from this address. Try again in ${minutes} minutes.` },
+        })
+      },
+    })
+  return { signIn: make('signIn'), passwordReset: make('passwordReset'), signUp: make('signUp') }
+}

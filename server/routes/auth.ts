@@ -1,0 +1,73 @@
+import { ChangePasswordBody, ResetConfirmBody, ResetRequestBody, SignInBody, SignUpBody, UpdateMeBody } from '@shared/schemas'
+import * as accounts from '../services/accounts'
+import { toUser } from '../services/mappers'
+import { defineRoute, type RouteDef } from './registry'
+
+export const authRoutes: RouteDef[] = [
+  defineRoute({
+    method: 'post',
+    path: '/auth/sign-up',
+    access: { kind: 'public' },
+    limiter: 'signUp',
+    body: SignUpBody,
+    handler: async ({ services, res, body }) => ({ status: 201, body: { user: await accounts.signUp(services, res, body) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/auth/sign-in',
+    access: { kind: 'public' },
+    limiter: 'signIn',
+    body: SignInBody,
+    handler: async ({ services, res, body }) => ({ body: { user: await accounts.signIn(services, res, body) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/auth/sign-out',
+    access: { kind: 'public' },
+    handler: async ({ services, res, req }) => {
+      await accounts.signOut(services, res, req.authSession?.id)
+    },
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/auth/password-reset',
+    access: { kind: 'public' },
+    limiter: 'passwordReset',
+    body: ResetRequestBody,
+    handler: async ({ services, body }) => {
+      await accounts.requestPasswordReset(services, body.email)
+      return { status: 202, body: { ok: true } }
+    },
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/auth/password-reset/confirm',
+    access: { kind: 'public' },
+    limiter: 'passwordReset',
+    body: ResetConfirmBody,
+    handler: async ({ services, res, body }) => ({ body: { user: await accounts.confirmPasswordReset(services, res, body) } }),
+  }),
+  defineRoute({
+    method: 'get',
+    path: '/me',
+    access: { kind: 'user' },
+    handler: ({ user }) => ({ body: { user: toUser(user!) } }),
+  }),
+  defineRoute({
+    method: 'patch',
+    path: '/me',
+    access: { kind: 'user' },
+    body: UpdateMeBody,
+    handler: async ({ services, user, body }) => ({ body: { user: await accounts.rename(services, user!.id, body.name) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/me/password',
+    access: { kind: 'user' },
+    limiter: 'signIn',
+    body: ChangePasswordBody,
+    handler: async ({ services, res, user, body }) => {
+      await accounts.changePassword(services, res, user!.id, body)
+    },
+  }),
+]

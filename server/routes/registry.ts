@@ -1,0 +1,56 @@
+import type { Request, Response } from 'express'
+import type { z } from 'zod'
+import type { Right, Role } from '@shared/auth/roles'
+import type { AuthUser, Services } from '../types'
+
+/**
+ * Who may call a route. Project routes name the right they need (shared/auth/roles.ts); the project is
+ * found from the path (see services/access.ts), and the codes follow DESIGN section 2: no session 401,
+ * not a member 404, a member whose role lacks the right 403.
+ */
+export type Access =
+  | { kind: 'public' }
+  | { kind: 'user' }
+  | { kind: 'project'; right: Right }
+  /** Development-only tools (the dev mailbox); not mounted in production. */
+  | { kind: 'dev' }
+
+export interface Membership {
+  projectId: string
+  role: Role
+}
+
+export interface RouteContext<P, B, Q> {
+  params: P
+  body: B
+  query: Q
+  user: AuthUser | null
+  membership: Membership | null
+  services: Services
+  req: Request
+  res: Response
+}
+
+export interface Reply {
+  status?: number
+  body?: unknown
+}
+
+export type LimiterName = 'signIn' | 'passwordReset' | 'signUp'
+
+export interface RouteDef<P = any, B = any, Q = any> {
+  method: 'get' | 'post' | 'patch' | 'put' | 'delete'
+  /** Below /api, in Express 5 path syntax. */
+  path: string
+  access: Access
+  params?: z.ZodType<P>
+  body?: z.ZodType<B>
+  query?: z.ZodType<Q>
+  limiter?: LimiterName
+  handler(ctx: RouteContext<P, B, Q>): Promise<Reply | void> | Reply | void
+}
+
+/** Declares a route; the identity function exists so each handler's context is typed from its schemas. */
+export function defineRoute<P = Record<string, never>, B = undefined, Q = undefined>(def: RouteDef<P, B, Q>): RouteDef<P, B, Q> {
+  return def
+}

@@ -1,0 +1,78 @@
+import type { Member, MemberAddBody, Project, ProjectCreateBody, ProjectUpdateBody } from '@shared/schemas'
+import type { Role } from '@shared/auth/roles'
+import { HttpError } from '../errors'
+import type { Conn } from '../db'
+import { countOwners, deleteMembership, findMember, insertMembership, listMembers, updateMembershipRole } from '../repositories/memberships'
+import { deleteProject, findProjectForUser, insertProject, listProjectsForUser, lockProject, updateProject } from '../repositories/projects'
+import { findUserByEmail } from '../repositories/users'
+import type { Services } from '../types'
+import { toMember, toProject } from './mappers'
+
+export async function listProjects(s: Services, userId: string): Promise<Project[]> {
+  return (await listProjectsForUser(s.db, userId)).map(toProject)
+}
+
+export async function getProject(db: Conn, projectId: string, userId: string): Promise<Project> {
+  const row = await findProjectForUser(db, projectId, userId)
+  if (!row) throw HttpError.notFound('No such project, or you are not a member of it.')
+  return toProject(row)
+}
+
+/** The person who creates a project owns it. */
+export async function createProject(s: Services, userId: string, body: ProjectCreateBody): Promise<Project> {
+  return s.db.transaction().execute(async (tx) => {
+    const { id } = await insertProject(tx, { name: body.name, description: body.description, createdBy: userId })
+    await insertMembership(tx, id, userId, 'owner')
+    return getProject(tx, id, userId)
+  })
+}
+
+export async function renameProject(s: Services, projectId: string, userId: string, body: ProjectUpdateBody): Promise<Project> {
+  await updateProject(s.db, projectId, body)
+  return getProject(s.db, projectId, userId)
+}
+
+export async function removeProject(s: Services, projectId: string): Promise<void> {
+  await deleteProject(s.db, projectId)
+}
+
+export async function members(s: Services, projectId: string): Promise<Member[]> {
+  return (await listMembers(s.db, projectId)).map(toMember)
+}
+
+export async function addMember(s: Services, projectId: string, body: MemberAddBody): Promise<Member> {
+  const user = await findUserByEmail(s.db, body.email)
+  if (!user) throw new HttpError(404, 'not-found', 'No account uses that e-mail address.', 'email')
+  const added = await insertMembership(s.db, projectId, user.id, body.role)
+  if (!added) throw HttpError.conflict(`${user.name} is already a member of this project.`, 'email')
+  return toMember((await findMember(s.db, projectId, user.id))!)
+}
+
+/**
+ * Role changes and removals are serialised per project (a row lock), so two owners demoting each other
+ * at once cannot leave a project with no owner.
+ */
+async function changeMembership(s: Services, projectId: string, userId: string, role: Role | null): Promise<Member | null> {
+  return s.db.transaction().execute(async (tx) => {
+    await lockProject(tx, projectId)
+    const current = await findMember(tx, projectId, userId)
+    if (!current) throw HttpError.notFound('That person is not a member of this project.')
+    if (current.role === 'owner' && role !== 'owner' && (await countOwners(tx, projectId)) <= 1) {
+      throw HttpError.conflict('A project needs at least one owner: make someone else owner first.', 'role')
+    }
+    if (role === null) {
+      await deleteMembership(tx, projectId, userId)
+      return null
+    }
+    await updateMembershipRole(tx, projectId, userId, role)
+    return toMember((await findMember(tx, projectId, userId))!)
+  })
+}
+
+export async function setMemberRole(s: Services, projectId: string, userId: string, role: Role): Promise<Member> {
+  return (await changeMembership(s, projectId, userId, role))!
+}
+
+export async function removeMember(s: Services, projectId: string, userId: string): Promise<void> {
+  await changeMembership(s, projectId, userId, null)
+}

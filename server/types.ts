@@ -1,0 +1,32 @@
+import type { Session, User } from 'lucia'
+import type pino from 'pino'
+import type { Auth } from './auth/lucia'
+import type { PasswordHasher } from './auth/password'
+import type { Config } from './config'
+import type { Db } from './db'
+import type { Mailer } from './mail/mailer'
+
+export type AuthUser = User
+
+declare global {
+  // Express's own extension point for per-request state.
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface Request {
+      user: User | null
+      authSession: Session | null
+    }
+  }
+}
+
+/** What route handlers and services reach: built once per server in app.ts. */
+export interface Services {
+  config: Config
+  db: Db
+  auth: Auth
+  hasher: PasswordHasher
+  mailer: Mailer
+  log: pino.Logger
+  /** Origin for links in e-mails: PUBLIC_URL, else the address the server listens on. */
+  publicOrigin(): string
+}

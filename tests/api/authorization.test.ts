@@ -1,0 +1,102 @@
+// Generated from the route registry (server/routes/index.ts): every API route, every role of DESIGN
+// section 2, a signed-in non-member and an anonymous caller. A route added to the registry is walked
+// here without anyone writing a test for it; a route whose access or path parameters are unknown to
+// this walker fails the test rather than slipping through.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { can, ROLES, type Role } from '@shared/auth/roles'
+import { apiRoutes } from '../../server/routes'
+import type { RouteDef } from '../../server/routes/registry'
+import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+
+let t: TestServer
+type Agent = Awaited<ReturnType<typeof signUpAgent>>
+const people = {} as Record<Role | 'outsider', Agent>
+
+beforeAll(async () => {
+  t = await startTestServer()
+  for (const who of [...ROLES, 'outsider'] as const) people[who] = await signUpAgent(t, `The ${who}`)
+})
+afterAll(async () => {
+  await t?.stop()
+})
+
+/** A project with one member per role; made afresh for each call, since some routes delete things. */
+async function freshProject(): Promise<string> {
+  const res = await people.owner.agent.post('/api/projects').send({ name: 'Matrix' }).expect(201)
+  const projectId = res.body.project.id as string
+  for (const role of ROLES.filter((r) => r !== 'owner')) {
+    await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
+  }
+  return projectId
+}
+
+/** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
+function fillPath(route: RouteDef, projectId: string): string {
+  return route.path.replace(/:(\w+)/g, (_m, name: string) => {
+    switch (name) {
+      case 'projectId':
+        return projectId
+      case 'userId':
+        return people.guest.user.id
+      default:
+        throw new Error(`the authorization walk does not know path parameter :${name} of ${route.method.toUpperCase()} ${route.path}`)
+    }
+  })
+}
+
+function call(agent: ReturnType<TestServer['agent']>, route: RouteDef, path: string) {
+  const req = agent[route.method](`/api${path}`)
+  return route.method === 'get' || route.method === 'delete' ? req : req.send({})
+}
+
+const routeName = (r: RouteDef) => `${r.method.toUpperCase()} /api${r.path}`
+
+describe('authorization matrix', () => {
+  it('covers every route in the registry', () => {
+    expect(apiRoutes.length).toBeGreaterThan(10)
+    for (const r of apiRoutes) expect(['public', 'user', 'project', 'dev']).toContain(r.access.kind)
+  })
+
+  for (const route of apiRoutes.filter((r) => r.access.kind === 'project')) {
+    const right = (route.access as { right: Parameters<typeof can>[1] }).right
+    it(`${routeName(route)} (needs ${right})`, async () => {
+      const path = fillPath(route, await freshProject())
+      const anon = await call(t.agent(), route, path)
+      expect(anon.status, 'anonymous').toBe(401)
+      const outsider = await call(people.outsider.agent, route, path)
+      expect(outsider.status, 'non-member').toBe(404)
+      expect(outsider.body.error.message).not.toMatch(/role/)
+      for (const role of ROLES) {
+        // A project of its own for each role: an allowed call may delete the project or a member.
+        const res = await call(people[role].agent, route, fillPath(route, await freshProject()))
+        if (can(role, right)) expect([401, 403, 404], `${role} is allowed`).not.toContain(res.status)
+        else {
+          expect(res.status, `${role} lacks ${right}`).toBe(403)
+          expect(res.body.error.code).toBe('forbidden')
+        }
+      }
+    })
+  }
+
+  for (const route of apiRoutes.filter((r) => r.access.kind === 'user')) {
+    it(`${routeName(route)} (signed in)`, async () => {
+      const anon = await call(t.agent(), route, fillPath(route, '00000000-0000-4000-8000-000000000000'))
+      expect(anon.status).toBe(401)
+      expect(anon.body.error.code).toBe('unauthenticated')
+    })
+  }
+
+  for (const route of apiRoutes.filter((r) => r.access.kind === 'public' || r.access.kind === 'dev')) {
+    it(`${routeName(route)} (open)`, async () => {
+      const anon = await call(t.agent(), route, fillPath(route, '00000000-0000-4000-8000-000000000000'))
+      expect([401, 403]).not.toContain(anon.status)
+    })
+  }
+
+  it('answers 404 to an unknown project id as to a project one is not in', async () => {
+    const res = await people.outsider.agent.get('/api/projects/00000000-0000-4000-8000-000000000000').expect(404)
+    const projectId = await freshProject()
+    const real = await people.outsider.agent.get(`/api/projects/${projectId}`).expect(404)
+    expect(real.body).toEqual(res.body)
+  })
+})

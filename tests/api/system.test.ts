@@ -1,0 +1,90 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { loadConfig, PRODUCTION_ARGON2, PRODUCTION_RATE_LIMITS } from '../../server/config'
+import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+
+let t: TestServer
+beforeAll(async () => {
+  t = await startTestServer()
+})
+afterAll(async () => {
+  await t?.stop()
+})
+
+describe('the API surface', () => {
+  it('reports health with the database', async () => {
+    const res = await t.agent().get('/api/health').expect(200)
+    expect(res.body).toMatchObject({ status: 'ok', database: 'up' })
+  })
+
+  it('answers unknown API routes with a 404 in the error shape', async () => {
+    const res = await t.agent().get('/api/no/such/thing').expect(404)
+    expect(res.body.error.code).toBe('not-found')
+    expect(res.body.error.message).toMatch(/GET \/api\/no\/such\/thing/)
+  })
+
+  it('answers malformed JSON and oversize bodies with the error shape', async () => {
+    const bad = await t.agent().post('/api/auth/sign-in').set('Content-Type', 'application/json').send('{"email":').expect(400)
+    expect(bad.body.error.message).toMatch(/not valid JSON/)
+    const big = await t.agent().post('/api/auth/sign-in').send({ email: 'a@b.example', password: 'x'.repeat(400_000) }).expect(413)
+    expect(big.body.error.code).toBe('payload-too-large')
+  })
+
+  it('refuses a state-changing request from another origin, and a cookie request with no Origin', async () => {
+    const { agent } = await signUpAgent(t)
+    const foreign = await agent.post('/api/projects').set('Origin', 'http://evil.example').send({ name: 'x' }).expect(403)
+    expect(foreign.body.error.code).toBe('bad-origin')
+    const res = await agent.post('/api/projects').unset('Origin').send({ name: 'x' })
+    expect(res.status).toBe(403)
+    expect(res.body.error.code).toBe('bad-origin')
+  })
+
+  it('sends security headers and keeps the session cookie out of responses to others', async () => {
+    const res = await t.agent().get('/api/health')
+    expect(res.headers['content-security-policy']).toMatch(/default-src 'self'/)
+    expect(res.headers['x-content-type-options']).toBe('nosniff')
+    expect(res.headers['x-powered-by']).toBeUndefined()
+  })
+
+  it('serves the client for page routes', async () => {
+    const res = await t.agent().get('/projects/anything')
+    // Built by `npm test` before vitest runs; without a build the server says how to make one.
+    expect([200, 503]).toContain(res.status)
+    if (res.status === 200) expect(res.text).toMatch(/<div id="app">/)
+  })
+})
+
+describe('settings', () => {
+  // OWASP Password Storage Cheat Sheet: argon2id with m=19456 (19 MiB), t=2, p=1 as the minimum.
+  it('uses full argon2id cost and strict rate limits in production', () => {
+    const prod = loadConfig({ SPANMARK_ENV: 'production', DATABASE_URL: 'postgres://x/y' })
+    expect(prod.argon2).toEqual({ memoryCost: 19456, timeCost: 2, parallelism: 1 })
+    expect(prod.argon2).toEqual(PRODUCTION_ARGON2)
+    expect(prod.rateLimits).toEqual(PRODUCTION_RATE_LIMITS)
+    expect(prod.rateLimits.signIn.limit).toBeLessThanOrEqual(10)
+    expect(prod.devMail).toBe(false)
+    expect(prod.mail.fake).toBe(false)
+  })
+
+  it('marks cookies Secure when served over https', () => {
+    expect(loadConfig({ DATABASE_URL: 'postgres://x/y', PUBLIC_URL: 'https://spanmark.example' }).secureCookies).toBe(true)
+  })
+
+  it('names a bad environment variable', () => {
+    expect(() => loadConfig({ DATABASE_URL: 'postgres://x/y', PORT: 'eighty' })).toThrow(/PORT/)
+  })
+})
+
+describe('rate limits', () => {
+  it('limits sign-in attempts with a 429 in the error shape', async () => {
+    const limited = await startTestServer({ rateLimits: { signIn: { windowMs: 60_000, limit: 3 }, passwordReset: { windowMs: 60_000, limit: 2 }, signUp: { windowMs: 60_000, limit: 100 } } })
+    try {
+      for (let i = 0; i < 3; i++) await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(401)
+      const res = await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(429)
+      expect(res.body.error.code).toBe('too-many-requests')
+      for (let i = 0; i < 2; i++) await limited.agent().post('/api/auth/password-reset').send({ email: 'x@spanmark.example' }).expect(202)
+      await limited.agent().post('/api/auth/password-reset').send({ email: 'x@spanmark.example' }).expect(429)
+    } finally {
+      await limited.stop()
+    }
+  })
+})

@@ -1,0 +1,27 @@
+// The role table of shared/auth/roles.ts against the capability table of DESIGN section 2, written out
+// here row by row (the product's own specification, not derived from the code under test).
+import { describe, expect, it } from 'vitest'
+import { can, RIGHTS, ROLES, type Right, type Role } from '@shared/auth/roles'
+
+const DESIGN_SECTION_2: Record<Right, Record<Role, boolean>> = {
+  view: { owner: true, measurer: true, mentor: true, guest: true },
+  editScans: { owner: true, measurer: true, mentor: false, guest: false },
+  editMarkers: { owner: true, measurer: true, mentor: false, guest: false },
+  comment: { owner: true, measurer: true, mentor: true, guest: false },
+  review: { owner: true, measurer: false, mentor: true, guest: false },
+  manage: { owner: true, measurer: false, mentor: false, guest: false },
+  deleteProject: { owner: true, measurer: false, mentor: false, guest: false },
+}
+
+describe('roles and rights', () => {
+  for (const right of RIGHTS) {
+    for (const role of ROLES) {
+      it(`${role} ${DESIGN_SECTION_2[right][role] ? 'may' : 'may not'} ${right}`, () => {
+        expect(can(role, right)).toBe(DESIGN_SECTION_2[right][role])
+      })
+    }
+  }
+  it('grants nothing without a role', () => {
+    expect(can(null, 'view')).toBe(false)
+  })
+})

@@ -1,0 +1,60 @@
+import pino from 'pino'
+import supertest from 'supertest'
+import { loadConfig, type Config } from '../../server/config'
+import { SpanmarkServer } from '../../server/runtime'
+import { listDevMail } from '../../server/repositories/mail'
+import { createTestDatabase } from './db'
+
+export interface TestServer {
+  server: SpanmarkServer
+  url: string
+  config: Config
+  /** A supertest agent that keeps cookies and sends this server's Origin, as the browser page would. */
+  agent(): ReturnType<typeof supertest.agent>
+  /** Waits for a message to `to` in the fake SMTP server's mailbox. */
+  waitForMail(to: string, since?: Date): Promise<{ subject: string; text: string; links: string[] }>
+  stop(): Promise<void>
+}
+
+/** The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. */
+export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}): Promise<TestServer> {
+  const database = await createTestDatabase()
+  const config = {
+    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: database.url, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', ...env }),
+    ...overrides,
+  }
+  const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
+  const url = server.url
+  return {
+    server,
+    url,
+    config,
+    agent: () => supertest.agent(url).set('Origin', url),
+    async waitForMail(to, since = new Date(0)) {
+      const deadline = Date.now() + 10_000
+      for (;;) {
+        await server.services.mailer.flush()
+        const rows = await listDevMail(server.services.db)
+        const hit = rows.find((r) => r.to_addresses.includes(to) && r.received_at >= since)
+        if (hit) return { subject: hit.subject, text: hit.text_body, links: hit.text_body.match(/https?:\/\/\S+/g) ?? [] }
+        if (Date.now() > deadline) throw new Error(`no mail to ${to} within 10 s`)
+        await new Promise((r) => setTimeout(r, 50))
+      }
+    },
+    async stop() {
+      await server.stop()
+      await database.drop()
+    },
+  }
+}
+
+let counter = 0
+/** Signs up a new person through the API and returns a signed-in agent. */
+export async function signUpAgent(t: TestServer, name = 'Test Person') {
+  const email = `person${++counter}-${process.pid}-${Date.now()}@spanmark.example`
+  const password = 'correct horse battery'
+  const agent = t.agent()
+  const res = await agent.post('/api/auth/sign-up').send({ email, password, name })
+  if (res.status !== 201) throw new Error(`sign-up failed: ${res.status} ${JSON.stringify(res.body)}`)
+  return { agent, email, password, user: res.body.user as { id: string; email: string; name: string } }
+}
