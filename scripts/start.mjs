@@ -28,6 +28,7 @@ async function main() {
     DATABASE_URL: cluster.url,
     PORT: process.env.SPANMARK_PORT ?? process.env.PORT ?? '5480',
     MAIL_FAKE: process.env.MAIL_FAKE ?? '1',
+    S3_FAKE: process.env.S3_FAKE ?? '1',
     SEED_DEMO: process.env.SEED_DEMO ?? '1',
   }
   const server = startChild(localBin('tsx'), ['server/index.ts'], { env })

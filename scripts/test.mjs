@@ -53,8 +53,8 @@ async function main() {
       const r = JSON.parse(fs.readFileSync(report, 'utf8'))
       passed += r.numPassedTests
       failed += r.numFailedTests
-      // A suite that fails to load has no tests to count: count it as a failure.
-      failed += r.testResults.filter((t) => t.status === 'failed' && t.assertionResults.length === 0).length
+      // A suite that fails outside its tests (it does not load, a hook throws) has no failed test to count.
+      failed += r.testResults.filter((t) => t.status === 'failed' && !t.assertionResults.some((a) => a.status === 'failed')).length
     } else {
       failed++
     }

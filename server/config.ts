@@ -18,6 +18,17 @@ const Env = z.object({
   MAIL_FAKE: Flag.default(false),
   SEED_DEMO: Flag.default(false),
   TRUST_PROXY: z.string().optional(),
+  S3_ENDPOINT: z.url().optional(),
+  S3_REGION: z.string().default('us-east-1'),
+  S3_BUCKET: z.string().default('spanmark-originals'),
+  S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
+  S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
+  S3_FAKE: Flag.default(false),
+  S3_FAKE_PORT: z.coerce.number().int().min(0).max(65535).default(4569),
+  DATA_DIR: z.string().optional(),
+  UPLOAD_LIMIT_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
+  LAZ_LIMIT_BYTES: z.coerce.number().int().positive().default(512 * 1024 ** 2),
+  WORKER: z.enum(['spawn', 'none']).default('spawn'),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).optional(),
 })
 
@@ -44,6 +55,14 @@ export interface Config {
   jsonLimit: string
   passwordResetTtlMs: number
   clientDir: string
+  /** Folder for local state that is not in PostgreSQL: upload spool, the fake S3's files. */
+  dataDir: string
+  storage: { endpoint: string | null; region: string; bucket: string; accessKeyId: string; secretAccessKey: string; fake: boolean; fakePort: number }
+  uploads: { limitBytes: number; lazLimitBytes: number }
+  /** 'spawn' runs the ingest worker as a child process; 'none' leaves it to a separate `server/worker.ts`. */
+  worker: 'spawn' | 'none'
+  /** A processing scan whose worker has not beaten for this long is queued again. */
+  ingestStaleMs: number
 }
 
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */
@@ -83,5 +102,18 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     jsonLimit: '256kb',
     passwordResetTtlMs: 60 * 60_000,
     clientDir: new URL('../dist', import.meta.url).pathname,
+    dataDir: e.DATA_DIR ?? new URL('../.data', import.meta.url).pathname,
+    storage: {
+      endpoint: e.S3_ENDPOINT ?? null,
+      region: e.S3_REGION,
+      bucket: e.S3_BUCKET,
+      accessKeyId: e.S3_ACCESS_KEY_ID,
+      secretAccessKey: e.S3_SECRET_ACCESS_KEY,
+      fake: e.S3_FAKE && !production,
+      fakePort: e.S3_FAKE_PORT,
+    },
+    uploads: { limitBytes: e.UPLOAD_LIMIT_BYTES, lazLimitBytes: e.LAZ_LIMIT_BYTES },
+    worker: e.WORKER,
+    ingestStaleMs: test ? 3000 : 30_000,
   }
 }

@@ -1,5 +1,7 @@
 import http from 'node:http'
+import path from 'node:path'
 import type { AddressInfo } from 'node:net'
+import type PgBoss from 'pg-boss'
 import type pino from 'pino'
 import { createLucia } from './auth/lucia'
 import { createPasswordHasher } from './auth/password'
@@ -8,46 +10,77 @@ import type { Config } from './config'
 import { createDb, createPool } from './db'
 import { migrateToLatest } from './db/migrate'
 import { seedDemo } from './demo/seed'
+import { startFakeS3, type FakeS3 } from './fakes/s3'
 import { startFakeSmtp, type FakeSmtp } from './fakes/smtp'
+import { sendIngest, startBoss } from './jobs/queue'
+import { WorkerSupervisor } from './jobs/supervisor'
 import { Mailer } from './mail/mailer'
+import { ScanIndexRegistry } from './points/scanIndexes'
+import { requeueStaleScans } from './repositories/scans'
+import { ObjectStore } from './storage/objects'
 import type { Services } from './types'
 
 /**
- * Owns everything the process runs: the pool, the local fakes, the mail sender and the HTTP server.
- * Starts them in order and stops them in reverse, so nothing is left half open.
+ * Owns everything the process runs: the pool, the local fakes, the job queue and its worker process,
+ * the mail sender and the HTTP server. Starts them in order and stops them in reverse.
  */
 export class SpanmarkServer {
+  private sweeper: NodeJS.Timeout | null = null
+
   private constructor(
     readonly services: Services,
+    readonly config: Config,
     private readonly http: http.Server,
-    private readonly smtp: FakeSmtp | null,
+    private readonly fakes: { smtp: FakeSmtp | null; s3: FakeS3 | null },
+    readonly worker: WorkerSupervisor | null,
     readonly url: string,
-    readonly demoSeeded: boolean,
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
     const pool = createPool(config.databaseUrl)
     const db = createDb(pool)
+    const started: { close(): Promise<void> | void }[] = [{ close: () => db.destroy() }]
     try {
       await migrateToLatest(db)
-      let smtp: FakeSmtp | null = null
       let mailPort = config.mail.port
+      let smtp: FakeSmtp | null = null
       if (config.mail.fake) {
         smtp = await startFakeSmtp(db, { host: '127.0.0.1', port: config.mail.port, log })
+        started.push(smtp)
         mailPort = smtp.port
       }
+      let s3: FakeS3 | null = null
+      let storage = config.storage
+      if (storage.fake) {
+        s3 = await startFakeS3({ port: storage.fakePort, directory: path.join(config.dataDir, 's3'), bucket: storage.bucket })
+        started.push(s3)
+        storage = { ...storage, endpoint: s3.endpoint }
+      }
+      const objects = new ObjectStore(storage)
+      await objects.ensureBucket()
+      const boss: PgBoss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job queue error'))
+      started.push({ close: () => boss.stop({ graceful: false, wait: true }) })
+
       let origin = config.publicUrl ?? ''
-      const hasher = createPasswordHasher(config.argon2)
       const services: Services = {
         config,
         db,
         auth: createLucia(pool, config.secureCookies),
-        hasher,
+        hasher: createPasswordHasher(config.argon2),
         mailer: new Mailer(db, { host: config.mail.host, port: mailPort }, config.mail.from, log),
+        objects,
+        boss,
+        scanIndexes: new ScanIndexRegistry(db),
         log,
         publicOrigin: () => origin,
       }
-      const demoSeeded = config.seedDemo ? await seedDemo(services) : false
+      // The worker process gets the resolved addresses of the fakes, not the configured ports.
+      const workerConfig: Config = { ...config, storage: { ...storage, fake: false }, mail: { ...config.mail, port: mailPort, fake: false } }
+      const worker = config.worker === 'spawn' ? new WorkerSupervisor(workerConfig, log) : null
+      worker?.start()
+      if (worker) started.push({ close: () => worker.stop() })
+
+      if (config.seedDemo) await seedDemo(services)
       const server = http.createServer(createApp(services))
       await new Promise<void>((resolve, reject) => {
         server.once('error', reject)
@@ -57,22 +90,44 @@ export class SpanmarkServer {
       const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`
       origin ||= url
       services.mailer.start()
-      return new SpanmarkServer(services, server, smtp, url, demoSeeded)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url)
+      app.startSweeper()
+      return app
     } catch (err) {
-      await db.destroy().catch(() => {})
+      for (const s of started.reverse()) await Promise.resolve(s.close()).catch(() => {})
       throw err
     }
   }
 
+  /** Queues again the scans whose worker died (no heartbeat) or that no worker ever took. */
+  private startSweeper(): void {
+    const { db, boss, log } = this.services
+    const sweep = async () => {
+      const stale = await requeueStaleScans(db, this.config.ingestStaleMs)
+      for (const { id } of stale) {
+        log.warn({ scanId: id }, 'scan processing stalled; queued again')
+        await sendIngest(boss, id)
+      }
+    }
+    void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed'))
+    this.sweeper = setInterval(() => void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed')), Math.max(500, this.config.ingestStaleMs / 2))
+    this.sweeper.unref()
+  }
+
   async stop(): Promise<void> {
+    if (this.sweeper) clearInterval(this.sweeper)
     await new Promise<void>((resolve) => {
       this.http.close(() => resolve())
       // Keep-alive connections would hold close() open; idle ones go now, busy ones after 5 s.
       this.http.closeIdleConnections()
       setTimeout(() => this.http.closeAllConnections(), 5000).unref()
     })
+    await this.worker?.stop()
     await this.services.mailer.stop()
-    await this.smtp?.close()
+    await this.services.boss.stop({ graceful: false, wait: true }).catch(() => {})
+    this.services.objects.destroy()
+    await this.fakes.s3?.close()
+    await this.fakes.smtp?.close()
     // Destroying Kysely ends the pg pool it wraps.
     await this.services.db.destroy()
   }

@@ -4,7 +4,9 @@ import type { Auth } from './auth/lucia'
 import type { PasswordHasher } from './auth/password'
 import type { Config } from './config'
 import type { Db } from './db'
+import type PgBoss from 'pg-boss'
 import type { Mailer } from './mail/mailer'
+import type { ObjectStore } from './storage/objects'
 
 export type AuthUser = User
 
@@ -26,7 +28,16 @@ export interface Services {
   auth: Auth
   hasher: PasswordHasher
   mailer: Mailer
+  objects: ObjectStore
+  boss: PgBoss
+  scanIndexes: ScanIndexes
   log: pino.Logger
   /** Origin for links in e-mails: PUBLIC_URL, else the address the server listens on. */
   publicOrigin(): string
+}
+
+/** Nearest-point search over stored scans, with their tile caches (server/points/scanIndexes.ts). */
+export interface ScanIndexes {
+  nearest(scanId: string, x: number, y: number, z: number, k: number, maxDistance?: number): Promise<{ x: number; y: number; z: number; distance: number }[]>
+  forget(scanId: string): void
 }

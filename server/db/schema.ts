@@ -67,7 +67,76 @@ export interface DevMailTable {
   received_at: Timestamp
 }
 
+export interface UploadTokensTable {
+  id: Generated<string>
+  project_id: string
+  label: string
+  token_hash: string
+  token_hint: string
+  created_by: string | null
+  created_at: Timestamp
+  last_used_at: Date | null
+  revoked_at: Date | null
+}
+
+/** bigint columns come back from pg as strings; the mappers turn them into numbers. */
+type BigInt = ColumnType<string, number | string, number | string>
+type Json<T> = ColumnType<T, string | undefined, string>
+
+export interface ScansTable {
+  id: Generated<string>
+  project_id: string
+  name: string
+  file_name: string
+  format: string | null
+  declared_format: string | null
+  status: Generated<'queued' | 'processing' | 'ready' | 'failed'>
+  progress: Generated<number>
+  stage: string | null
+  error: string | null
+  size_bytes: BigInt
+  sha256: string | null
+  blob_key: string
+  point_count: BigInt | null
+  min_x: number | null
+  min_y: number | null
+  min_z: number | null
+  max_x: number | null
+  max_y: number | null
+  max_z: number | null
+  spacing: number | null
+  estimated_uncertainty: number | null
+  entered_uncertainty: number | null
+  attributes: Json<{ color?: boolean; intensity?: boolean; perPointUncertainty?: boolean }>
+  dropped: Json<Record<string, number>>
+  station: Json<Record<string, unknown> | null>
+  uploaded_by: string | null
+  upload_token_id: string | null
+  heartbeat_at: Date | null
+  created_at: Timestamp
+  updated_at: Timestamp
+  ready_at: Date | null
+}
+
+export interface ScanTilesTable {
+  scan_id: string
+  node_key: string
+  level: number
+  point_count: number
+  min_x: number
+  min_y: number
+  min_z: number
+  max_x: number
+  max_y: number
+  max_z: number
+  byte_size: number
+  data: Buffer
+}
+
 export interface Database {
+  upload_tokens: UploadTokensTable
+  scans: ScansTable
+  scan_tiles: ScanTilesTable
   users: UsersTable
   sessions: SessionsTable
   password_resets: PasswordResetsTable
@@ -84,3 +153,7 @@ export type ProjectRow = Selectable<ProjectsTable>
 export type MembershipRow = Selectable<MembershipsTable>
 export type MailRow = Selectable<MailOutboxTable>
 export type DevMailRow = Selectable<DevMailTable>
+export type ScanRow = Selectable<ScansTable>
+export type NewScan = Insertable<ScansTable>
+export type ScanUpdate = Updateable<ScansTable>
+export type UploadTokenRow = Selectable<UploadTokensTable>

@@ -11,7 +11,8 @@ import type { AuthUser, Services } from '../types'
 export type Access =
   | { kind: 'public' }
   | { kind: 'user' }
-  | { kind: 'project'; right: Right }
+  /** `rigKey`: a per-project upload token (`Authorization: Bearer ...`) may stand in for a session. */
+  | { kind: 'project'; right: Right; rigKey?: boolean }
   /** Development-only tools (the dev mailbox); not mounted in production. */
   | { kind: 'dev' }
 
@@ -20,12 +21,21 @@ export interface Membership {
   role: Role
 }
 
+export interface RigKey {
+  id: string
+  createdBy: string | null
+}
+
 export interface RouteContext<P, B, Q> {
   params: P
   body: B
   query: Q
   user: AuthUser | null
+  /** Set when an upload token, not a session, authorised the request. */
+  rigKey: RigKey | null
   membership: Membership | null
+  /** The uploaded file of a route with `upload`, spooled to disk; removed after the handler. */
+  file: Express.Multer.File | null
   services: Services
   req: Request
   res: Response
@@ -47,6 +57,8 @@ export interface RouteDef<P = any, B = any, Q = any> {
   body?: z.ZodType<B>
   query?: z.ZodType<Q>
   limiter?: LimiterName
+  /** Takes one multipart file in this field (streamed to the spool folder). */
+  upload?: { field: string }
   handler(ctx: RouteContext<P, B, Q>): Promise<Reply | void> | Reply | void
 }
 

@@ -1,15 +1,21 @@
 import { can, type Right } from '@shared/auth/roles'
+import { hashSecret } from '../auth/tokens'
 import type { Conn } from '../db'
 import { HttpError } from '../errors'
 import { findMembership } from '../repositories/memberships'
-import type { Membership } from '../routes/registry'
+import { projectOfScan } from '../repositories/scans'
+import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
+import type { Membership, RigKey } from '../routes/registry'
 
 /**
- * The one place that decides whether a signed-in person may do something in a project. Routes whose
- * path names another resource (a scan, a scene, a marker) add a resolver here that finds its project.
+ * The one place that decides whether a caller may do something in a project. Routes whose path names
+ * another resource (a scan, a rig key, later a scene or a marker) add a resolver here that finds its
+ * project; the first parameter of the path found in this table decides.
  */
 const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>> = {
   projectId: async (_db, id) => id,
+  scanId: async (db, id) => (await projectOfScan(db, id))?.project_id ?? null,
+  tokenId: async (db, id) => (await projectOfUploadToken(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)
@@ -22,13 +28,25 @@ export async function projectIdFromParams(db: Conn, params: Record<string, unkno
   throw new Error(`a project route needs one of these path parameters: ${SCOPE_PARAMS.join(', ')}`)
 }
 
+const NOT_FOUND = 'No such project, or you are not a member of it.'
+
 export async function authorize(db: Conn, userId: string, params: Record<string, unknown>, right: Right): Promise<Membership> {
   const projectId = await projectIdFromParams(db, params)
   const membership = projectId ? await findMembership(db, projectId, userId) : undefined
   // Not a member: the same answer as a project that does not exist, so ids reveal nothing.
-  if (!projectId || !membership) throw HttpError.notFound('No such project, or you are not a member of it.')
+  if (!projectId || !membership) throw HttpError.notFound(NOT_FOUND)
   if (!can(membership.role, right)) {
     throw HttpError.forbidden(`Your role in this project (${membership.role}) does not allow this.`)
   }
   return { projectId, role: membership.role }
+}
+
+/** Rig keys act as a measurer of their own project, for the routes that accept them (uploads). */
+export async function authorizeRigKey(db: Conn, secret: string, params: Record<string, unknown>, right: Right): Promise<{ membership: Membership; rigKey: RigKey }> {
+  const token = await useUploadToken(db, hashSecret(secret))
+  if (!token) throw HttpError.unauthenticated('This rig key is not valid, or it was revoked.')
+  const projectId = await projectIdFromParams(db, params)
+  if (projectId !== token.project_id) throw HttpError.notFound(NOT_FOUND)
+  if (!can('measurer', right)) throw HttpError.forbidden('A rig key may only upload scans.')
+  return { membership: { projectId, role: 'measurer' }, rigKey: { id: token.id, createdBy: token.created_by } }
 }

@@ -2,16 +2,13 @@ import crypto from 'node:crypto'
 import type { Response } from 'express'
 import type { ChangePasswordBody, ResetConfirmBody, SignInBody, SignUpBody, User } from '@shared/schemas'
 import { ErrorCode } from '@shared/schemas/common'
+import { hashSecret, newSecret } from '../auth/tokens'
 import { HttpError } from '../errors'
 import { passwordChangedMail, passwordResetMail } from '../mail/templates'
 import { consumePasswordReset, findPasswordReset, insertPasswordReset, voidPasswordResets } from '../repositories/passwordResets'
 import { findUserByEmail, findUserById, insertUser, updatePasswordHash, updateUserName } from '../repositories/users'
 import type { Services } from '../types'
 import { toUser } from './mappers'
-
-export function hashToken(token: string): string {
-  return crypto.createHash('sha256').update(token).digest('hex')
-}
 
 function isUniqueViolation(err: unknown): boolean {
   return typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
@@ -71,16 +68,16 @@ export async function changePassword(s: Services, res: Response, userId: string,
 export async function requestPasswordReset(s: Services, email: string): Promise<void> {
   const row = await findUserByEmail(s.db, email)
   if (!row) return
-  const token = crypto.randomBytes(32).toString('base64url')
+  const token = newSecret()
   const ttl = s.config.passwordResetTtlMs
-  await insertPasswordReset(s.db, row.id, hashToken(token), new Date(Date.now() + ttl))
+  await insertPasswordReset(s.db, row.id, hashSecret(token), new Date(Date.now() + ttl))
   // The token rides in the fragment, which browsers never send to the server, so no log can catch it.
   const link = `${s.publicOrigin()}/reset-password#token=${token}`
   await s.mailer.enqueue(s.db, passwordResetMail(row.email, row.name, link, Math.round(ttl / 60_000)))
 }
 
 export async function confirmPasswordReset(s: Services, res: Response, body: ResetConfirmBody): Promise<User> {
-  const tokenHash = hashToken(body.token)
+  const tokenHash = hashSecret(body.token)
   const passwordHash = await s.hasher.hash(body.password)
   const user = await s.db.transaction().execute(async (tx) => {
     const used = await consumePasswordReset(tx, tokenHash)

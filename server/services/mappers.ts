@@ -1,8 +1,10 @@
-import type { Member, Project, User } from '@shared/schemas'
+import type { Member, Project, Scan, UploadToken, User } from '@shared/schemas'
 import type { AuthUser } from '../types'
 import type { UserRow } from '../db/schema'
 import type { MemberRow } from '../repositories/memberships'
 import type { ProjectWithRoleRow } from '../repositories/projects'
+import type { ScanWithUploaderRow } from '../repositories/scans'
+import type { UploadTokenWithCreatorRow } from '../repositories/uploadTokens'
 
 /** Database rows (snake_case) to API objects (camelCase): the only place the two spellings meet. */
 export function toUser(row: UserRow | AuthUser): User {
@@ -24,4 +26,48 @@ export function toProject(row: ProjectWithRoleRow): Project {
 
 export function toMember(row: MemberRow): Member {
   return { userId: row.user_id, name: row.name, email: row.email, role: row.role, joinedAt: row.created_at.toISOString() }
+}
+
+export function toScan(row: ScanWithUploaderRow): Scan {
+  const has = row.min_x !== null && row.max_x !== null
+  const attributes = row.attributes ?? {}
+  const station = row.station as Scan['station']
+  const perPoint = Boolean(attributes.perPointUncertainty)
+  return {
+    id: row.id,
+    projectId: row.project_id,
+    name: row.name,
+    fileName: row.file_name,
+    format: (row.format as Scan['format']) ?? null,
+    status: row.status,
+    progress: row.progress,
+    stage: row.stage,
+    error: row.error,
+    sizeBytes: Number(row.size_bytes),
+    pointCount: row.point_count === null ? null : Number(row.point_count),
+    bounds: has ? { min: [row.min_x!, row.min_y!, row.min_z!], max: [row.max_x!, row.max_y!, row.max_z!] } : null,
+    spacing: row.spacing,
+    pointUncertainty: row.entered_uncertainty ?? row.estimated_uncertainty,
+    estimatedUncertainty: row.estimated_uncertainty,
+    enteredUncertainty: row.entered_uncertainty,
+    uncertaintySource: row.entered_uncertainty !== null ? 'entered' : perPoint ? 'per-point' : row.estimated_uncertainty !== null ? 'estimated' : null,
+    attributes: { color: Boolean(attributes.color), intensity: Boolean(attributes.intensity), perPointUncertainty: perPoint },
+    dropped: row.dropped ?? {},
+    station: station ?? null,
+    uploadedBy: row.uploader_name ?? (row.token_label ? `rig key "${row.token_label}"` : null),
+    createdAt: row.created_at.toISOString(),
+    readyAt: row.ready_at?.toISOString() ?? null,
+  }
+}
+
+export function toUploadToken(row: UploadTokenWithCreatorRow): UploadToken {
+  return {
+    id: row.id,
+    label: row.label,
+    hint: row.token_hint,
+    createdBy: row.creator_name,
+    createdAt: row.created_at.toISOString(),
+    lastUsedAt: row.last_used_at?.toISOString() ?? null,
+    revokedAt: row.revoked_at?.toISOString() ?? null,
+  }
 }

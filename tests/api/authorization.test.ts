@@ -20,22 +20,43 @@ afterAll(async () => {
   await t?.stop()
 })
 
-/** A project with one member per role; made afresh for each call, since some routes delete things. */
-async function freshProject(): Promise<string> {
+interface Fixture {
+  projectId: string
+  scanId: string
+  tokenId: string
+  /** The rig key's secret. */
+  secret: string
+}
+
+/**
+ * A project with one member per role, a scan (uploaded, left queued: no worker runs here) and a rig key;
+ * made afresh for each call, since some routes delete things.
+ */
+async function freshProject(): Promise<Fixture> {
   const res = await people.owner.agent.post('/api/projects').send({ name: 'Matrix' }).expect(201)
   const projectId = res.body.project.id as string
   for (const role of ROLES.filter((r) => r !== 'owner')) {
     await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
   }
-  return projectId
+  const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
+  const token = await people.owner.agent.post(`/api/projects/${projectId}/upload-tokens`).send({ label: 'matrix rig' }).expect(201)
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret }
 }
 
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none' }
+
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
-function fillPath(route: RouteDef, projectId: string): string {
+function fillPath(route: RouteDef, f: Fixture): string {
   return route.path.replace(/:(\w+)/g, (_m, name: string) => {
     switch (name) {
       case 'projectId':
-        return projectId
+        return f.projectId
+      case 'scanId':
+        return f.scanId
+      case 'tokenId':
+        return f.tokenId
+      case 'nodeKey':
+        return 'r'
       case 'userId':
         return people.guest.user.id
       default:
@@ -78,9 +99,27 @@ describe('authorization matrix', () => {
     })
   }
 
+  // A rig key (upload token) opens only the routes that accept one, and only in its own project.
+  for (const route of apiRoutes.filter((r) => r.access.kind === 'project')) {
+    const access = route.access as { right: Parameters<typeof can>[1]; rigKey?: boolean }
+    it(`${routeName(route)} with a rig key (${access.rigKey ? 'accepted' : 'refused'})`, async () => {
+      const own = await freshProject()
+      const other = await freshProject()
+      const withKey = (secret: string, f: Fixture) => call(t.agent().set('Authorization', `Bearer ${secret}`), route, fillPath(route, f))
+      const res = await withKey(own.secret, own)
+      if (!access.rigKey) expect(res.status).toBe(401)
+      else if (can('measurer', access.right)) expect([401, 403, 404]).not.toContain(res.status)
+      else expect(res.status).toBe(403)
+      if (access.rigKey) expect((await withKey(own.secret, other)).status, 'key of another project').toBe(404)
+      expect((await withKey('smk_not-a-key', own)).status, 'unknown key').toBe(401)
+      await people.owner.agent.delete(`/api/upload-tokens/${own.tokenId}`).expect(204)
+      expect((await withKey(own.secret, own)).status, 'revoked key').toBe(401)
+    })
+  }
+
   for (const route of apiRoutes.filter((r) => r.access.kind === 'user')) {
     it(`${routeName(route)} (signed in)`, async () => {
-      const anon = await call(t.agent(), route, fillPath(route, '00000000-0000-4000-8000-000000000000'))
+      const anon = await call(t.agent(), route, fillPath(route, NOWHERE))
       expect(anon.status).toBe(401)
       expect(anon.body.error.code).toBe('unauthenticated')
     })
@@ -88,14 +127,14 @@ describe('authorization matrix', () => {
 
   for (const route of apiRoutes.filter((r) => r.access.kind === 'public' || r.access.kind === 'dev')) {
     it(`${routeName(route)} (open)`, async () => {
-      const anon = await call(t.agent(), route, fillPath(route, '00000000-0000-4000-8000-000000000000'))
+      const anon = await call(t.agent(), route, fillPath(route, NOWHERE))
       expect([401, 403]).not.toContain(anon.status)
     })
   }
 
   it('answers 404 to an unknown project id as to a project one is not in', async () => {
     const res = await people.outsider.agent.get('/api/projects/00000000-0000-4000-8000-000000000000').expect(404)
-    const projectId = await freshProject()
+    const { projectId } = await freshProject()
     const real = await people.outsider.agent.get(`/api/projects/${projectId}`).expect(404)
     expect(real.body).toEqual(res.body)
   })

@@ -1,3 +1,6 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
 import pino from 'pino'
 import supertest from 'supertest'
 import { loadConfig, type Config } from '../../server/config'
@@ -19,8 +22,21 @@ export interface TestServer {
 /** The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. */
 export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}): Promise<TestServer> {
   const database = await createTestDatabase()
+  const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
   const config = {
-    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: database.url, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', ...env }),
+    ...loadConfig({
+      SPANMARK_ENV: 'test',
+      DATABASE_URL: database.url,
+      PORT: '0',
+      SMTP_PORT: '0',
+      MAIL_FAKE: '1',
+      S3_FAKE: '1',
+      S3_FAKE_PORT: '0',
+      DATA_DIR: dataDir,
+      // Only the suites that process scans start the ingest worker process.
+      WORKER: 'none',
+      ...env,
+    }),
     ...overrides,
   }
   const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
@@ -44,6 +60,7 @@ export async function startTestServer(overrides: Partial<Config> = {}, env: Node
     async stop() {
       await server.stop()
       await database.drop()
+      fs.rmSync(dataDir, { recursive: true, force: true })
     },
   }
 }

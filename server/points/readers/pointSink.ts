@@ -32,8 +32,8 @@ export class PointSink {
   private readonly onBatch: ReaderOptions['onBatch']
   private readonly reuse: boolean
   private readonly layout: SinkLayout
-  private readonly minimum = [Infinity, Infinity, Infinity]
-  private readonly maximum = [-Infinity, -Infinity, -Infinity]
+  /** min x y z, max x y z */
+  private readonly extent = Float64Array.of(Infinity, Infinity, Infinity, -Infinity, -Infinity, -Infinity)
 
   constructor(
     options: ReaderOptions,
@@ -85,9 +85,8 @@ export class PointSink {
   }
 
   bounds(): Bounds {
-    const [x0 = 0, y0 = 0, z0 = 0] = this.minimum
-    const [x1 = 0, y1 = 0, z1 = 0] = this.maximum
-    return { min: [x0, y0, z0], max: [x1, y1, z1] }
+    const e = this.extent
+    return { min: [e[0] as number, e[1] as number, e[2] as number], max: [e[3] as number, e[4] as number, e[5] as number] }
   }
 
   private allocate(): void {
@@ -98,32 +97,8 @@ export class PointSink {
   }
 
   private scan(n: number): void {
-    const p = this.positions
-    let x0 = this.minimum[0] as number
-    let y0 = this.minimum[1] as number
-    let z0 = this.minimum[2] as number
-    let x1 = this.maximum[0] as number
-    let y1 = this.maximum[1] as number
-    let z1 = this.maximum[2] as number
-    for (let i = 0, j = 0; i < n; i++, j += 3) {
-      const x = p[j] as number
-      const y = p[j + 1] as number
-      const z = p[j + 2] as number
-      // v - v is 0 for every finite v, NaN for NaN and for either infinity.
-      if (x - x !== 0 || y - y !== 0 || z - z !== 0) this.failNonFinite(i, j)
-      if (x < x0) x0 = x
-      if (x > x1) x1 = x
-      if (y < y0) y0 = y
-      if (y > y1) y1 = y
-      if (z < z0) z0 = z
-      if (z > z1) z1 = z
-    }
-    this.minimum[0] = x0
-    this.minimum[1] = y0
-    this.minimum[2] = z0
-    this.maximum[0] = x1
-    this.maximum[1] = y1
-    this.maximum[2] = z1
+    const bad = scanBatch(this.positions, n, this.extent)
+    if (bad >= 0) this.failNonFinite(bad, bad * 3)
   }
 
   private failNonFinite(i: number, j: number): never {
@@ -138,4 +113,41 @@ export class PointSink {
       where,
     )
   }
+}
+
+/**
+ * Folds n points into `extent` (min x y z, max x y z) and returns the index of the first point with a
+ * coordinate that is not finite, or -1. A small top-level loop, optimised early.
+ */
+function scanBatch(p: Float64Array, n: number, extent: Float64Array): number {
+  let x0 = extent[0] as number
+  let y0 = extent[1] as number
+  let z0 = extent[2] as number
+  let x1 = extent[3] as number
+  let y1 = extent[4] as number
+  let z1 = extent[5] as number
+  let bad = -1
+  for (let i = 0, j = 0; i < n; i++, j += 3) {
+    const x = p[j] as number
+    const y = p[j + 1] as number
+    const z = p[j + 2] as number
+    // v - v is 0 for every finite v, NaN for NaN and for either infinity.
+    if (x - x !== 0 || y - y !== 0 || z - z !== 0) {
+      bad = i
+      break
+    }
+    if (x < x0) x0 = x
+    if (x > x1) x1 = x
+    if (y < y0) y0 = y
+    if (y > y1) y1 = y
+    if (z < z0) z0 = z
+    if (z > z1) z1 = z
+  }
+  extent[0] = x0
+  extent[1] = y0
+  extent[2] = z0
+  extent[3] = x1
+  extent[4] = y1
+  extent[5] = z1
+  return bad
 }

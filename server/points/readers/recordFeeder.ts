@@ -142,3 +142,15 @@ export class RecordFeeder {
     this.carryView = new DataView(grown.buffer)
   }
 }
+
+/**
+ * Index of the first byte in chunk[start..] that is not ASCII whitespace, or -1. Bytes after the last
+ * declared record are tolerated only as whitespace (a trailing newline some writers add).
+ */
+export function firstNonBlank(chunk: Uint8Array, start: number): number {
+  for (let i = start; i < chunk.length; i++) {
+    const c = chunk[i] as number
+    if (c !== 10 && c !== 13 && c !== 32 && c !== 9) return i
+  }
+  return -1
+}

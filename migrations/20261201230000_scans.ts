@@ -1,0 +1,82 @@
+import { sql, type Kysely } from 'kysely'
+
+// Scans (one uploaded file each; the original in object storage), their level-of-detail tiles, and the
+// per-project upload tokens that let a scanner rig post files without an account.
+export async function up(db: Kysely<any>): Promise<void> {
+  await db.schema
+    .createTable('upload_tokens')
+    .addColumn('id', 'uuid', (c) => c.primaryKey().defaultTo(sql`gen_random_uuid()`))
+    .addColumn('project_id', 'uuid', (c) => c.notNull().references('projects.id').onDelete('cascade'))
+    .addColumn('label', 'text', (c) => c.notNull())
+    .addColumn('token_hash', 'text', (c) => c.notNull().unique())
+    .addColumn('token_hint', 'text', (c) => c.notNull())
+    .addColumn('created_by', 'uuid', (c) => c.references('users.id').onDelete('set null'))
+    .addColumn('created_at', 'timestamptz', (c) => c.notNull().defaultTo(sql`now()`))
+    .addColumn('last_used_at', 'timestamptz')
+    .addColumn('revoked_at', 'timestamptz')
+    .execute()
+  await db.schema.createIndex('upload_tokens_project').on('upload_tokens').column('project_id').execute()
+
+  await db.schema
+    .createTable('scans')
+    .addColumn('id', 'uuid', (c) => c.primaryKey().defaultTo(sql`gen_random_uuid()`))
+    .addColumn('project_id', 'uuid', (c) => c.notNull().references('projects.id').onDelete('cascade'))
+    .addColumn('name', 'text', (c) => c.notNull())
+    .addColumn('file_name', 'text', (c) => c.notNull())
+    .addColumn('format', 'text')
+    .addColumn('declared_format', 'text')
+    .addColumn('status', 'text', (c) => c.notNull().defaultTo('queued'))
+    .addColumn('progress', 'real', (c) => c.notNull().defaultTo(0))
+    .addColumn('stage', 'text')
+    .addColumn('error', 'text')
+    .addColumn('size_bytes', 'bigint', (c) => c.notNull())
+    .addColumn('sha256', 'text')
+    .addColumn('blob_key', 'text', (c) => c.notNull())
+    .addColumn('point_count', 'bigint')
+    .addColumn('min_x', 'float8')
+    .addColumn('min_y', 'float8')
+    .addColumn('min_z', 'float8')
+    .addColumn('max_x', 'float8')
+    .addColumn('max_y', 'float8')
+    .addColumn('max_z', 'float8')
+    .addColumn('spacing', 'float8')
+    .addColumn('estimated_uncertainty', 'float8')
+    .addColumn('entered_uncertainty', 'float8')
+    .addColumn('attributes', 'jsonb', (c) => c.notNull().defaultTo(sql`'{}'::jsonb`))
+    .addColumn('dropped', 'jsonb', (c) => c.notNull().defaultTo(sql`'{}'::jsonb`))
+    .addColumn('station', 'jsonb')
+    .addColumn('uploaded_by', 'uuid', (c) => c.references('users.id').onDelete('set null'))
+    .addColumn('upload_token_id', 'uuid', (c) => c.references('upload_tokens.id').onDelete('set null'))
+    .addColumn('heartbeat_at', 'timestamptz')
+    .addColumn('created_at', 'timestamptz', (c) => c.notNull().defaultTo(sql`now()`))
+    .addColumn('updated_at', 'timestamptz', (c) => c.notNull().defaultTo(sql`now()`))
+    .addColumn('ready_at', 'timestamptz')
+    .addCheckConstraint('scans_status', sql`status in ('queued', 'processing', 'ready', 'failed')`)
+    .execute()
+  await db.schema.createIndex('scans_project').on('scans').columns(['project_id', 'created_at']).execute()
+
+  await db.schema
+    .createTable('scan_tiles')
+    .addColumn('scan_id', 'uuid', (c) => c.notNull().references('scans.id').onDelete('cascade'))
+    .addColumn('node_key', 'text', (c) => c.notNull())
+    .addColumn('level', 'integer', (c) => c.notNull())
+    .addColumn('point_count', 'integer', (c) => c.notNull())
+    .addColumn('min_x', 'float8', (c) => c.notNull())
+    .addColumn('min_y', 'float8', (c) => c.notNull())
+    .addColumn('min_z', 'float8', (c) => c.notNull())
+    .addColumn('max_x', 'float8', (c) => c.notNull())
+    .addColumn('max_y', 'float8', (c) => c.notNull())
+    .addColumn('max_z', 'float8', (c) => c.notNull())
+    .addColumn('byte_size', 'integer', (c) => c.notNull())
+    .addColumn('data', 'bytea', (c) => c.notNull())
+    .addPrimaryKeyConstraint('scan_tiles_pk', ['scan_id', 'node_key'])
+    .execute()
+  // Float data does not compress: store it out of line without trying (TOAST's EXTERNAL strategy).
+  await sql`alter table scan_tiles alter column data set storage external`.execute(db)
+}
+
+export async function down(db: Kysely<any>): Promise<void> {
+  await db.schema.dropTable('scan_tiles').execute()
+  await db.schema.dropTable('scans').execute()
+  await db.schema.dropTable('upload_tokens').execute()
+}

@@ -1,0 +1,22 @@
+import PgBoss from 'pg-boss'
+
+/** Job queues live in PostgreSQL (pg-boss), so queued work survives a restart. */
+export const INGEST_QUEUE = 'scan-ingest'
+
+export interface IngestJob {
+  scanId: string
+}
+
+export async function startBoss(databaseUrl: string, onError: (err: Error) => void): Promise<PgBoss> {
+  const boss = new PgBoss({ connectionString: databaseUrl, max: 4, schema: 'pgboss' })
+  boss.on('error', onError)
+  await boss.start()
+  // pg-boss 10: a queue must exist before send or work. A job whose worker was killed stays active until
+  // it expires; Spanmark does not wait for that: scans carry a heartbeat and stale ones are re-queued.
+  await boss.createQueue(INGEST_QUEUE, { name: INGEST_QUEUE, retryLimit: 2, retryDelay: 5, expireInSeconds: 3600 })
+  return boss
+}
+
+export function sendIngest(boss: PgBoss, scanId: string): Promise<string | null> {
+  return boss.send(INGEST_QUEUE, { scanId } satisfies IngestJob)
+}

@@ -1,0 +1,167 @@
+import type { Readable } from 'node:stream'
+import type pino from 'pino'
+import type { Db } from '../db'
+import { claimScan, deleteTiles, updateScan } from '../repositories/scans'
+import type { ObjectStore } from '../storage/objects'
+import { buildOctree } from './octree/buildOctree'
+import { encodeNodeTile } from './octree/nodeTile'
+import { PointBuffer } from './pointBuffer'
+import { createReader, detectFormat, ScanFormatError, SNIFF_BYTES, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { computeScanStats } from './stats/scanStats'
+
+export interface IngestDeps {
+  db: Db
+  objects: ObjectStore
+  log: pino.Logger
+  lazLimitBytes: number
+  staleMs: number
+}
+
+/** Share of the job each stage takes, for the progress bar (parsing dominates for text formats). */
+const READ_SHARE = 0.55
+const STATS_SHARE = 0.1
+
+const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log' }
+
+/** Collects the first bytes of a stream without losing them. */
+async function* withSniff(stream: Readable, onFirst: (bytes: Uint8Array) => void): AsyncGenerator<Uint8Array> {
+  let head: Uint8Array[] = []
+  let headBytes = 0
+  let sniffed = false
+  for await (const chunk of stream as AsyncIterable<Uint8Array>) {
+    if (sniffed) {
+      yield chunk
+      continue
+    }
+    head.push(chunk)
+    headBytes += chunk.length
+    if (headBytes >= SNIFF_BYTES) {
+      sniffed = true
+      const joined = Buffer.concat(head)
+      onFirst(joined)
+      head = []
+      yield joined
+    }
+  }
+  if (!sniffed) {
+    const joined = Buffer.concat(head)
+    onFirst(joined)
+    if (joined.length) yield joined
+  }
+}
+
+/**
+ * Processes one scan: claims it (a duplicate job or a live worker's scan is left alone), drops any tiles
+ * of an earlier attempt, streams the original from object storage through its reader, computes the
+ * statistics, builds the octree and stores each tile as it is made. Bad input fails the scan with the
+ * reader's message; nothing of another scan is touched.
+ */
+export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'done' | 'skipped' | 'failed'> {
+  const { db, log } = deps
+  const scan = await claimScan(db, scanId, deps.staleMs)
+  if (!scan) return 'skipped'
+  const size = Number(scan.size_bytes)
+  let lastWrite = 0
+  let pending: Promise<unknown> = Promise.resolve()
+  const report = (progress: number, stage: string, force = false) => {
+    const now = Date.now()
+    if (!force && now - lastWrite < 250) return
+    lastWrite = now
+    pending = pending.then(() => updateScan(db, scanId, { progress: Math.min(0.999, progress), stage, heartbeat_at: new Date() }))
+  }
+  try {
+    await deleteTiles(db, scanId)
+    if (size === 0) throw new ScanFormatError('the file is empty (0 bytes)')
+    let format: ScanFormat | null = null
+    let header: ScanHeaderInfo | null = null
+    const buffer = new PointBuffer()
+    let reader: ReturnType<typeof createReader> | null = null
+    let read = 0
+    const stream = await deps.objects.get(scan.blob_key)
+    for await (const chunk of withSniff(stream, (first) => {
+      // A declared format must still match the content; otherwise the name and the bytes decide.
+      format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
+      reader = createReader(format, { onBatch: (b) => buffer.append(b), reuseBuffers: true, byteLength: size, maxLazBytes: deps.lazLimitBytes })
+      report(0, `reading ${format}`, true)
+    })) {
+      reader!.push(chunk)
+      read += chunk.length
+      report((READ_SHARE * read) / size, `reading ${format}`)
+    }
+    const summary = await reader!.end()
+    header = summary.header
+    buffer.trim()
+    report(READ_SHARE, 'measuring spacing and noise', true)
+    await pending
+    const stats = computeScanStats(buffer)
+    const perPoint = buffer.uncertainties
+    const medianPerPoint = perPoint ? median(perPoint.subarray(0, buffer.count)) : null
+
+    report(READ_SHARE + STATS_SHARE, 'building level-of-detail tiles', true)
+    await pending
+    const tree = buildOctree(buffer)
+    let done = 0
+    let batch: { scan_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }[] = []
+    let batchBytes = 0
+    const flush = async () => {
+      if (!batch.length) return
+      await db.insertInto('scan_tiles').values(batch).execute()
+      batch = []
+      batchBytes = 0
+    }
+    for (const node of tree.nodes) {
+      const bytes = encodeNodeTile(buffer, node)
+      const b = node.bounds
+      batch.push({ scan_id: scanId, node_key: node.key, level: node.level, point_count: node.pointCount, min_x: b.min[0], min_y: b.min[1], min_z: b.min[2], max_x: b.max[0], max_y: b.max[1], max_z: b.max[2], byte_size: bytes.length, data: Buffer.from(bytes.buffer, bytes.byteOffset, bytes.length) })
+      batchBytes += bytes.length
+      done += node.pointCount
+      if (batchBytes > 4 * 1024 * 1024) {
+        await flush()
+        report(READ_SHARE + STATS_SHARE + (1 - READ_SHARE - STATS_SHARE) * (done / tree.pointCount), 'storing tiles')
+      }
+    }
+    await flush()
+    await pending
+    const bounds = stats.bounds ?? summary.bounds
+    const station = header.format === 'station-log'
+      ? { stationId: header.stationId, laserClass: header.laserClass, ratedRange: header.ratedRange, shotsPerReading: header.shotsPerReading, readings: summary.pointCount + Object.values(summary.dropped).reduce((a, n) => a + (n ?? 0), 0) }
+      : null
+    await updateScan(db, scanId, {
+      status: 'ready',
+      progress: 1,
+      stage: null,
+      error: null,
+      format: summary.format,
+      point_count: buffer.count,
+      min_x: bounds.min[0],
+      min_y: bounds.min[1],
+      min_z: bounds.min[2],
+      max_x: bounds.max[0],
+      max_y: bounds.max[1],
+      max_z: bounds.max[2],
+      spacing: stats.spacing,
+      estimated_uncertainty: medianPerPoint ?? stats.pointUncertainty?.value ?? null,
+      attributes: JSON.stringify({ color: header.hasColor, intensity: header.hasIntensity, perPointUncertainty: perPoint !== null }),
+      dropped: JSON.stringify(summary.dropped),
+      station: JSON.stringify(station),
+      heartbeat_at: null,
+      ready_at: new Date(),
+    })
+    log.info({ scanId, points: buffer.count, nodes: tree.nodes.length }, 'scan ready')
+    return 'done'
+  } catch (err) {
+    await pending.catch(() => {})
+    const message = err instanceof ScanFormatError ? err.message : `processing failed: ${err instanceof Error ? err.message : String(err)}`
+    if (!(err instanceof ScanFormatError)) log.error({ err, scanId }, 'scan processing failed')
+    await deleteTiles(db, scanId).catch(() => {})
+    await updateScan(db, scanId, { status: 'failed', stage: null, error: message, heartbeat_at: null }).catch(() => {})
+    return 'failed'
+  }
+}
+
+function median(values: Float32Array): number | null {
+  if (values.length === 0) return null
+  const sorted = Float32Array.from(values).sort()
+  const mid = sorted.length >> 1
+  return sorted.length % 2 ? sorted[mid]! : (sorted[mid - 1]! + sorted[mid]!) / 2
+}

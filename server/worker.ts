@@ -1,0 +1,36 @@
+// The ingest worker process: takes scan jobs from the PostgreSQL queue and processes them one at a time.
+// Started by the server (jobs/supervisor.ts) with the server's configuration, or on its own with the
+// same environment as the server (DESIGN section 10: workers on other machines).
+import { loadConfig, type Config } from './config'
+import { createDb, createPool } from './db'
+import { INGEST_QUEUE, startBoss, type IngestJob } from './jobs/queue'
+import { createLogger } from './logger'
+import { ingestScan } from './points/ingest'
+import { ObjectStore } from './storage/objects'
+
+const config: Config = process.env.SPANMARK_WORKER_CONFIG ? (JSON.parse(process.env.SPANMARK_WORKER_CONFIG) as Config) : loadConfig()
+const log = createLogger(config.logLevel, false).child({ worker: process.pid })
+const db = createDb(createPool(config.databaseUrl))
+const objects = new ObjectStore(config.storage)
+const boss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job queue error'))
+
+await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+  for (const job of jobs) {
+    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs }, job.data.scanId)
+  }
+})
+log.info('ingest worker ready')
+
+let stopping = false
+async function stop() {
+  if (stopping) return
+  stopping = true
+  await boss.stop({ graceful: true, timeout: 5000, wait: true }).catch(() => {})
+  objects.destroy()
+  await db.destroy()
+  process.exit(0)
+}
+process.on('SIGTERM', () => void stop())
+process.on('SIGINT', () => void stop())
+// The server going away (its pipe closing) ends the worker too.
+process.on('disconnect', () => void stop())
