@@ -37,6 +37,7 @@ function fallbackMessage(status: number): string {
   if (status === 401) return 'You are signed out. Sign in again.'
   if (status === 403) return 'Your role in this project does not allow that.'
   if (status === 404) return 'Not found.'
+  if (status === 413) return 'The file is larger than the server accepts.'
   if (status === 429) return 'Too many attempts. Wait a minute and try again.'
   if (status >= 500) return `The server could not finish this (${status}). Try again in a moment.`
   return `The server refused this request (${status}).`
@@ -70,15 +71,21 @@ async function request(method: Method, path: string, options: RequestOptions = {
   }
   const data = await readJson(response)
   if (response.ok || options.alsoAccept?.includes(response.status)) return { status: response.status, data }
+  throw apiErrorFrom(response.status, data)
+}
+
+/** The ApiError for a failed answer: the server's own error body if it sent one, else a plain message by status. */
+export function apiErrorFrom(status: number, data: unknown): ApiError {
   const parsed = ApiErrorBody.safeParse(data)
   if (parsed.success) {
     const { code, message, field } = parsed.data.error
-    throw new ApiError(response.status, code, message, field)
+    return new ApiError(status, code, message, field)
   }
-  throw new ApiError(response.status, `http-${response.status}`, fallbackMessage(response.status))
+  return new ApiError(status, `http-${status}`, fallbackMessage(status))
 }
 
-function parseWith<S extends z.ZodType>(schema: S, data: unknown, path: string): z.output<S> {
+/** Parses a success body with its shared schema (exported for requests not made through `send`, such as uploads). */
+export function parseWith<S extends z.ZodType>(schema: S, data: unknown, path: string): z.output<S> {
   const parsed = schema.safeParse(data)
   if (parsed.success) return parsed.data
   // A shape mismatch is a bug between server and client; keep the detail in the console, not the toast.

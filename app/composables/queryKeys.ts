@@ -3,5 +3,9 @@ export const queryKeys = {
   projects: () => ['projects'] as const,
   project: (projectId: string) => ['projects', projectId] as const,
   members: (projectId: string) => ['projects', projectId, 'members'] as const,
+  scans: (projectId: string) => ['projects', projectId, 'scans'] as const,
+  /** One scan followed on its own while it processes. */
+  scan: (scanId: string) => ['scans', scanId] as const,
+  uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,
   devMail: () => ['dev-mail'] as const,
 }

@@ -28,3 +28,25 @@ export function initialsOf(name: string): string {
   const last = parts.length > 1 ? (parts[parts.length - 1]?.charAt(0) ?? '') : ''
   return (first + last).toUpperCase() || '?'
 }
+
+const countFormat = new Intl.NumberFormat(undefined, { maximumFractionDigits: 0 })
+
+/** A whole count with the reader's thousands separators: "357,543". */
+export function formatCount(n: number): string {
+  return countFormat.format(n)
+}
+
+const sizeFormat = new Intl.NumberFormat(undefined, { minimumFractionDigits: 1, maximumFractionDigits: 1 })
+const SIZE_UNITS = ['KiB', 'MiB', 'GiB', 'TiB'] as const
+
+/** A file size in binary units, as the server states its limit: "812 B", "9.5 MiB", "2.0 GiB". */
+export function formatBytes(bytes: number): string {
+  if (bytes < 1024) return `${countFormat.format(bytes)}\u00a0B`
+  let value = bytes / 1024
+  let unit = 0
+  while (value >= 1024 && unit < SIZE_UNITS.length - 1) {
+    value /= 1024
+    unit++
+  }
+  return `${sizeFormat.format(value)}\u00a0${SIZE_UNITS[unit]}`
+}

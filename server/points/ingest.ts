@@ -71,20 +71,29 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
   }
   try {
     await deleteTiles(db, scanId)
-    if (size === 0) throw new ScanFormatError('the file is empty (0 bytes)')
     let format: ScanFormat | null = null
     let header: ScanHeaderInfo | null = null
     const buffer = new PointBuffer()
     let reader: ReturnType<typeof createReader> | null = null
     let read = 0
     const stream = await deps.objects.get(scan.blob_key)
+    let reserved = false
     for await (const chunk of withSniff(stream, (first) => {
       // A declared format must still match the content; otherwise the name and the bytes decide.
       format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
-      reader = createReader(format, { onBatch: (b) => buffer.append(b), reuseBuffers: true, byteLength: size, maxLazBytes: deps.lazLimitBytes })
+      // No byteLength: a file cut short then fails where it ends ("byte 722: file ends inside point 51"),
+      // which says more than a header-versus-size mismatch; nothing is allocated from the header's count.
+      reader = createReader(format, { onBatch: (b) => buffer.append(b), reuseBuffers: true, maxLazBytes: deps.lazLimitBytes })
       report(0, `reading ${format}`, true)
     })) {
       reader!.push(chunk)
+      // Sized once from the header (growing to 10 M points costs twice the memory and time), but never
+      // beyond one point per byte of the file, so a lying header cannot allocate billions.
+      const declared = reader!.header?.declaredPointCount
+      if (!reserved && declared) {
+        buffer.reserve(Math.min(declared, size))
+        reserved = true
+      }
       read += chunk.length
       report((READ_SHARE * read) / size, `reading ${format}`)
     }

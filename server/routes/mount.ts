@@ -43,7 +43,10 @@ function uploadMiddleware(services: Services, field: string): RequestHandler {
       if (!err) return next()
       if (err instanceof multer.MulterError) {
         if (err.code === 'LIMIT_FILE_SIZE') return next(new HttpError(413, ErrorCode.payloadTooLarge, `The file is larger than the upload limit of ${gib} GiB (${limit} bytes).`))
-        if (err.code === 'LIMIT_UNEXPECTED_FILE') return next(HttpError.badRequest(`body.${err.field}: send one file, in the multipart field '${field}'.`, err.field))
+        if (err.code === 'LIMIT_UNEXPECTED_FILE' || err.code === 'LIMIT_FILE_COUNT') {
+          const where = err.field ? `body.${err.field}: ` : ''
+          return next(HttpError.badRequest(`${where}send one file, in the multipart field '${field}'.`, err.field))
+        }
         return next(HttpError.badRequest(`The multipart upload was refused: ${err.message}.`, err.field))
       }
       next(err)

@@ -211,7 +211,10 @@ function readFloats(bytes: Uint8Array, offset: number, length: number): Float32A
   const start = bytes.byteOffset + offset
   if (LITTLE_ENDIAN_HOST) {
     if (start % 4 === 0) return new Float32Array(bytes.buffer, start, length)
-    return new Float32Array(bytes.slice(offset, offset + length * 4).buffer)
+    // Copy explicitly: slice() on a Node Buffer returns a view, not a copy.
+    const copy = new Float32Array(length)
+    new Uint8Array(copy.buffer).set(bytes.subarray(offset, offset + length * 4))
+    return copy
   }
   const view = new DataView(bytes.buffer, start, length * 4)
   const out = new Float32Array(length)
@@ -243,6 +246,7 @@ export function decodeTile(bytes: Uint8Array): DecodedTile {
   const tile: DecodedTile = { count, origin, positions: readFloats(bytes, layout.positions, count * 3) }
   if (layout.intensities >= 0) tile.intensities = readFloats(bytes, layout.intensities, count)
   if (layout.uncertainties >= 0) tile.uncertainties = readFloats(bytes, layout.uncertainties, count)
-  if (layout.colors >= 0) tile.colors = bytes.subarray(layout.colors, layout.colors + count * 3)
+  // A plain Uint8Array view even when `bytes` is a Node Buffer.
+  if (layout.colors >= 0) tile.colors = new Uint8Array(bytes.buffer, bytes.byteOffset + layout.colors, count * 3)
   return tile
 }

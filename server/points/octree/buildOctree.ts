@@ -144,11 +144,13 @@ export function buildOctree(buffer: PointBuffer, options: OctreeOptions = {}): O
     let kept: number
     for (;;) {
       generation++
-      kept = sampleAndClassify(positions, indices, task.start, task.end, box, grid, stamps, generation, scratch, codes)
-      if (kept <= maxLeaf || grid === 1) break
-      // A volume-filling node: put the rest back behind the kept points and sample on a coarser grid.
-      indices.set(scratch.subarray(0, count - kept), task.start + kept)
-      grid = Math.max(1, grid >> 1)
+      const limit = grid === 1 ? count : maxLeaf
+      kept = sampleAndClassify(positions, indices, task.start, task.end, box, grid, stamps, generation, scratch, codes, limit)
+      if (kept <= limit) break
+      // A volume-filling node: the pass stopped as soon as the sample outgrew the limit. Put the points it
+      // moved aside back behind the kept ones (the rest were not touched) and sample on a coarser grid.
+      indices.set(scratch.subarray(0, progress[0]! - kept), task.start + kept)
+      grid >>= 1
     }
     const firstChild = task.start + kept
     const childMask = scatterToChildren(indices, firstChild, count - kept, scratch, codes, counts)
@@ -170,10 +172,14 @@ export function buildOctree(buffer: PointBuffer, options: OctreeOptions = {}): O
   return { pointCount: n, bounds, rootBox, nodes, indices, depth }
 }
 
+/** How many points the last sampleAndClassify pass read (less than the node's count when it stopped early). */
+const progress = new Int32Array(1)
+
 /**
  * One pass over indices[start, end): the first point in each sampling cell is moved to the front (in place:
  * the write position never passes the read position); every other point goes to `rest` with its octant
- * code. Returns how many were kept. Cells are marked with `generation`, so the stamps never need clearing.
+ * code. Returns how many were kept; stops as soon as that exceeds `limit`. Cells are marked with
+ * `generation`, so the stamps never need clearing.
  */
 function sampleAndClassify(
   p: Float64Array,
@@ -186,6 +192,7 @@ function sampleAndClassify(
   generation: number,
   rest: Uint32Array,
   codes: Uint8Array,
+  limit: number,
 ): number {
   const minX = box.min[0], minY = box.min[1], minZ = box.min[2]
   const scaleX = grid / (box.max[0] - minX), scaleY = grid / (box.max[1] - minY), scaleZ = grid / (box.max[2] - minZ)
@@ -207,11 +214,16 @@ function sampleAndClassify(
     if (stamps[cell] !== generation) {
       stamps[cell] = generation
       indices[start + kept++] = index
+      if (kept > limit) {
+        progress[0] = i + 1 - start
+        return kept
+      }
     } else {
       codes[others] = (x >= midX ? 1 : 0) | (y >= midY ? 2 : 0) | (z >= midZ ? 4 : 0)
       rest[others++] = index
     }
   }
+  progress[0] = end - start
   return kept
 }
 

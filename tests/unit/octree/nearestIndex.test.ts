@@ -9,8 +9,8 @@ import { encodeNodeTile } from '../../../server/points/octree/nodeTile'
 import { NearestIndex, type NearestPoint } from '../../../server/points/index/nearestIndex'
 import { createRandom, mixedScene } from './factories'
 
-const buffer = mixedScene(40_000, 21, [2_000, -1_500, 120])
-const tree: Octree = buildOctree(buffer, { maxLeafPoints: 800, gridResolution: 8 })
+const buffer = mixedScene(25_000, 21, [2_000, -1_500, 120])
+const tree: Octree = buildOctree(buffer, { maxLeafPoints: 500, gridResolution: 8 })
 const tiles = new Map(tree.nodes.map((node) => [node.key, encodeNodeTile(buffer, node)]))
 
 // The stored points, in world coordinates exactly as the index computes them.

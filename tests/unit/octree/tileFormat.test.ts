@@ -61,6 +61,13 @@ describe('tile format', () => {
     expect(unaligned.positions.buffer).not.toBe(shifted.buffer)
     expect(unaligned.positions).toEqual(aligned.positions)
     expect(unaligned.uncertainties).toEqual(aligned.uncertainties)
+    // A Node Buffer at an odd offset inside a larger pool, as a database driver may hand it over.
+    const pool = Buffer.alloc(bytes.byteLength + 3, 0xee)
+    pool.set(bytes, 3)
+    const fromPool = decodeTile(pool.subarray(3))
+    expect(fromPool.positions).toEqual(aligned.positions)
+    expect(fromPool.intensities).toEqual(aligned.intensities)
+    expect(fromPool.colors).toEqual(aligned.colors)
   })
 
   it('encodes tiles without attributes and empty tiles', () => {

@@ -1,0 +1,55 @@
+/** What the screen says for the scan fields the API gives as codes. */
+import type { Scan, ScanFormat } from '@shared/schemas'
+import { formatCount } from './format'
+
+export const FORMAT_LABELS: Record<ScanFormat, string> = {
+  ply: 'PLY',
+  xyz: 'XYZ text',
+  pcd: 'PCD',
+  las: 'LAS',
+  laz: 'LAZ',
+  'station-log': 'station log',
+}
+
+/** The formats the upload takes, as the upload area lists them (the note shows on hover). */
+export const ACCEPTED_FORMATS: readonly { label: string; extensions: string; note: string }[] = [
+  { label: 'PLY', extensions: '.ply', note: 'ASCII, binary little or big endian' },
+  { label: 'XYZ text', extensions: '.xyz .csv .txt', note: 'x y z, with or without colour and intensity columns' },
+  { label: 'PCD', extensions: '.pcd', note: 'ASCII or binary' },
+  { label: 'LAS', extensions: '.las', note: 'LAS 1.2 to 1.4' },
+  { label: 'LAZ', extensions: '.laz', note: 'compressed LAS' },
+  { label: 'station log', extensions: '.log', note: 'pan, tilt and range readings from a scanning head' },
+]
+
+export type UncertaintySource = NonNullable<Scan['uncertaintySource']>
+
+export const UNCERTAINTY_SOURCES: Record<UncertaintySource, string> = {
+  'per-point': 'per point, from repeated shots',
+  estimated: 'estimated from plane fits',
+  entered: 'entered',
+}
+
+/** Each reads after its count: "11,639 with too few valid range samples". */
+const DROP_REASONS: Record<string, string> = {
+  tooFewSamples: 'with too few valid range samples',
+  beyondRatedRange: 'beyond the rated range',
+}
+
+/** A reason the list above does not know yet still reads as words: "someReason" -> "11: some reason". */
+function droppedLine(code: string, n: number): string {
+  const known = DROP_REASONS[code]
+  if (known) return `${formatCount(n)} ${known}`
+  return `${formatCount(n)}: ${code.replace(/([a-z0-9])([A-Z])/g, '$1 $2').toLowerCase()}`
+}
+
+/** One line per reason, the largest first. */
+export function droppedLines(dropped: Scan['dropped']): string[] {
+  return Object.entries(dropped)
+    .filter(([, n]) => n > 0)
+    .sort((a, b) => b[1] - a[1])
+    .map(([code, n]) => droppedLine(code, n))
+}
+
+export function droppedTotal(dropped: Scan['dropped']): number {
+  return Object.values(dropped).reduce((sum, n) => sum + (n > 0 ? n : 0), 0)
+}
