@@ -3,11 +3,10 @@
 // the client build (the browser tests load it) and every vitest suite: unit, API, browser. Ends with the
 // plain line `N passed, N failed` and exits non-zero on any failure.
 import fs from 'node:fs'
-import os from 'node:os'
 import path from 'node:path'
 import { spawnSync } from 'node:child_process'
 import { aptInstall, ensureNodeModules, fail, localBin, log, root } from './lib/system.mjs'
-import { ensurePostgresInstalled, freePort, startCluster, stopCluster } from './lib/postgres.mjs'
+import { ensurePostgresInstalled, withThrowawayCluster } from './lib/postgres.mjs'
 
 function ensureChromium() {
   if (fs.existsSync('/usr/bin/chromium')) return
@@ -21,17 +20,10 @@ async function main() {
   const bin = ensurePostgresInstalled()
   ensureChromium()
 
-  // Under /tmp so the postgres user can always reach it, whatever the checkout's folder modes.
-  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-test-'))
-  fs.chmodSync(tmp, 0o755)
-  const dataDir = path.join(tmp, 'pg')
-  const cluster = await startCluster({ bin, dataDir, port: await freePort(), database: 'spanmark_test' })
-  log(`throwaway PostgreSQL on 127.0.0.1:${cluster.port} in ${dataDir}`)
-
   let passed = 0
   let failed = 0
   let vitestCode = 1
-  try {
+  await withThrowawayCluster(bin, 'spanmark_test', async (cluster) => {
     const tc = spawnSync(localBin('vue-tsc'), ['--noEmit', '-p', 'tsconfig.json'], { stdio: 'inherit', cwd: root })
     if (tc.status === 0) { passed++; log('type check: passed') } else { failed++; log('type check: FAILED') }
 
@@ -58,10 +50,7 @@ async function main() {
     } else {
       failed++
     }
-  } finally {
-    stopCluster({ bin, dataDir })
-    fs.rmSync(tmp, { recursive: true, force: true })
-  }
+  })
   log(`finished in ${((Date.now() - started) / 1000).toFixed(0)} s`)
   process.stdout.write(`${passed} passed, ${failed} failed\n`)
   process.exit(failed > 0 || vitestCode !== 0 ? 1 : 0)

@@ -34,6 +34,8 @@ export class SpanmarkServer {
     private readonly fakes: { smtp: FakeSmtp | null; s3: FakeS3 | null },
     readonly worker: WorkerSupervisor | null,
     readonly url: string,
+    /** What a worker process of this server runs with (the fakes' real addresses filled in). */
+    readonly workerConfig: Config,
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
@@ -90,7 +92,7 @@ export class SpanmarkServer {
       const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`
       origin ||= url
       services.mailer.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig)
       app.startSweeper()
       return app
     } catch (err) {

@@ -126,3 +126,24 @@ export async function startCluster({ bin, dataDir, port, database, devSettings =
 export function stopCluster({ bin, dataDir }) {
   asPostgres(path.join(bin, 'pg_ctl'), ['-D', dataDir, '-m', 'fast', '-w', 'stop'], { stdio: ['ignore', 'ignore', 'inherit'] })
 }
+
+/**
+ * Runs fn with a throwaway cluster under the system temp folder (always reachable by the postgres user),
+ * stopped and removed afterwards whatever fn does.
+ */
+export async function withThrowawayCluster(bin, database, fn) {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-pg-'))
+  fs.chmodSync(tmp, 0o755)
+  const dataDir = path.join(tmp, 'pg')
+  try {
+    const cluster = await startCluster({ bin, dataDir, port: await freePort(), database })
+    log(`throwaway PostgreSQL on 127.0.0.1:${cluster.port} in ${dataDir}`)
+    try {
+      return await fn(cluster)
+    } finally {
+      stopCluster({ bin, dataDir })
+    }
+  } finally {
+    fs.rmSync(tmp, { recursive: true, force: true })
+  }
+}

@@ -1,0 +1,29 @@
+// `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
+// DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
+import { formatIngestBench, runIngestBench } from './ingest'
+import { runOctreeBench } from './octree'
+import { formatParseBench, runParseBench } from './parse'
+
+function sizes(argv: string[]): number[] {
+  const at = argv.indexOf('--sizes')
+  const text = at >= 0 ? argv[at + 1] : undefined
+  return (text ?? '1e6,1e7').split(',').map(Number)
+}
+
+const s = sizes(process.argv.slice(2))
+const log = (l: string) => process.stderr.write(`${l}\n`)
+const out: string[] = []
+const section = (title: string, body: string) => {
+  out.push(`\n## ${title}\n\n${body}\n`)
+  process.stdout.write(`\n## ${title}\n\n${body}\n`)
+}
+
+section('Parse (targets: binary PLY and LAS >= 15 M points/s, >= 10x three PLYLoader)', formatParseBench(runParseBench(s, log)))
+const octree = await runOctreeBench(s)
+section(
+  'Octree, tiles, statistics, nearest point (in memory; target: anchor check p99 < 5 ms warm, < 50 ms cold)',
+  octree
+    .map((r) => `${r.points / 1e6} M: build ${r.buildMs.toFixed(0)} ms, encode ${r.encodeMs.toFixed(0)} ms, spacing ${r.spacingMs.toFixed(0)} ms, uncertainty ${r.uncertaintyMs.toFixed(0)} ms; nearest cold p50/p99 ${r.coldP50Ms.toFixed(2)}/${r.coldP99Ms.toFixed(2)} ms, warm ${r.warmP50Ms.toFixed(3)}/${r.warmP99Ms.toFixed(3)} ms; peak RSS ${r.peakRssBuildMB.toFixed(0)} MB`)
+    .join('\n'),
+)
+section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
