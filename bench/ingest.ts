@@ -39,7 +39,7 @@ export async function runIngestBench(sizes: number[], log: (l: string) => void =
   if (!databaseUrl) throw new Error('the ingest bench needs BENCH_DATABASE_URL: run it through `npm run bench`')
   const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-ingest-bench-'))
   const config = {
-    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none' }),
+    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none', ...(process.env.LOG_LEVEL ? { LOG_LEVEL: process.env.LOG_LEVEL } : {}) }),
     uploads: { limitBytes: 4 * 1024 ** 3, lazLimitBytes: 512 * 1024 ** 2 },
   }
   const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
@@ -56,7 +56,7 @@ export async function runIngestBench(sizes: number[], log: (l: string) => void =
         const bytes = c.write(file, points)
         const label = `${c.label}, ${points / 1e6} M`
         log(`${label}: ${(bytes / 1e6).toFixed(0)} MB, uploading...`)
-        const worker = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], { env: { ...process.env, SPANMARK_WORKER_CONFIG: JSON.stringify(server.workerConfig) }, stdio: ['ignore', 'ignore', 'inherit'] })
+        const worker = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], { env: { ...process.env, SPANMARK_WORKER_CONFIG: JSON.stringify(server.workerConfig) }, stdio: ['ignore', process.env.LOG_LEVEL ? 'inherit' : 'ignore', 'inherit'] })
         await new Promise((r) => setTimeout(r, 2500))
         const form = new FormData()
         form.append('file', await fs.openAsBlob(file), path.basename(file))

@@ -50,3 +50,10 @@ export function formatBytes(bytes: number): string {
   }
   return `${sizeFormat.format(value)}\u00a0${SIZE_UNITS[unit]}`
 }
+
+const percentFormats = [0, 1].map((digits) => new Intl.NumberFormat(undefined, { style: 'percent', maximumFractionDigits: digits }))
+
+/** A share as a percentage: 0.0529 -> "5.3%", or "5%" with no decimals (the reader's locale places the sign). */
+export function formatPercent(share: number, digits: 0 | 1 = 1): string {
+  return percentFormats[digits]!.format(share)
+}

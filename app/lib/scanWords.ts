@@ -1,6 +1,5 @@
 /** What the screen says for the scan fields the API gives as codes. */
 import type { Scan, ScanFormat } from '@shared/schemas'
-import { formatCount } from './format'
 
 export const FORMAT_LABELS: Record<ScanFormat, string> = {
   ply: 'PLY',
@@ -35,19 +34,18 @@ const DROP_REASONS: Record<string, string> = {
   beyondRatedRange: 'beyond the rated range',
 }
 
-/** A reason the list above does not know yet still reads as words: "someReason" -> "11: some reason". */
-function droppedLine(code: string, n: number): string {
-  const known = DROP_REASONS[code]
-  if (known) return `${formatCount(n)} ${known}`
-  return `${formatCount(n)}: ${code.replace(/([a-z0-9])([A-Z])/g, '$1 $2').toLowerCase()}`
+export interface DroppedReason {
+  count: number
+  /** Reads after the count. A reason this list does not know yet still reads as words: "someReason" -> "some reason". */
+  words: string
 }
 
-/** One line per reason, the largest first. */
-export function droppedLines(dropped: Scan['dropped']): string[] {
+/** Readings left out, one entry per reason, the largest first. */
+export function droppedReasons(dropped: Scan['dropped']): DroppedReason[] {
   return Object.entries(dropped)
     .filter(([, n]) => n > 0)
     .sort((a, b) => b[1] - a[1])
-    .map(([code, n]) => droppedLine(code, n))
+    .map(([code, count]) => ({ count, words: DROP_REASONS[code] ?? code.replace(/([a-z0-9])([A-Z])/g, '$1 $2').toLowerCase() }))
 }
 
 export function droppedTotal(dropped: Scan['dropped']): number {

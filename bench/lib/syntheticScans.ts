@@ -1,43 +1,53 @@
 import { closeSync, openSync, writeSync } from 'node:fs'
+import type { PointBuffer } from '../../server/points/pointBuffer'
+import { syntheticScan } from './roomScan'
 
 /**
- * Synthetic scan files for the parse bench, written in blocks so that 10 M points never sit in memory.
- * The points are a deterministic pseudo-random cloud in a 20 x 15 x 4 m room (xorshift32, fixed seed), so
- * every run reads the same bytes. Formats follow their specifications: PLY (Turk 1994), LAS (ASPRS LAS
- * 1.4 R15, Table 3 header, Tables 7 and 13 records), ASCII XYZ (three columns, millimetres as decimals).
+ * Synthetic scan files for the benches. The points are a seeded synthetic scan of a 12 x 9 x 3.2 m room in
+ * scan order (bench/lib/roomScan.ts, generated in memory first: 31 bytes a point), so every run reads the
+ * same bytes and the files look like a scanner's. Formats follow their specifications: PLY (Turk 1994),
+ * LAS (ASPRS LAS 1.4 R15, Table 3 header, Tables 7 and 13 records), ASCII XYZ (three columns, metres with
+ * three decimals).
  */
 
 const BLOCK = 65536
 
-class Xorshift {
-  private state: number
-  constructor(seed = 0x2545f491) {
-    this.state = seed >>> 0 || 1
+/** Walks a synthetic room scan (bench/lib/roomScan.ts) point by point: x y z r g b intensity. */
+class ScanSource {
+  private readonly buffer: PointBuffer
+  private i = 0
+  private readonly out: [number, number, number, number, number, number, number] = [0, 0, 0, 0, 0, 0, 0]
+  constructor(points: number) {
+    this.buffer = syntheticScan(points)
   }
-  /** Uniform in [0, 1). */
-  next(): number {
-    let x = this.state
-    x ^= x << 13
-    x ^= x >>> 17
-    x ^= x << 5
-    this.state = x >>> 0
-    return this.state / 4294967296
+  next(): readonly [number, number, number, number, number, number, number] {
+    const { positions, colors, intensities } = this.buffer
+    const i = this.i++
+    const o = this.out
+    o[0] = positions[i * 3]!
+    o[1] = positions[i * 3 + 1]!
+    o[2] = positions[i * 3 + 2]!
+    o[3] = colors![i * 3]!
+    o[4] = colors![i * 3 + 1]!
+    o[5] = colors![i * 3 + 2]!
+    o[6] = intensities![i]!
+    return o
   }
 }
 
-const ROOM: [number, number, number] = [20, 15, 4]
+const ROOM: [number, number, number] = [12, 9, 3.2]
 
-function writeBlocks(path: string, header: Uint8Array, total: number, recordSize: number, fill: (view: DataView, count: number, rng: Xorshift) => void): number {
+function writeBlocks(path: string, header: Uint8Array, total: number, recordSize: number, fill: (view: DataView, count: number, source: ScanSource) => void): number {
   const fd = openSync(path, 'w')
   try {
     writeSync(fd, header)
     const block = new Uint8Array(BLOCK * recordSize)
     const view = new DataView(block.buffer)
-    const rng = new Xorshift()
+    const source = new ScanSource(total)
     let written = header.length
     for (let done = 0; done < total; done += BLOCK) {
       const n = Math.min(BLOCK, total - done)
-      fill(view, n, rng)
+      fill(view, n, source)
       writeSync(fd, block, 0, n * recordSize)
       written += n * recordSize
     }
@@ -65,14 +75,15 @@ export function writeSyntheticPly(path: string, points: number): number {
       '',
     ].join('\n'),
   )
-  return writeBlocks(path, header, points, 15, (view, n, rng) => {
+  return writeBlocks(path, header, points, 15, (view, n, source) => {
     for (let i = 0, at = 0; i < n; i++, at += 15) {
-      view.setFloat32(at, rng.next() * ROOM[0], true)
-      view.setFloat32(at + 4, rng.next() * ROOM[1], true)
-      view.setFloat32(at + 8, rng.next() * ROOM[2], true)
-      view.setUint8(at + 12, (rng.next() * 256) | 0)
-      view.setUint8(at + 13, (rng.next() * 256) | 0)
-      view.setUint8(at + 14, (rng.next() * 256) | 0)
+      const p = source.next()
+      view.setFloat32(at, p[0], true)
+      view.setFloat32(at + 4, p[1], true)
+      view.setFloat32(at + 8, p[2], true)
+      view.setUint8(at + 12, p[3])
+      view.setUint8(at + 13, p[4])
+      view.setUint8(at + 14, p[5])
     }
   })
 }
@@ -106,12 +117,13 @@ export function writeSyntheticLas(path: string, points: number, version: '1.2' |
     h.setBigUint64(247, BigInt(points), true)
     h.setBigUint64(255, BigInt(points), true)
   }
-  return writeBlocks(path, header, points, recordSize, (view, n, rng) => {
+  return writeBlocks(path, header, points, recordSize, (view, n, source) => {
     for (let i = 0, at = 0; i < n; i++, at += recordSize) {
-      view.setInt32(at, Math.floor(rng.next() * ROOM[0] * 1000), true)
-      view.setInt32(at + 4, Math.floor(rng.next() * ROOM[1] * 1000), true)
-      view.setInt32(at + 8, Math.floor(rng.next() * ROOM[2] * 1000), true)
-      view.setUint16(at + 12, (rng.next() * 65536) | 0, true)
+      const p = source.next()
+      view.setInt32(at, Math.round(p[0] * 1000), true)
+      view.setInt32(at + 4, Math.round(p[1] * 1000), true)
+      view.setInt32(at + 8, Math.round(p[2] * 1000), true)
+      view.setUint16(at + 12, p[6] | 0, true)
       view.setUint8(at + 14, format === 0 ? 0x09 : 0x11) // return 1 of 1
       view.setUint8(at + 15, format === 0 ? 1 : 0)
       if (format === 6) view.setUint8(at + 16, 1)
@@ -122,14 +134,15 @@ export function writeSyntheticLas(path: string, points: number, version: '1.2' |
 /** ASCII XYZ: "x y z" with three decimals, one point a line. */
 export function writeSyntheticXyz(path: string, points: number): number {
   const fd = openSync(path, 'w')
-  const rng = new Xorshift()
+  const source = new ScanSource(points)
   let written = 0
   try {
     for (let done = 0; done < points; done += BLOCK) {
       const n = Math.min(BLOCK, points - done)
       let text = ''
       for (let i = 0; i < n; i++) {
-        text += `${(rng.next() * ROOM[0]).toFixed(3)} ${(rng.next() * ROOM[1]).toFixed(3)} ${(rng.next() * ROOM[2]).toFixed(3)}\n`
+        const p = source.next()
+        text += `${p[0].toFixed(3)} ${p[1].toFixed(3)} ${p[2].toFixed(3)}\n`
       }
       const bytes = Buffer.from(text, 'latin1')
       writeSync(fd, bytes)

@@ -69,6 +69,14 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     lastWrite = now
     pending = pending.then(() => updateScan(db, scanId, { progress: Math.min(0.999, progress), stage, heartbeat_at: new Date() }))
   }
+  // Seconds per stage, logged with the result: where an ingest spends its time.
+  const timings: Record<string, number> = {}
+  let mark = performance.now()
+  const lap = (name: string) => {
+    const now = performance.now()
+    timings[name] = Math.round(now - mark) / 1000
+    mark = now
+  }
   try {
     await deleteTiles(db, scanId)
     let format: ScanFormat | null = null
@@ -99,16 +107,19 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     }
     const summary = await reader!.end()
     header = summary.header
+    lap('read')
     buffer.trim()
     report(READ_SHARE, 'measuring spacing and noise', true)
     await pending
     const stats = computeScanStats(buffer)
     const perPoint = buffer.uncertainties
     const medianPerPoint = perPoint ? median(perPoint.subarray(0, buffer.count)) : null
+    lap('stats')
 
     report(READ_SHARE + STATS_SHARE, 'building level-of-detail tiles', true)
     await pending
     const tree = buildOctree(buffer)
+    lap('octree')
     let done = 0
     let batch: { scan_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }[] = []
     let batchBytes = 0
@@ -131,6 +142,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     }
     await flush()
     await pending
+    lap('tiles')
     const bounds = stats.bounds ?? summary.bounds
     const station = header.format === 'station-log'
       ? { stationId: header.stationId, laserClass: header.laserClass, ratedRange: header.ratedRange, shotsPerReading: header.shotsPerReading, readings: summary.pointCount + Object.values(summary.dropped).reduce((a, n) => a + (n ?? 0), 0) }
@@ -156,7 +168,8 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       heartbeat_at: null,
       ready_at: new Date(),
     })
-    log.info({ scanId, points: buffer.count, nodes: tree.nodes.length }, 'scan ready')
+    lap('record')
+    log.info({ scanId, points: buffer.count, nodes: tree.nodes.length, seconds: timings }, 'scan ready')
     return 'done'
   } catch (err) {
     await pending.catch(() => {})

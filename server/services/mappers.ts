@@ -54,7 +54,8 @@ export function toScan(row: ScanWithUploaderRow): Scan {
     attributes: { color: Boolean(attributes.color), intensity: Boolean(attributes.intensity), perPointUncertainty: perPoint },
     dropped: row.dropped ?? {},
     station: station ?? null,
-    uploadedBy: row.uploader_name ?? (row.token_label ? `rig key "${row.token_label}"` : null),
+    // A rig key's upload names the key (its maker is the uploader of record in the database).
+    uploadedBy: row.token_label ? `rig key "${row.token_label}"` : row.uploader_name,
     createdAt: row.created_at.toISOString(),
     readyAt: row.ready_at?.toISOString() ?? null,
   }

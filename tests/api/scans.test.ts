@@ -115,7 +115,7 @@ describe('rig keys', () => {
     // As `curl -H "Authorization: Bearer ..." -F file=@station.xyz` would send it: no cookie, no Origin.
     const supertest = (await import('supertest')).default
     const res = await supertest(t.url).post(`/api/projects/${projectId}/scans`).set('Authorization', `Bearer ${secret}`).attach('file', Buffer.from('0 0 0\n1 1 1\n'), 'rig.xyz').expect(202)
-    expect(res.body.scan.uploadedBy).toBe('Scan Owner')
+    expect(res.body.scan.uploadedBy).toBe('rig key "tripod head 2"')
     const list = await owner.agent.get(`/api/projects/${projectId}/upload-tokens`).expect(200)
     expect(list.body.tokens[0].lastUsedAt).not.toBeNull()
     await owner.agent.delete(`/api/upload-tokens/${created.body.token.id}`).expect(204)

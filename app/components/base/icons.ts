@@ -28,7 +28,6 @@ export const ICONS = {
   copy: ['M5.5 5.5h7.7v7.7H5.5z', 'M10.5 5.5V2.8H2.8v7.7h2.7'],
   key: ['M5.3 10.7a2.6 2.6 0 1 0 0-5.2 2.6 2.6 0 0 0 0 5.2z', 'M7.9 8.1h5.6M11.5 8.1v2.2M13.5 8.1v1.6'],
   info: ['M8 14A6 6 0 1 0 8 2a6 6 0 0 0 0 12z', 'M8 7.3v3.7', 'M8 5v.2'],
-  gauge: ['M2.5 11.5a5.5 5.5 0 1 1 11 0', 'M8 11.5l2.6-3.6'],
 } as const
 
 export type IconName = keyof typeof ICONS

@@ -169,14 +169,16 @@ export class XyzReader extends ReaderBase {
     return headerRow
   }
 
-  /** With ';' between columns, ',' is the decimal mark when the numbers have commas and no points. */
+  /**
+   * With ';' between columns, ',' is the decimal mark when the numbers have commas and no points. A line
+   * of whole numbers shows neither, so the choice waits for the first line that has a mark.
+   */
   private decideDecimal(fields: string[]): boolean {
     const comma = fields.some((f) => f.includes(',')) && !fields.some((f) => f.includes('.'))
+    const evidence = fields.some((f) => f.includes(',') || f.includes('.'))
     this.scanner.decimal = comma ? COMMA : 46
-    if (this.decimalUndecided && this.header) {
-      this.header.decimalComma = comma
-      this.decimalUndecided = false
-    }
+    if (this.header) this.header.decimalComma = comma
+    this.decimalUndecided = this.delimiter === SEMICOLON && !evidence
     return comma
   }
 

@@ -55,6 +55,17 @@ describe('XYZ / CSV / TXT', () => {
     expect(header.columns).toEqual(['z', '', 'x', 'y', 'intensity'])
   })
 
+  it('waits for a line with a decimal mark before choosing it (whole numbers first)', async () => {
+    // Common practice, no source: spreadsheets in comma-decimal locales write ';' columns and '0,5'.
+    const withHeader = await readAll(encode('x;y;z\n0;0;0\n0,5;0;0\n0;0,25;1\n'), 'xyz')
+    expect(Array.from(withHeader.positions)).toEqual([0, 0, 0, 0.5, 0, 0, 0, 0.25, 1])
+    expect((withHeader.header as TextColumnsHeaderInfo).decimalComma).toBe(true)
+    const bare = await readAll(encode('1;2;3\n1,5;2;3\n'), 'xyz')
+    expect(Array.from(bare.positions)).toEqual([1, 2, 3, 1.5, 2, 3])
+    const dots = await readAll(encode('1;2;3\n1.5;2;3\n'), 'xyz')
+    expect(Array.from(dots.positions)).toEqual([1, 2, 3, 1.5, 2, 3])
+  })
+
   it('column counts without a header: 3 = xyz, 4 = + intensity, 6 = + rgb, 7 = + rgb intensity; 5 needs a header', async () => {
     expect((await readAll(encode('1 2 3 9\n'), 'xyz')).intensities?.[0]).toBe(9)
     expect(Array.from((await readAll(encode('1 2 3 9 8 7\n'), 'xyz')).colors!)).toEqual([9, 8, 7])
