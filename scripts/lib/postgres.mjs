@@ -30,13 +30,14 @@ export function ensurePostgresInstalled() {
   return bin
 }
 
+// From '/', since the postgres user may not be allowed into the checkout.
 function asPostgres(cmd, args, opts = {}) {
-  if (isRoot()) return run('runuser', ['-u', 'postgres', '--', cmd, ...args], opts)
+  if (isRoot()) return run('runuser', ['-u', 'postgres', '--', cmd, ...args], { cwd: '/', ...opts })
   return run(cmd, args, opts)
 }
 
 function captureAsPostgres(cmd, args) {
-  if (isRoot()) return capture('runuser', ['-u', 'postgres', '--', cmd, ...args])
+  if (isRoot()) return capture('runuser', ['-u', 'postgres', '--', cmd, ...args], { cwd: '/' })
   return capture(cmd, args)
 }
 
@@ -45,7 +46,8 @@ function reachableByPostgres(dir) {
   if (!isRoot()) return true
   fs.mkdirSync(dir, { recursive: true })
   const parent = path.dirname(dir)
-  return capture('runuser', ['-u', 'postgres', '--', 'test', '-x', parent]) !== null && capture('runuser', ['-u', 'postgres', '--', 'test', '-x', dir]) !== null
+  const test = (d) => capture('runuser', ['-u', 'postgres', '--', 'test', '-x', d], { cwd: '/' }) !== null
+  return test(parent) && test(dir)
 }
 
 /**
