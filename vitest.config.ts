@@ -1,20 +1,16 @@
-import { fileURLToPath } from 'node:url'
-import { defineConfig } from 'vitest/config'
-import vue from '@vitejs/plugin-vue'
+import { defineConfig, mergeConfig } from 'vitest/config'
+import viteConfig from './vite.config'
 
-export default defineConfig({
-  plugins: [vue()],
-  resolve: {
-    alias: {
-      '@shared': fileURLToPath(new URL('./shared', import.meta.url)),
-      '@': fileURLToPath(new URL('./app', import.meta.url)),
+// The client's aliases and Vue plugin, plus the test settings.
+export default mergeConfig(
+  viteConfig,
+  defineConfig({
+    test: {
+      include: ['tests/**/*.test.ts'],
+      globalSetup: ['tests/utils/global-setup.ts'],
+      testTimeout: 20_000,
+      hookTimeout: 60_000,
+      pool: 'forks',
     },
-  },
-  test: {
-    include: ['tests/**/*.test.ts'],
-    globalSetup: ['tests/utils/global-setup.ts'],
-    testTimeout: 20_000,
-    hookTimeout: 60_000,
-    pool: 'forks',
-  },
-})
+  }),
+)
