@@ -133,7 +133,30 @@ export interface ScanTilesTable {
   data: Buffer
 }
 
+export interface ScenesTable {
+  id: Generated<string>
+  project_id: string
+  name: string
+  created_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
+export interface SceneInstancesTable {
+  id: Generated<string>
+  scene_id: string
+  scan_id: string
+  /** Column-major 4x4, rigid (checked at the API). */
+  matrix: number[]
+  visible: Generated<boolean>
+  color: string
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
 export interface Database {
+  scenes: ScenesTable
+  scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
   scans: ScansTable
   scan_tiles: ScanTilesTable

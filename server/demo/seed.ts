@@ -4,9 +4,12 @@ import path from 'node:path'
 import { countUsers, insertUser } from '../repositories/users'
 import { insertMembership } from '../repositories/memberships'
 import { insertProject } from '../repositories/projects'
+import { insertInstance, insertScene } from '../repositories/scenes'
 import { acceptUpload } from '../services/scans'
+import { PLACEMENT_COLOURS } from '../services/scenes'
 import type { Services } from '../types'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT } from './accounts'
+import { DEMO_SCENE } from './synth/demoScans'
 import { demoScanFiles } from './synth/demoScans'
 
 /**
@@ -27,15 +30,24 @@ export async function seedDemo(s: Services): Promise<boolean> {
   })
   const spool = path.join(s.config.dataDir, 'spool')
   fs.mkdirSync(spool, { recursive: true })
+  const scanIds: Record<string, string> = {}
   for (const file of demoScanFiles()) {
     const tmp = path.join(spool, `demo-${crypto.randomBytes(6).toString('hex')}`)
     fs.writeFileSync(tmp, file.bytes)
     try {
-      await acceptUpload(s, projectId, { path: tmp, size: file.bytes.length, originalname: file.fileName }, { name: file.name }, { userId: measurerId, rigKey: null })
+      const scan = await acceptUpload(s, projectId, { path: tmp, size: file.bytes.length, originalname: file.fileName }, { name: file.name }, { userId: measurerId, rigKey: null })
+      scanIds[file.fileName] = scan.id
     } finally {
       fs.rmSync(tmp, { force: true })
     }
   }
-  s.log.info('seeded the demo project and queued its scans')
+  // The scans are still being processed; their placements are written directly (the API places only
+  // ready scans). Station A stands where it stood; B only roughly, to be aligned; the chest waits in the
+  // yard in front of the door.
+  const { id: sceneId } = await insertScene(s.db, projectId, DEMO_SCENE.name, measurerId)
+  for (const [i, p] of DEMO_SCENE.placements.entries()) {
+    await insertInstance(s.db, { sceneId, scanId: scanIds[p.fileName]!, matrix: p.matrix, visible: true, color: PLACEMENT_COLOURS[i]! })
+  }
+  s.log.info('seeded the demo project, its scene, and queued its scans')
   return true
 }

@@ -4,6 +4,7 @@ import type { Conn } from '../db'
 import { HttpError } from '../errors'
 import { findMembership } from '../repositories/memberships'
 import { projectOfScan } from '../repositories/scans'
+import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
 import type { Membership, RigKey } from '../routes/registry'
 
@@ -16,6 +17,8 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   projectId: async (_db, id) => id,
   scanId: async (db, id) => (await projectOfScan(db, id))?.project_id ?? null,
   tokenId: async (db, id) => (await projectOfUploadToken(db, id))?.project_id ?? null,
+  sceneId: async (db, id) => (await projectOfScene(db, id))?.project_id ?? null,
+  instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

@@ -1,9 +1,10 @@
-import type { Member, Project, Scan, UploadToken, User } from '@shared/schemas'
+import type { Instance, Member, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
 import type { AuthUser } from '../types'
 import type { UserRow } from '../db/schema'
 import type { MemberRow } from '../repositories/memberships'
 import type { ProjectWithRoleRow } from '../repositories/projects'
 import type { ScanWithUploaderRow } from '../repositories/scans'
+import type { InstanceRow, SceneRow } from '../repositories/scenes'
 import type { UploadTokenWithCreatorRow } from '../repositories/uploadTokens'
 
 /** Database rows (snake_case) to API objects (camelCase): the only place the two spellings meet. */
@@ -70,5 +71,30 @@ export function toUploadToken(row: UploadTokenWithCreatorRow): UploadToken {
     createdAt: row.created_at.toISOString(),
     lastUsedAt: row.last_used_at?.toISOString() ?? null,
     revokedAt: row.revoked_at?.toISOString() ?? null,
+  }
+}
+
+export function toSceneSummary(row: SceneRow): SceneSummary {
+  return {
+    id: row.id,
+    projectId: row.project_id,
+    name: row.name,
+    instanceCount: Number(row.instance_count ?? 0),
+    createdAt: row.created_at.toISOString(),
+    updatedAt: row.updated_at.toISOString(),
+  }
+}
+
+export function toInstance(row: InstanceRow): Instance {
+  return {
+    id: row.id,
+    sceneId: row.scene_id,
+    scanId: row.scan_id,
+    scanName: row.scan_name,
+    matrix: row.matrix.map(Number),
+    visible: row.visible,
+    color: row.color,
+    createdAt: row.created_at.toISOString(),
+    updatedAt: row.updated_at.toISOString(),
   }
 }

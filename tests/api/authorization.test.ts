@@ -26,6 +26,8 @@ interface Fixture {
   tokenId: string
   /** The rig key's secret. */
   secret: string
+  sceneId: string
+  instanceId: string
 }
 
 /**
@@ -40,10 +42,15 @@ async function freshProject(): Promise<Fixture> {
   }
   const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
   const token = await people.owner.agent.post(`/api/projects/${projectId}/upload-tokens`).send({ label: 'matrix rig' }).expect(201)
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret }
+  // A second scan, marked ready by hand (no worker runs here), to be placed in a scene.
+  const placed = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n'), 'placed.xyz').expect(202)
+  await t.server.services.db.updateTable('scans').set({ status: 'ready' }).where('id', '=', placed.body.scan.id).execute()
+  const scene = await people.owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Matrix scene' }).expect(201)
+  const instance = await people.owner.agent.post(`/api/scenes/${scene.body.scene.id}/instances`).send({ scanId: placed.body.scan.id }).expect(201)
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId: instance.body.instance.id }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none' }
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004' }
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -55,6 +62,10 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.scanId
       case 'tokenId':
         return f.tokenId
+      case 'sceneId':
+        return f.sceneId
+      case 'instanceId':
+        return f.instanceId
       case 'nodeKey':
         return 'r'
       case 'userId':

@@ -37,4 +37,8 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   expect(size[1]).toBeCloseTo(CHEST.depth, 1)
   expect(size[2]).toBeCloseTo(CHEST.height, 1)
   expect(byFormat['west-door-station-A.ply']!.pointCount!).toBeGreaterThan(200_000)
+  const [scene] = (await guest.get(`/api/projects/${project.id}/scenes`).expect(200)).body.scenes
+  expect(scene.instanceCount).toBe(3)
+  const full = (await guest.get(`/api/scenes/${scene.id}`).expect(200)).body.scene
+  expect(full.instances.map((i: { scanName: string }) => i.scanName).sort()).toEqual(scans.map((s) => s.name).sort())
 })

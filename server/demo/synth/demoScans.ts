@@ -1,3 +1,4 @@
+import { rotationZ } from '@shared/geometry/rigidTransform'
 import { writeBinaryPly } from '../../points/writers/plyWriter'
 import { CHEST, chestSurfaces, doorSurfaces } from './scene'
 import { createRandom, gaussian, localPoint, rangeSigma, sweepStation, type Random, type Reading, type StationPose } from './stations'
@@ -10,6 +11,17 @@ import { createRandom, gaussian, localPoint, rangeSigma, sweepStation, type Rand
  */
 export const STATION_A: StationPose = { position: [-1.8, -4.0, 1.5], headingDeg: 66 }
 export const STATION_B: StationPose = { position: [2.3, -3.4, 1.35], headingDeg: 112 }
+
+/** The demo scene: where each scan is placed (column-major rigid matrices, scene frame = the site's). */
+export const DEMO_SCENE = {
+  name: 'West door and the chart chest',
+  placements: [
+    { fileName: 'west-door-station-A.ply', matrix: rotationZ(STATION_A.headingDeg, ...STATION_A.position) },
+    // About 4 degrees and 20 cm from where station B stood: aligning it is part of the story.
+    { fileName: 'west-door-station-B.log', matrix: rotationZ(STATION_B.headingDeg - 4, STATION_B.position[0] + 0.15, STATION_B.position[1] + 0.12, STATION_B.position[2]) },
+    { fileName: 'chart-chest.ply', matrix: rotationZ(0, 0, -1.6, 0) },
+  ],
+}
 
 export interface DemoScanFile {
   fileName: string
