@@ -3,6 +3,7 @@
 import { formatIngestBench, runIngestBench } from './ingest'
 import { runOctreeBench } from './octree'
 import { formatParseBench, runParseBench } from './parse'
+import { formatViewerBench, runViewerBench } from './viewer'
 
 function sizes(argv: string[]): number[] {
   const at = argv.indexOf('--sizes')
@@ -27,3 +28,4 @@ section(
     .join('\n'),
 )
 section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
+section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))

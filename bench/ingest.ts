@@ -1,10 +1,7 @@
-import { spawn } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import pino from 'pino'
-import { loadConfig } from '../server/config'
-import { SpanmarkServer } from '../server/runtime'
+import { peakRssMiB, startBenchServer } from './lib/benchServer'
 import { writeSyntheticLas, writeSyntheticPly, writeSyntheticXyz } from './lib/syntheticScans'
 
 /**
@@ -28,62 +25,31 @@ const CASES = [
   { label: 'ASCII XYZ', ext: 'xyz', write: writeSyntheticXyz },
 ]
 
-function peakRssMiB(pid: number): number {
-  const status = fs.readFileSync(`/proc/${pid}/status`, 'utf8')
-  const kb = Number(/VmHWM:\s+(\d+)/.exec(status)?.[1] ?? 0)
-  return kb / 1024
-}
-
 export async function runIngestBench(sizes: number[], log: (l: string) => void = () => {}): Promise<IngestBenchRow[]> {
-  const databaseUrl = process.env.BENCH_DATABASE_URL
-  if (!databaseUrl) throw new Error('the ingest bench needs BENCH_DATABASE_URL: run it through `npm run bench`')
+  const bench = await startBenchServer()
   const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-ingest-bench-'))
-  const config = {
-    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none', ...(process.env.LOG_LEVEL ? { LOG_LEVEL: process.env.LOG_LEVEL } : {}) }),
-    uploads: { limitBytes: 4 * 1024 ** 3, lazLimitBytes: 512 * 1024 ** 2 },
-  }
-  const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
   const rows: IngestBenchRow[] = []
   try {
-    const origin = { Origin: server.url }
-    const signUp = await fetch(`${server.url}/api/auth/sign-up`, { method: 'POST', headers: { 'content-type': 'application/json', ...origin }, body: JSON.stringify({ email: 'bench@spanmark.example', password: 'bench password 1', name: 'Bench' }) })
-    const cookie = signUp.headers.get('set-cookie')!.split(';')[0]!
-    const headers = { cookie, ...origin }
-    const project = (await (await fetch(`${server.url}/api/projects`, { method: 'POST', headers: { ...headers, 'content-type': 'application/json' }, body: JSON.stringify({ name: 'Bench' }) })).json()) as { project: { id: string } }
     for (const points of sizes) {
       for (const c of CASES) {
         const file = path.join(folder, `bench-${points}.${c.ext}`)
         const bytes = c.write(file, points)
         const label = `${c.label}, ${points / 1e6} M`
         log(`${label}: ${(bytes / 1e6).toFixed(0)} MB, uploading...`)
-        const worker = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], { env: { ...process.env, SPANMARK_WORKER_CONFIG: JSON.stringify(server.workerConfig) }, stdio: ['ignore', process.env.LOG_LEVEL ? 'inherit' : 'ignore', 'inherit'] })
-        await new Promise((r) => setTimeout(r, 2500))
-        const form = new FormData()
-        form.append('file', await fs.openAsBlob(file), path.basename(file))
-        const t0 = performance.now()
-        const res = await fetch(`${server.url}/api/projects/${project.project.id}/scans`, { method: 'POST', headers, body: form })
-        const t1 = performance.now()
-        const { scan } = (await res.json()) as { scan: { id: string } }
-        let status = ''
-        let error: string | null = null
-        while (status !== 'ready' && status !== 'failed') {
-          await new Promise((r) => setTimeout(r, 20))
-          const row = await server.services.db.selectFrom('scans').select(['status', 'error']).where('id', '=', scan.id).executeTakeFirstOrThrow()
-          status = row.status
-          error = row.error
+        const worker = await bench.startWorker()
+        try {
+          const r = await bench.ingest(file)
+          rows.push({ file: label, points, megabytes: bytes / 1e6, uploadSeconds: r.uploadSeconds, readySeconds: r.readySeconds, workerPeakRssMiB: peakRssMiB(worker.pid!) })
+          await fetch(`${bench.url}/api/scans/${r.scanId}`, { method: 'DELETE', headers: bench.headers })
+        } finally {
+          worker.kill('SIGTERM')
+          await new Promise((r) => worker.once('exit', r))
+          fs.rmSync(file, { force: true })
         }
-        const t2 = performance.now()
-        const rss = peakRssMiB(worker.pid!)
-        worker.kill('SIGTERM')
-        await new Promise((r) => worker.once('exit', r))
-        if (status !== 'ready') throw new Error(`${label}: ${error}`)
-        rows.push({ file: label, points, megabytes: bytes / 1e6, uploadSeconds: (t1 - t0) / 1000, readySeconds: (t2 - t1) / 1000, workerPeakRssMiB: rss })
-        fs.rmSync(file, { force: true })
-        await fetch(`${server.url}/api/scans/${scan.id}`, { method: 'DELETE', headers })
       }
     }
   } finally {
-    await server.stop()
+    await bench.stop()
     fs.rmSync(folder, { recursive: true, force: true })
   }
   return rows

@@ -5,14 +5,8 @@
 import fs from 'node:fs'
 import path from 'node:path'
 import { spawnSync } from 'node:child_process'
-import { aptInstall, ensureNodeModules, fail, localBin, log, root } from './lib/system.mjs'
+import { ensureChromium, ensureNodeModules, fail, localBin, log, root } from './lib/system.mjs'
 import { ensurePostgresInstalled, withThrowawayCluster } from './lib/postgres.mjs'
-
-function ensureChromium() {
-  if (fs.existsSync('/usr/bin/chromium')) return
-  log('Chromium is not installed: installing it from Debian packages (for the browser tests)')
-  aptInstall(['chromium'])
-}
 
 async function main() {
   const started = Date.now()

@@ -6,6 +6,9 @@ export const queryKeys = {
   scans: (projectId: string) => ['projects', projectId, 'scans'] as const,
   /** One scan followed on its own while it processes. */
   scan: (scanId: string) => ['scans', scanId] as const,
+  scenes: (projectId: string) => ['projects', projectId, 'scenes'] as const,
+  /** One scene with its placements. */
+  scene: (sceneId: string) => ['scenes', sceneId] as const,
   uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,
   devMail: () => ['dev-mail'] as const,
 }

@@ -7,8 +7,8 @@ declare module 'vue-router' {
     public?: boolean
     /** Only for signed-out people (sign-in, sign-up): signed-in visitors go to /projects. */
     guestOnly?: boolean
-    /** 'auth': the centred card; 'app': top bar and content; 'dev': developer pages. Default: by session. */
-    layout?: 'auth' | 'app' | 'dev'
+    /** 'auth': the centred card; 'app': top bar and content; 'dev': developer pages; 'scene': the full-page viewer. Default: by session. */
+    layout?: 'auth' | 'app' | 'dev' | 'scene'
     title?: string
   }
 }
@@ -51,6 +51,13 @@ const routes: RouteRecordRaw[] = [
     component: () => import('@/views/ProjectView.vue'),
     props: true,
     meta: { layout: 'app', title: 'Project' },
+  },
+  {
+    path: '/projects/:projectId/scenes/:sceneId',
+    name: 'scene',
+    component: () => import('@/views/SceneView.vue'),
+    props: true,
+    meta: { layout: 'scene', title: 'Scene' },
   },
   {
     path: '/account',

@@ -66,3 +66,10 @@ export function startChild(cmd, args, opts = {}) {
 export function localBin(name) {
   return path.join(root, 'node_modules', '.bin', name)
 }
+
+/** Debian's Chromium, for the browser tests and the viewer bench. */
+export function ensureChromium() {
+  if (fs.existsSync('/usr/bin/chromium')) return
+  log('Chromium is not installed: installing it from Debian packages (for the browser tests)')
+  aptInstall(['chromium'])
+}

@@ -1,0 +1,145 @@
+/**
+ * One placement in the viewer. Two groups: `pivot` sits at the centre of the scan's bounds (so the gizmo turns a
+ * placement about its middle, not about a far-away scan origin) with the placement's rotation; `group`, inside
+ * it, shifts by minus that centre. Together they are the placement's matrix relative to the render origin:
+ * pivot × group = [R | M·c − O] × [I | −c] = [R | t − O]. Each drawn node is one THREE.Points in `group`
+ * (the node's centre as its position, its tile's float32 offsets as geometry). Geometries belong to the
+ * TileCache; the material (colour, intensity range) is the placement's own.
+ */
+import * as THREE from 'three'
+import { transformPoint } from '@shared/geometry/rigidTransform'
+import { createPointMaterial, rgbOfHex, type PointMaterial } from './pointMaterial'
+import type { ScanTree } from './ScanTree'
+import type { TileEntry } from './TileCache'
+import type { InstanceSpec, InstanceStatus, Vec3 } from './types'
+
+const _m = new THREE.Matrix4()
+const _s = new THREE.Vector3()
+
+export class ViewInstance {
+  readonly pivot = new THREE.Group()
+  readonly group = new THREE.Group()
+  readonly material: PointMaterial = createPointMaterial()
+  readonly id: string
+  readonly scanId: string
+  tree: ScanTree | null = null
+  status: InstanceStatus = 'loading'
+  message: string | undefined
+  /** Scene frame, column-major, rigid. */
+  matrix: number[]
+  visible: boolean
+  color: string
+  /** The pivot, scan frame: the centre of the scan's bounds once known. */
+  private centre: Vec3 = [0, 0, 0]
+  private drawn = new Map<string, THREE.Points>()
+
+  constructor(spec: InstanceSpec) {
+    this.id = spec.id
+    this.scanId = spec.scanId
+    this.matrix = [...spec.matrix]
+    this.visible = spec.visible
+    this.color = spec.color
+    this.pivot.name = `placement ${spec.id}`
+    this.pivot.visible = false
+    this.pivot.add(this.group)
+    this.applyColor()
+  }
+
+  setTree(tree: ScanTree | null): void {
+    this.tree = tree
+    if (tree) {
+      const { min, max } = tree.bounds
+      this.centre = [(min[0] + max[0]) / 2, (min[1] + max[1]) / 2, (min[2] + max[2]) / 2]
+    }
+  }
+
+  /** The scan's bounds centre in the scene frame. */
+  sceneCentre(): Vec3 {
+    return transformPoint(this.matrix, ...this.centre)
+  }
+
+  /** Places both groups from `matrix` (float64 arithmetic here; the GPU sees only small offsets). */
+  applyMatrix(origin: Vec3): void {
+    const p = this.sceneCentre()
+    _m.fromArray(this.matrix)
+    _m.elements[12] = p[0] - origin[0]
+    _m.elements[13] = p[1] - origin[1]
+    _m.elements[14] = p[2] - origin[2]
+    _m.decompose(this.pivot.position, this.pivot.quaternion, _s)
+    this.pivot.scale.set(1, 1, 1)
+    this.group.position.set(-this.centre[0], -this.centre[1], -this.centre[2])
+    this.pivot.updateMatrixWorld(true)
+  }
+
+  /** The scene-frame matrix the groups hold now (after the gizmo moved the pivot): t = pivot − R·c + O. */
+  matrixFromPivot(origin: Vec3): number[] {
+    this.pivot.updateMatrix()
+    const out = Array.from(this.pivot.matrix.elements)
+    const [cx, cy, cz] = this.centre
+    out[12] = out[12]! - (out[0]! * cx + out[4]! * cy + out[8]! * cz) + origin[0]
+    out[13] = out[13]! - (out[1]! * cx + out[5]! * cy + out[9]! * cz) + origin[1]
+    out[14] = out[14]! - (out[2]! * cx + out[6]! * cy + out[10]! * cz) + origin[2]
+    out[3] = 0
+    out[7] = 0
+    out[11] = 0
+    out[15] = 1
+    return out
+  }
+
+  /** Scan frame to render frame. */
+  worldMatrix(): THREE.Matrix4 {
+    this.pivot.updateMatrixWorld(true)
+    return this.group.matrixWorld
+  }
+
+  applyColor(): void {
+    const [r, g, b] = rgbOfHex(this.color)
+    this.material.uniforms.uPlacementColor.value.set(r, g, b)
+  }
+
+  /** Shows exactly these tiles, creating Points for new ones; returns how many points that draws. */
+  show(entries: readonly TileEntry[]): number {
+    const keep = new Set<string>()
+    let points = 0
+    for (const entry of entries) {
+      keep.add(entry.key)
+      let object = this.drawn.get(entry.key)
+      if (!object || object.geometry !== entry.geometry) {
+        if (object) this.group.remove(object)
+        object = new THREE.Points(entry.geometry, this.material)
+        object.name = entry.nodeKey
+        object.position.set(entry.origin[0], entry.origin[1], entry.origin[2])
+        object.matrixAutoUpdate = false
+        object.updateMatrix()
+        this.group.add(object)
+        this.drawn.set(entry.key, object)
+      }
+      points += entry.count
+    }
+    for (const [key, object] of this.drawn) {
+      if (keep.has(key)) continue
+      this.group.remove(object)
+      this.drawn.delete(key)
+    }
+    return points
+  }
+
+  /** The Points drawn now, by tile key, for picking. */
+  drawnObjects(): IterableIterator<[string, THREE.Points]> {
+    return this.drawn.entries()
+  }
+
+  forget(key: string): void {
+    const object = this.drawn.get(key)
+    if (!object) return
+    this.group.remove(object)
+    this.drawn.delete(key)
+  }
+
+  dispose(): void {
+    for (const object of this.drawn.values()) this.group.remove(object)
+    this.drawn.clear()
+    this.pivot.removeFromParent()
+    this.material.dispose()
+  }
+}
