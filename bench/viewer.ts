@@ -57,20 +57,18 @@ export async function runViewerBench(points: number, log: (l: string) => void = 
     // Let the view stream towards its budget, then time frames.
     await page.waitForFunction(() => (window as unknown as { __spanmark: { viewer: { stats(): ViewerStats } } }).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 120_000 }).catch(() => {})
     const stats = await page.evaluate(() => (window as unknown as { __spanmark: { viewer: { stats(): ViewerStats } } }).__spanmark.viewer.stats())
-    const frameTimes = await page.evaluate(
-      () =>
-        new Promise<number[]>((resolve) => {
-          const times: number[] = []
-          let last = performance.now()
-          const step = (now: number) => {
-            times.push(now - last)
-            last = now
-            if (times.length < 40) requestAnimationFrame(step)
-            else resolve(times)
-          }
-          requestAnimationFrame(step)
-        }),
-    )
+    // Passed as text: tsx's name-keeping helper (__name) does not exist inside the page.
+    const frameTimes = (await page.evaluate(`new Promise((resolve) => {
+      const times = []
+      let last = performance.now()
+      const step = (now) => {
+        times.push(now - last)
+        last = now
+        if (times.length < 40) requestAnimationFrame(step)
+        else resolve(times)
+      }
+      requestAnimationFrame(step)
+    })`)) as number[]
     frameTimes.sort((a, b) => a - b)
     return {
       points,
