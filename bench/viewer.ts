@@ -2,6 +2,7 @@ import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
 import { chromium } from 'playwright-core'
+import type { ViewerStats } from '../app/viewer/types'
 import { startBenchServer } from './lib/benchServer'
 import { writeSyntheticPly } from './lib/syntheticScans'
 
@@ -20,14 +21,6 @@ export interface ViewerBenchRow {
   medianFrameMs: number
 }
 
-interface ViewerStats {
-  pointsDrawn: number
-  pointBudget: number
-  tilesLoaded: number
-  tilesPending: number
-  firstFrameMs: number | null
-  frames: number
-}
 
 export async function runViewerBench(points: number, log: (l: string) => void = () => {}): Promise<ViewerBenchRow> {
   if (!fs.existsSync('dist/index.html')) throw new Error('the viewer bench needs the client build (scripts/bench.mjs builds it)')
