@@ -70,7 +70,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     pending = pending.then(() => updateScan(db, scanId, { progress: Math.min(0.999, progress), stage, heartbeat_at: new Date() }))
   }
   // Seconds per stage, logged with the result: where an ingest spends its time.
-  const timings: Record<string, number> = {}
+  const timings: Record<string, number> = { waited: Math.round(Date.now() - scan.created_at.getTime()) / 1000 }
   let mark = performance.now()
   const lap = (name: string) => {
     const now = performance.now()
