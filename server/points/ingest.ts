@@ -121,13 +121,20 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     const tree = buildOctree(buffer)
     lap('octree')
     let done = 0
-    let batch: { scan_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }[] = []
+    type TileRow = { scan_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }
+    let batch: TileRow[] = []
     let batchBytes = 0
+    // One insert in flight while the next batch is encoded: PostgreSQL stores one while Node encodes the next.
+    let inserting: Promise<unknown> = Promise.resolve()
     const flush = async () => {
+      await inserting
       if (!batch.length) return
-      await db.insertInto('scan_tiles').values(batch).execute()
+      const rows = batch
       batch = []
       batchBytes = 0
+      inserting = db.insertInto('scan_tiles').values(rows).execute()
+      // Awaited at the next flush; marked handled now so a failure while encoding cannot go unhandled.
+      inserting.catch(() => {})
     }
     for (const node of tree.nodes) {
       const bytes = encodeNodeTile(buffer, node)
@@ -141,6 +148,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       }
     }
     await flush()
+    await inserting
     await pending
     lap('tiles')
     const bounds = stats.bounds ?? summary.bounds
