@@ -16,6 +16,7 @@ import { sendIngest, startBoss } from './jobs/queue'
 import { WorkerSupervisor } from './jobs/supervisor'
 import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
+import { MarkerChecker } from './markers/checker'
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'
 import type { Services } from './types'
@@ -64,6 +65,7 @@ export class SpanmarkServer {
       started.push({ close: () => boss.stop({ graceful: false, wait: true }) })
 
       let origin = config.publicUrl ?? ''
+      const scanIndexes = new ScanIndexRegistry(db)
       const services: Services = {
         config,
         db,
@@ -72,7 +74,8 @@ export class SpanmarkServer {
         mailer: new Mailer(db, { host: config.mail.host, port: mailPort }, config.mail.from, log),
         objects,
         boss,
-        scanIndexes: new ScanIndexRegistry(db),
+        scanIndexes,
+        markerChecks: new MarkerChecker(db, scanIndexes, log),
         log,
         publicOrigin: () => origin,
       }
@@ -94,6 +97,8 @@ export class SpanmarkServer {
       services.mailer.start()
       const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig)
       app.startSweeper()
+      const resumed = await services.markerChecks.resumePending()
+      if (resumed) log.info({ markers: resumed }, 'checking markers left pending')
       return app
     } catch (err) {
       for (const s of started.reverse()) await Promise.resolve(s.close()).catch(() => {})
@@ -125,6 +130,7 @@ export class SpanmarkServer {
       setTimeout(() => this.http.closeAllConnections(), 5000).unref()
     })
     await this.worker?.stop()
+    await this.services.markerChecks.idle()
     await this.services.mailer.stop()
     await this.services.boss.stop({ graceful: false, wait: true }).catch(() => {})
     this.services.objects.destroy()

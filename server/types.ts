@@ -7,6 +7,7 @@ import type { Db } from './db'
 import type PgBoss from 'pg-boss'
 import type { Mailer } from './mail/mailer'
 import type { ObjectStore } from './storage/objects'
+import type { MarkerChecker } from './markers/checker'
 
 export type AuthUser = User
 
@@ -31,6 +32,8 @@ export interface Services {
   objects: ObjectStore
   boss: PgBoss
   scanIndexes: ScanIndexes
+  /** Marker checks, latest wins (server/markers/checker.ts). */
+  markerChecks: MarkerChecker
   log: pino.Logger
   /** Origin for links in e-mails: PUBLIC_URL, else the address the server listens on. */
   publicOrigin(): string
@@ -39,5 +42,18 @@ export interface Services {
 /** Nearest-point search over stored scans, with their tile caches (server/points/scanIndexes.ts). */
 export interface ScanIndexes {
   nearest(scanId: string, x: number, y: number, z: number, k: number, maxDistance?: number): Promise<{ x: number; y: number; z: number; distance: number }[]>
+  snap(scanId: string, x: number, y: number, z: number): Promise<SnappedPoint | null>
+  slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number): Promise<Float64Array>
+  allPoints(scanId: string): Promise<Float64Array>
+  clearCaches(): Promise<void>
   forget(scanId: string): void
+}
+
+export interface SnappedPoint {
+  x: number
+  y: number
+  z: number
+  distance: number
+  /** Per-point standard uncertainty, metres (station logs), else null. */
+  uncertainty: number | null
 }

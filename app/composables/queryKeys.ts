@@ -9,6 +9,8 @@ export const queryKeys = {
   scenes: (projectId: string) => ['projects', projectId, 'scenes'] as const,
   /** One scene with its placements. */
   scene: (sceneId: string) => ['scenes', sceneId] as const,
+  /** A scene's markers with their checks. */
+  markers: (sceneId: string) => ['scenes', sceneId, 'markers'] as const,
   uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,
   devMail: () => ['dev-mail'] as const,
 }

@@ -32,6 +32,9 @@ export interface ProjectsTable {
   id: Generated<string>
   name: string
   description: Generated<string>
+  /** Metres; null: max(3 x mean spacing, 5 mm). */
+  anchor_tolerance: number | null
+  required_margin: Generated<number>
   created_by: string | null
   created_at: Timestamp
   updated_at: Timestamp
@@ -154,7 +157,25 @@ export interface SceneInstancesTable {
   updated_at: Timestamp
 }
 
+export interface MarkersTable {
+  id: Generated<string>
+  scene_id: string
+  kind: 'distance' | 'angle' | 'section' | 'clearance'
+  label: string
+  /** JSON: [{instanceId, x, y, z}] in each placement's own frame. */
+  anchors: Json<{ instanceId: string; x: number; y: number; z: number }[]>
+  params: Json<Record<string, unknown>>
+  revision: Generated<number>
+  check_state: Generated<'pending' | 'checked' | 'off-scan' | 'too-few-points' | 'invalid-geometry'>
+  check: Json<Record<string, unknown> | null>
+  created_by: string | null
+  updated_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
 export interface Database {
+  markers: MarkersTable
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
@@ -172,6 +193,7 @@ export interface Database {
 export type UserRow = Selectable<UsersTable>
 export type NewUser = Insertable<UsersTable>
 export type UserUpdate = Updateable<UsersTable>
+export type MarkerRow = Selectable<MarkersTable>
 export type ProjectRow = Selectable<ProjectsTable>
 export type MembershipRow = Selectable<MembershipsTable>
 export type MailRow = Selectable<MailOutboxTable>

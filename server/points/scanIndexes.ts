@@ -3,7 +3,7 @@ import { HttpError } from '../errors'
 import { getTile, listTiles } from '../repositories/scans'
 import { decodeTile } from '@shared/points/tileFormat'
 import { NearestIndex } from './index/nearestIndex'
-import type { ScanIndexes } from '../types'
+import type { ScanIndexes, SnappedPoint } from '../types'
 
 /**
  * One nearest-point index per ready scan, built from its hierarchy on first use and kept while used
@@ -51,7 +51,55 @@ export class ScanIndexRegistry implements ScanIndexes {
     return found.map((p) => ({ x: p.x, y: p.y, z: p.z, distance: p.distance }))
   }
 
+  /** The nearest stored point with its per-point standard uncertainty when the scan has one. */
+  async snap(scanId: string, x: number, y: number, z: number): Promise<SnappedPoint | null> {
+    const index = await this.index(scanId)
+    const [found] = await index.nearest(x, y, z, 1)
+    if (!found) return null
+    return { x: found.x, y: found.y, z: found.z, distance: found.distance, uncertainty: index.uncertaintyOf(found.key, found.index) }
+  }
+
+  /** Stored points within `half` of a plane (scan frame), as x y z triples, float64. */
+  async slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number): Promise<Float64Array> {
+    const out = new GrowableXyz()
+    await (await this.index(scanId)).forEachPointInSlab(origin, normal, half, (x, y, z) => out.push(x, y, z))
+    return out.array()
+  }
+
+  /** Every stored point of the scan (scan frame), x y z triples. */
+  async allPoints(scanId: string): Promise<Float64Array> {
+    const out = new GrowableXyz()
+    await (await this.index(scanId)).forEachPoint((x, y, z) => out.push(x, y, z))
+    return out.array()
+  }
+
+  /** Drops every cached tile (the bench's cold runs). */
+  async clearCaches(): Promise<void> {
+    for (const index of this.indexes.values()) (await index.catch(() => null))?.clearCache()
+  }
+
   forget(scanId: string): void {
     this.indexes.delete(scanId)
+  }
+}
+
+/** An x y z list that doubles its float64 store as it grows. */
+class GrowableXyz {
+  private data = new Float64Array(3 * 4096)
+  private length = 0
+
+  push(x: number, y: number, z: number): void {
+    if (this.length + 3 > this.data.length) {
+      const next = new Float64Array(this.data.length * 2)
+      next.set(this.data)
+      this.data = next
+    }
+    this.data[this.length++] = x
+    this.data[this.length++] = y
+    this.data[this.length++] = z
+  }
+
+  array(): Float64Array {
+    return this.data.slice(0, this.length)
   }
 }

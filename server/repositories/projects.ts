@@ -8,6 +8,8 @@ const projectWithRole = (db: Conn) =>
       'p.id',
       'p.name',
       'p.description',
+      'p.anchor_tolerance',
+      'p.required_margin',
       'p.created_at',
       'p.updated_at',
       'm.role',
@@ -32,10 +34,20 @@ export function insertProject(db: Conn, values: { name: string; description: str
     .executeTakeFirstOrThrow()
 }
 
-export function updateProject(db: Conn, projectId: string, values: { name?: string; description?: string }) {
+export function updateProject(
+  db: Conn,
+  projectId: string,
+  values: { name?: string; description?: string; anchorTolerance?: number | null; requiredMargin?: number },
+) {
+  const { anchorTolerance, requiredMargin, ...rest } = values
   return db
     .updateTable('projects')
-    .set({ ...values, updated_at: new Date() })
+    .set({
+      ...rest,
+      ...(anchorTolerance !== undefined ? { anchor_tolerance: anchorTolerance } : {}),
+      ...(requiredMargin !== undefined ? { required_margin: requiredMargin } : {}),
+      updated_at: new Date(),
+    })
     .where('id', '=', projectId)
     .execute()
 }
@@ -47,4 +59,9 @@ export function deleteProject(db: Conn, projectId: string) {
 /** Row lock that serialises membership changes of one project (the last-owner rule). */
 export function lockProject(db: Conn, projectId: string) {
   return db.selectFrom('projects').select('id').where('id', '=', projectId).forUpdate().executeTakeFirst()
+}
+
+/** The marker settings of a project (tolerance null: the default rule). */
+export function findMarkerSettings(db: Conn, projectId: string) {
+  return db.selectFrom('projects').select(['anchor_tolerance', 'required_margin']).where('id', '=', projectId).executeTakeFirst()
 }

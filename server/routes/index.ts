@@ -1,4 +1,5 @@
 import { authRoutes } from './auth'
+import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
 import { scanRoutes } from './scans'
@@ -6,4 +7,4 @@ import { sceneRoutes } from './scenes'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes]

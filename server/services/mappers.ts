@@ -1,10 +1,13 @@
-import type { Instance, Member, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
+import type { Instance, Marker, Member, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
 import type { AuthUser } from '../types'
 import type { UserRow } from '../db/schema'
 import type { MemberRow } from '../repositories/memberships'
 import type { ProjectWithRoleRow } from '../repositories/projects'
 import type { ScanWithUploaderRow } from '../repositories/scans'
 import type { InstanceRow, SceneRow } from '../repositories/scenes'
+import type { MarkerWithPeopleRow, StoredAnchor } from '../repositories/markers'
+import { transformPoint } from '@shared/geometry/rigidTransform'
+import { Check } from '@shared/schemas'
 import type { UploadTokenWithCreatorRow } from '../repositories/uploadTokens'
 
 /** Database rows (snake_case) to API objects (camelCase): the only place the two spellings meet. */
@@ -20,6 +23,7 @@ export function toProject(row: ProjectWithRoleRow): Project {
     description: row.description,
     role: row.role,
     memberCount: Number(row.member_count ?? 0),
+    markerSettings: { anchorTolerance: row.anchor_tolerance, requiredMargin: row.required_margin },
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
   }
@@ -97,4 +101,53 @@ export function toInstance(row: InstanceRow): Instance {
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
   }
+}
+
+/** Anchors go out in the scene frame, with each placement's current transform; a removed placement's stay as stored. */
+export function toMarker(row: MarkerWithPeopleRow, placements: ReadonlyMap<string, number[]>): Marker {
+  const anchors = (row.anchors as StoredAnchor[]).map((a) => {
+    const m = placements.get(a.instanceId)
+    if (!m) return { ...a }
+    const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
+  return {
+    id: row.id,
+    sceneId: row.scene_id,
+    kind: row.kind,
+    label: row.label,
+    anchors,
+    params: row.params as Record<string, unknown>,
+    revision: row.revision,
+    check: parseStoredCheck(row.check, row.check_state, row.revision),
+    createdBy: row.created_by && row.created_by_name ? { id: row.created_by, name: row.created_by_name } : null,
+    updatedBy: row.updated_by && row.updated_by_name ? { id: row.updated_by, name: row.updated_by_name } : null,
+    createdAt: row.created_at.toISOString(),
+    updatedAt: row.updated_at.toISOString(),
+  }
+}
+
+/** A stored check as the API shows it; a marker never checked yet gets a pending check. */
+export function parseStoredCheck(stored: unknown, state: string, revision: number): Check {
+  const parsed = Check.safeParse(stored)
+  if (parsed.success && parsed.data.basedOn === revision && state !== 'pending') return parsed.data
+  const pending: Check = {
+    state: 'pending',
+    reason: null,
+    value: null,
+    unit: null,
+    standardUncertainty: null,
+    expandedUncertainty: null,
+    coverageFactor: 2,
+    parts: [],
+    anchors: [],
+    distance: null,
+    angle: null,
+    section: null,
+    clearance: null,
+    checkedAt: null,
+    basedOn: revision,
+  }
+  // While a re-check runs, the last result is kept for reading, marked pending.
+  return parsed.success ? { ...parsed.data, state: 'pending', basedOn: parsed.data.basedOn } : pending
 }

@@ -7,6 +7,7 @@ import { deleteProject, findProjectForUser, insertProject, listProjectsForUser, 
 import { findUserByEmail } from '../repositories/users'
 import type { Services } from '../types'
 import { toMember, toProject } from './mappers'
+import { settingsChanged } from './markers'
 
 export async function listProjects(s: Services, userId: string): Promise<Project[]> {
   return (await listProjectsForUser(s.db, userId)).map(toProject)
@@ -29,6 +30,7 @@ export async function createProject(s: Services, userId: string, body: ProjectCr
 
 export async function renameProject(s: Services, projectId: string, userId: string, body: ProjectUpdateBody): Promise<Project> {
   await updateProject(s.db, projectId, body)
+  if (body.anchorTolerance !== undefined || body.requiredMargin !== undefined) await settingsChanged(s, projectId)
   return getProject(s.db, projectId, userId)
 }
 

@@ -6,6 +6,7 @@ import { findScan } from '../repositories/scans'
 import * as repo from '../repositories/scenes'
 import type { Services } from '../types'
 import { toInstance, toSceneSummary } from './mappers'
+import { placementChanged } from './markers'
 
 /** Display colours for placements, in turn: Spanmark's own, distinct from the marker colours. */
 export const PLACEMENT_COLOURS = ['#E3B65C', '#7FA8CC', '#B68FD0', '#8DC48B', '#DC8F6E', '#CFC77C', '#6FC1B8', '#D98FB3']
@@ -56,11 +57,16 @@ export async function editInstance(s: Services, instanceId: string, body: Instan
   const row = await repo.findInstance(s.db, instanceId)
   if (!row) throw HttpError.notFound('No such placement.')
   await repo.touchScene(s.db, row.scene_id)
+  // Visibility and colour change nothing measured; a new transform moves the markers with it.
+  if (body.matrix !== undefined) await placementChanged(s, row.scene_id, instanceId)
   return toInstance(row)
 }
 
 export async function removeInstance(s: Services, instanceId: string): Promise<void> {
   const row = await repo.findInstance(s.db, instanceId)
   await repo.deleteInstance(s.db, instanceId)
-  if (row) await repo.touchScene(s.db, row.scene_id)
+  if (row) {
+    await repo.touchScene(s.db, row.scene_id)
+    await placementChanged(s, row.scene_id, instanceId)
+  }
 }

@@ -201,11 +201,10 @@ export function fitThrough(
     if (d2 < nearD2) (nearD2 = d2), (near = p)
   }
 
-  const r = opening.radius, s2 = opening.spacing / 2
+  const r = opening.radius
   const margin = best + r
   const U = expandedUncertainty
-  const outcome: FitOutcome =
-    margin - U >= requiredMargin ? 'passes' : margin + U < requiredMargin ? 'does-not-pass' : 'too-close-to-call'
+  const outcome = decideFit(margin, U, requiredMargin)
   return {
     ok: true,
     rotationDegrees: rot >= 360 - 1e-9 ? 0 : rot,
@@ -222,6 +221,18 @@ export function fitThrough(
     },
     placed,
     rotationsTried: tried,
-    resolution: cell / 2 + Math.SQRT2 * cell + (s2 < r ? r - Math.sqrt(r * r - s2 * s2) : r),
+    resolution: fitResolution(opening),
   }
+}
+
+/** The guard-band rule of DOMAIN section 2 (JCGM 106:2012): margin m, expanded uncertainty U, required r. */
+export function decideFit(margin: number, expandedUncertainty: number, requiredMargin: number): FitOutcome {
+  const U = expandedUncertainty
+  return margin - U >= requiredMargin ? 'passes' : margin + U < requiredMargin ? 'does-not-pass' : 'too-close-to-call'
+}
+
+/** Grid part of a fit's margin resolution on this opening, metres (see the header). */
+export function fitResolution(opening: FreeOpening): number {
+  const cell = opening.grid.cell, r = opening.radius, s2 = opening.spacing / 2
+  return cell / 2 + Math.SQRT2 * cell + (s2 < r ? r - Math.sqrt(r * r - s2 * s2) : r)
 }

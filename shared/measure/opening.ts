@@ -19,8 +19,10 @@ import { minimumWidth } from './calipers'
  *    a blocked cell gives 'seed-on-points'.
  * 4. From the filled region: its cells, outline (concave outline of the region's boundary-cell corners,
  *    polygon.ts), area (cells x cell^2), extents (cell edges), clear width (the smallest longest-run
- *    horizontal extent over the rows between the region's lowest and highest rows, a band of `bandCells`
- *    rows left off at top and bottom: for a doorway, the narrowest gap between the jambs), clear height (the
+ *    horizontal extent over the rows of the middle half of the region's height, at least `bandCells` rows
+ *    off the top and bottom: for a doorway, the narrowest gap between the jambs; under an arched head the
+ *    rows of the top quarter narrow towards the crown and are left out, and so is a narrowing in the
+ *    lowest quarter, which the outline still shows), clear height (the
  *    smallest longest-run vertical extent over the columns of the middle half of the region), centre height
  *    (the vertical extent of the middle column: for an arched head, the crown), and the minimum width of
  *    the region's convex hull (rotating calipers, calipers.ts).
@@ -192,8 +194,10 @@ export function freeOpening(
     }
   }
 
-  // Clear width: rows jLo + band .. jHi - band (all rows when the region is too low for the band).
-  let rowA = jLo + band, rowB = jHi - band
+  // Clear width: rows of the middle half (like the clear height's columns), so an arched or sloping head does
+  // not make the narrowest row the one under the crown; all rows when the region is too low for that.
+  const rowQuarter = Math.floor((jHi - jLo + 1) / 4)
+  let rowA = Math.max(jLo + band, jLo + rowQuarter), rowB = Math.min(jHi - band, jHi - rowQuarter)
   if (rowA > rowB) (rowA = jLo), (rowB = jHi)
   let widthCells = Infinity, widthRow = rowA
   for (let j = rowA; j <= rowB; j++) {

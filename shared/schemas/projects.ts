@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { ROLES } from '../auth/roles'
 import { Email, Id, Timestamp } from './common'
+import { MARGIN_LIMITS, MarkerSettings, TOLERANCE_LIMITS } from './markers'
 
 export const RoleSchema = z.enum(ROLES, { error: `must be one of ${ROLES.join(', ')}` })
 
@@ -14,10 +15,20 @@ const ProjectDescription = z.string({ error: 'must be text' }).trim().max(2000, 
 export const ProjectCreateBody = z.object({ name: ProjectName, description: ProjectDescription.default('') })
 export type ProjectCreateBody = z.infer<typeof ProjectCreateBody>
 
+const AnchorTolerance = z
+  .number({ error: 'must be a number (metres) or null for the default' })
+  .min(TOLERANCE_LIMITS.min, { error: `must be at least ${TOLERANCE_LIMITS.min} m` })
+  .max(TOLERANCE_LIMITS.max, { error: `must be at most ${TOLERANCE_LIMITS.max} m` })
+  .nullable()
+const RequiredMargin = z
+  .number({ error: 'must be a number (metres)' })
+  .min(MARGIN_LIMITS.min, { error: 'must not be negative' })
+  .max(MARGIN_LIMITS.max, { error: `must be at most ${MARGIN_LIMITS.max} m` })
+
 export const ProjectUpdateBody = z
-  .object({ name: ProjectName, description: ProjectDescription })
+  .object({ name: ProjectName, description: ProjectDescription, anchorTolerance: AnchorTolerance, requiredMargin: RequiredMargin })
   .partial()
-  .refine((v) => v.name !== undefined || v.description !== undefined, { error: 'give a name or a description to change' })
+  .refine((v) => Object.values(v).some((x) => x !== undefined), { error: 'give a name, description, anchor tolerance or required margin to change' })
 export type ProjectUpdateBody = z.infer<typeof ProjectUpdateBody>
 
 export const ProjectParams = z.object({ projectId: Id })
@@ -29,6 +40,7 @@ export const Project = z.object({
   description: z.string(),
   role: RoleSchema,
   memberCount: z.number().int(),
+  markerSettings: MarkerSettings,
   createdAt: Timestamp,
   updatedAt: Timestamp,
 })

@@ -28,6 +28,7 @@ interface Fixture {
   secret: string
   sceneId: string
   instanceId: string
+  markerId: string
 }
 
 /**
@@ -47,10 +48,15 @@ async function freshProject(): Promise<Fixture> {
   await t.server.services.db.updateTable('scans').set({ status: 'ready' }).where('id', '=', placed.body.scan.id).execute()
   const scene = await people.owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Matrix scene' }).expect(201)
   const instance = await people.owner.agent.post(`/api/scenes/${scene.body.scene.id}/instances`).send({ scanId: placed.body.scan.id }).expect(201)
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId: instance.body.instance.id }
+  const instanceId = instance.body.instance.id as string
+  const marker = await people.owner.agent
+    .post(`/api/scenes/${scene.body.scene.id}/markers`)
+    .send({ kind: 'distance', anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 1, y: 0, z: 0 }] })
+    .expect(201)
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004' }
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005' }
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -66,6 +72,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.sceneId
       case 'instanceId':
         return f.instanceId
+      case 'markerId':
+        return f.markerId
       case 'nodeKey':
         return 'r'
       case 'userId':

@@ -107,6 +107,12 @@ export class NearestIndex {
     return { tiles: c.size, bytes: c.bytes, hits: c.hits, misses: c.misses, evictions: c.evictions }
   }
 
+  /** The per-point standard uncertainty of a point found by `nearest`, when its tile is cached and has them. */
+  uncertaintyOf(key: string, index: number): number | null {
+    const value = this.cache.get(key)?.tile.uncertainties?.[index]
+    return value === undefined ? null : value
+  }
+
   clearCache(): void {
     this.cache.clear()
   }
@@ -162,6 +168,60 @@ export class NearestIndex {
         visit(ox + p[3 * i]!, oy + p[3 * i + 1]!, oz + p[3 * i + 2]!, loaded, i)
       })
       for (const child of this.children[id]!) stack.push(child)
+    }
+    return visited
+  }
+
+  /**
+   * Calls `visit` for every stored point whose distance to the plane through `origin` with unit normal `n`
+   * is at most `half` (a slab of thickness 2 half), and returns how many there were. Nodes whose box lies
+   * wholly outside the slab are skipped (the box's projection on n is its centre's distance plus or minus
+   * the half-extents dotted with |n|).
+   */
+  async forEachPointInSlab(origin: readonly number[], n: readonly number[], half: number, visit: BoxVisitor): Promise<number> {
+    if (this.root < 0) return 0
+    const [ox, oy, oz] = origin as [number, number, number]
+    const [nx, ny, nz] = n as [number, number, number]
+    let visited = 0
+    const stack = [this.root]
+    const b = this.boxes
+    while (stack.length > 0) {
+      const id = stack.pop()!
+      const o = id * 6
+      const cx = (b[o]! + b[o + 3]!) / 2, cy = (b[o + 1]! + b[o + 4]!) / 2, cz = (b[o + 2]! + b[o + 5]!) / 2
+      const reach = (Math.abs(nx) * (b[o + 3]! - b[o]!) + Math.abs(ny) * (b[o + 4]! - b[o + 1]!) + Math.abs(nz) * (b[o + 5]! - b[o + 2]!)) / 2
+      if (Math.abs(nx * (cx - ox) + ny * (cy - oy) + nz * (cz - oz)) > half + reach) continue
+      if (this.counts[id]! > 0) {
+        const loaded = this.cached(id) ?? (await this.load(id))
+        const p = loaded.tile.positions
+        const [tx, ty, tz] = loaded.tile.origin
+        const count = loaded.tile.count
+        for (let i = 0; i < count; i++) {
+          const x = tx + p[3 * i]!, y = ty + p[3 * i + 1]!, z = tz + p[3 * i + 2]!
+          if (Math.abs(nx * (x - ox) + ny * (y - oy) + nz * (z - oz)) <= half) {
+            visited++
+            visit(x, y, z, loaded, i)
+          }
+        }
+      }
+      for (const child of this.children[id]!) stack.push(child)
+    }
+    return visited
+  }
+
+  /** Calls `visit` for every stored point, node by node; returns the count. */
+  async forEachPoint(visit: BoxVisitor): Promise<number> {
+    if (this.root < 0) return 0
+    let visited = 0
+    for (let id = 0; id < this.keys.length; id++) {
+      if (this.counts[id] === 0) continue
+      const loaded = this.cached(id) ?? (await this.load(id))
+      const p = loaded.tile.positions
+      const [tx, ty, tz] = loaded.tile.origin
+      for (let i = 0; i < loaded.tile.count; i++) {
+        visited++
+        visit(tx + p[3 * i]!, ty + p[3 * i + 1]!, tz + p[3 * i + 2]!, loaded, i)
+      }
     }
     return visited
   }

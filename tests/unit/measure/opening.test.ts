@@ -37,9 +37,12 @@ describe('free opening', () => {
     if (!o.ok) return
     const tol = o.resolution + 2 * noise
     expect(Math.abs(o.centreHeightCorrected - (s + R))).toBeLessThanOrEqual(tol)
-    // Documented limit: under an arched head the narrowest row is the one next to the crown band.
-    expect(o.clearWidthAtV).toBeGreaterThan(s + R - r - 0.05)
-    expect(o.clearWidth).toBeLessThan(0.5)
+    // Clear width: the narrowest row of the middle half is its top one, a quarter of the shrunk height
+    // (s + R - 2r) below the shrunk crown, where the shrunk head is 2 sqrt((R - r)^2 - (v - s)^2) wide (derived).
+    const vTop = r + 0.75 * (s + R - 2 * r)
+    const atTop = 2 * Math.sqrt((R - r) ** 2 - (vTop - s) ** 2) + 2 * r
+    expect(Math.abs(o.clearWidthCorrected - atTop)).toBeLessThanOrEqual(tol + 2 * o.grid.cell)
+    expect(o.clearWidthCorrected).toBeLessThan(2 * R)
       // Middle-half columns: the lowest is at a quarter of the shrunk width, x = (R - r) / 2, where the shrunk
       // head is at s + sqrt((R - r)^2 - x^2) = s + (R - r) sqrt(3) / 2; the floor side is at r (derived).
     const expected = s + ((R - r) * Math.sqrt(3)) / 2 - r + 2 * r

@@ -1,0 +1,526 @@
+import type { CheckState } from '@shared/collab/states'
+import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import { measureAngle } from '@shared/measure/angle'
+import { decideFit, fitResolution, fitThrough } from '@shared/measure/clearance'
+import { measureDistance } from '@shared/measure/distance'
+import { freeOpening, type FreeOpening } from '@shared/measure/opening'
+import { concaveOutline, polygonArea } from '@shared/measure/polygon'
+import { planeFrame, type SlabFrame } from '@shared/measure/slab'
+import { anchorBudget, combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from '@shared/measure/uncertainty'
+import {
+  ClearanceParams,
+  SectionParams,
+  TOLERANCE_LIMITS,
+  type Check,
+  type CheckedAnchor,
+  type CheckPart,
+  type ClearanceResult,
+  type MarkerKind,
+  type SectionResult,
+  type Vec3,
+} from '@shared/schemas'
+import type { StoredAnchor } from '../repositories/markers'
+import type { ScanIndexes } from '../types'
+
+/**
+ * The authoritative check of one marker against the stored points (DESIGN sections 4 and 6; issue "markers
+ * checked against the points"). Pure in its inputs: the marker, the scene's placements and scans, the
+ * project's settings and a point source. The value is computed from the snapped anchors.
+ */
+
+export interface CheckPlacement {
+  matrix: number[]
+  scanId: string
+  /** Registration RMS of the placement, metres (0 until stations are aligned). */
+  registrationRms: number
+}
+
+export interface CheckScan {
+  name: string
+  status: string
+  spacing: number | null
+  /** One value per scan (entered, else estimated), metres; per-point values come from the tiles. */
+  pointUncertainty: number | null
+}
+
+export interface CheckInput {
+  kind: MarkerKind
+  anchors: StoredAnchor[]
+  params: Record<string, unknown>
+  revision: number
+}
+
+export interface CheckContext {
+  placements: ReadonlyMap<string, CheckPlacement>
+  scans: ReadonlyMap<string, CheckScan>
+  settings: { anchorTolerance: number | null; requiredMargin: number }
+  points: Pick<ScanIndexes, 'snap' | 'slab' | 'allPoints'>
+  /** Another marker of the scene (a clearance's section). */
+  marker(id: string): Promise<CheckInput | undefined>
+  /** Stops work early when a newer revision made this check moot (latest wins). */
+  cancelled?: () => boolean
+}
+
+/** Fewer slab points than this give too-few-points (common practice, no source: below it no outline is meaningful). */
+export const SECTION_MIN_POINTS = 20
+/** Figure sample size of a section's points. */
+const SAMPLE_POINTS = 3000
+/** A direction of travel closer than this cosine to the opening's plane is refused. */
+const GRAZING_COS = 0.1
+
+export const CLEARANCE_ASSUMPTIONS = [
+  'The object passes straight along the direction of travel, without turning on the way.',
+  'The opening is thin: its free outline in this one section holds along the whole passage.',
+  'The object is its silhouette along the direction of travel (its convex hull), as scanned.',
+  'Islands of points inside the opening smaller than the object are not looked for.',
+]
+
+class Stop extends Error {
+  constructor(
+    readonly state: CheckState,
+    message: string,
+  ) {
+    super(message)
+  }
+}
+
+interface Snapped {
+  checked: CheckedAnchor
+  /** Snapped (or picked, if no point) scene-frame position. */
+  at: Vec3
+  u: number
+  parts: UncertaintyPart[]
+}
+
+export function toleranceFor(settings: CheckContext['settings'], spacing: number | null): number {
+  if (settings.anchorTolerance !== null) return settings.anchorTolerance
+  return Math.max(TOLERANCE_LIMITS.spacingFactor * (spacing ?? 0), TOLERANCE_LIMITS.floor)
+}
+
+function placementOf(ctx: CheckContext, instanceId: string, what: string): { placement: CheckPlacement; scan: CheckScan } {
+  const placement = ctx.placements.get(instanceId)
+  if (!placement) throw new Stop('invalid-geometry', `${what}: its placement is no longer in the scene.`)
+  const scan = ctx.scans.get(placement.scanId)
+  if (!scan || scan.status !== 'ready') throw new Stop('invalid-geometry', `${what}: its scan is not ready.`)
+  return { placement, scan }
+}
+
+async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index: number): Promise<Snapped> {
+  const name = `anchor ${index + 1}`
+  const { placement, scan } = placementOf(ctx, anchor.instanceId, name)
+  const picked = transformPoint(placement.matrix, anchor.x, anchor.y, anchor.z)
+  const tolerance = toleranceFor(ctx.settings, scan.spacing)
+  const found = await ctx.points.snap(placement.scanId, anchor.x, anchor.y, anchor.z)
+  if (!found) throw new Stop('invalid-geometry', `${name}: the scan has no stored points.`)
+  const snapped = transformPoint(placement.matrix, found.x, found.y, found.z)
+  const budget = anchorBudget({
+    point: found.uncertainty ?? scan.pointUncertainty ?? 0,
+    spacing: scan.spacing ?? 0,
+    registrationRms: placement.registrationRms,
+  })
+  if (!budget.ok) throw new Stop('invalid-geometry', `${name}: its uncertainty budget is not defined (${budget.reason}).`)
+  return {
+    checked: {
+      instanceId: anchor.instanceId,
+      picked,
+      snapped,
+      residual: found.distance,
+      tolerance,
+      onScan: found.distance <= tolerance,
+      u: budget.total,
+      parts: budget.parts,
+    },
+    at: snapped,
+    u: budget.total,
+    parts: budget.parts,
+  }
+}
+
+function emptyCheck(revision: number, state: CheckState, reason: string | null, anchors: CheckedAnchor[] = []): Check {
+  return {
+    state,
+    reason,
+    value: null,
+    unit: null,
+    standardUncertainty: null,
+    expandedUncertainty: null,
+    coverageFactor: COVERAGE_FACTOR,
+    parts: [],
+    anchors,
+    distance: null,
+    angle: null,
+    section: null,
+    clearance: null,
+    checkedAt: new Date().toISOString(),
+    basedOn: revision,
+  }
+}
+
+const letter = (i: number) => String.fromCharCode(65 + i)
+
+function offScanReason(anchors: CheckedAnchor[]): string | null {
+  const off = anchors
+    .map((a, i) => ({ a, i }))
+    .filter(({ a }) => !a.onScan)
+    .map(({ a, i }) => `anchor ${letter(i)} is ${(a.residual! * 1000).toFixed(1)} mm from the nearest stored point (tolerance ${(a.tolerance * 1000).toFixed(1)} mm)`)
+  return off.length ? `${off.join('; ')}.` : null
+}
+
+/** Runs the check; never throws for a degenerate marker (that is a state), only for I/O faults. */
+export async function checkMarker(input: CheckInput, ctx: CheckContext): Promise<Check> {
+  const snapped: Snapped[] = []
+  try {
+    for (let i = 0; i < input.anchors.length; i++) snapped.push(await snapAnchor(ctx, input.anchors[i]!, i))
+    const anchors = snapped.map((s) => s.checked)
+    const offReason = offScanReason(anchors)
+    // An off-scan anchor still gets its value computed (from the snapped points), flagged by the state.
+    const base = emptyCheck(input.revision, offReason ? 'off-scan' : 'checked', offReason, anchors)
+    switch (input.kind) {
+      case 'distance':
+        return distanceCheck(base, snapped)
+      case 'angle':
+        return angleCheck(base, snapped)
+      case 'section': {
+        const section = await computeSection(input, snapped, ctx)
+        return sectionCheck(base, section)
+      }
+      case 'clearance':
+        return await clearanceCheck(base, input, ctx)
+    }
+  } catch (error) {
+    if (error instanceof Stop) return emptyCheck(input.revision, error.state, error.message, snapped.map((s) => s.checked))
+    throw error
+  }
+}
+
+function partsOf(snapped: Snapped[], scale: (i: number) => number): CheckPart[] {
+  return snapped.flatMap((s, i) => s.parts.map((p) => ({ name: `${letter(i)} ${p.name}`, u: p.u * scale(i) })))
+}
+
+function distanceCheck(base: Check, s: Snapped[]): Check {
+  const d = measureDistance(s[0]!.at, s[1]!.at, s[0]!.u, s[1]!.u)
+  if (!d.ok) {
+    const why = d.reason === 'zero-length' ? 'the two anchors snap to the same point: a zero length.' : `the distance is not defined (${d.reason}).`
+    return { ...base, state: 'invalid-geometry', reason: why }
+  }
+  return {
+    ...base,
+    value: d.distance,
+    unit: 'm',
+    standardUncertainty: d.u.distance,
+    expandedUncertainty: COVERAGE_FACTOR * d.u.distance,
+    parts: partsOf(s, () => 1),
+    distance: { dx: d.dx, dy: d.dy, dz: d.dz, horizontal: d.horizontal, vertical: d.vertical, uHorizontal: d.u.horizontal, uVertical: d.u.vertical },
+  }
+}
+
+function angleCheck(base: Check, s: Snapped[]): Check {
+  const g = measureAngle(s[0]!.at, s[1]!.at, s[2]!.at, s[0]!.u, s[1]!.u, s[2]!.u)
+  if (!g.ok) {
+    const why = g.reason === 'coincident' ? 'an arm has zero length: the vertex snaps to the same point as an arm.' : `the angle is not defined (${g.reason}).`
+    return { ...base, state: 'invalid-geometry', reason: why }
+  }
+  const deg = 180 / Math.PI
+  // Sensitivities (DOMAIN section 2, angle.ts): arm ends 1/a and 1/c, the vertex b/(a c), radians per metre.
+  const scale = (i: number) => deg * (i === 0 ? 1 / g.a : i === 2 ? 1 / g.c : g.b / (g.a * g.c))
+  return {
+    ...base,
+    value: g.degrees,
+    unit: 'deg',
+    standardUncertainty: g.u.degrees,
+    expandedUncertainty: COVERAGE_FACTOR * g.u.degrees,
+    parts: partsOf(s, scale),
+    angle: { nearBound: g.nearBound },
+    reason: base.reason ?? (g.nearBound ? 'The angle is near 0 or 180 degrees, where the first-order uncertainty is only approximate.' : null),
+  }
+}
+
+interface SectionComputation {
+  frame: SlabFrame
+  thickness: number
+  xyz: Float64Array
+  uv: Float64Array
+  spacing: number
+  pointUncertainty: number
+  registrationRms: number
+  seedUv: [number, number] | null
+  wantOpening: boolean
+}
+
+function sub(a: Vec3, b: Vec3): Vec3 {
+  return [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
+}
+
+/** The slab's plane in the scene frame, from the anchors or the numbers. */
+function sectionPlane(params: SectionParams, s: Snapped[]): { origin: Vec3; normal: Vec3 } {
+  if (params.plane === 'numbers') return { origin: params.origin!, normal: params.normal! }
+  if (params.plane === 'two-points') {
+    const [a, b] = [s[0]!.at, s[1]!.at]
+    const d = sub(b, a)
+    const h = Math.hypot(d[0], d[1])
+    if (h < 1e-6) throw new Stop('invalid-geometry', 'the two points are one above the other: no vertical plane is defined through them.')
+    return { origin: [(a[0] + b[0]) / 2, (a[1] + b[1]) / 2, (a[2] + b[2]) / 2], normal: [-d[1] / h, d[0] / h, 0] }
+  }
+  const [a, b, c] = [s[0]!.at, s[1]!.at, s[2]!.at]
+  const ab = sub(b, a), ac = sub(c, a)
+  const n: Vec3 = [ab[1] * ac[2] - ab[2] * ac[1], ab[2] * ac[0] - ab[0] * ac[2], ab[0] * ac[1] - ab[1] * ac[0]]
+  const len = Math.hypot(...n)
+  // Collinear within the anchors' own tolerance: the third point's distance from the line through the
+  // first two (or the longer pair) is what fixes the plane's turn about that line.
+  const base = Math.max(Math.hypot(...ab), Math.hypot(...ac), 1e-12)
+  const offLine = len / base
+  const tolerance = Math.max(...s.map((x) => x.checked.tolerance))
+  if (!(offLine > tolerance)) {
+    throw new Stop('invalid-geometry', `the three points are collinear: the third lies ${(offLine * 1000).toFixed(1)} mm from the line through the others (at most the tolerance ${(tolerance * 1000).toFixed(1)} mm), so no plane is defined.`)
+  }
+  return { origin: [(a[0] + b[0] + c[0]) / 3, (a[1] + b[1] + c[1]) / 3, (a[2] + b[2] + c[2]) / 3], normal: [n[0] / len, n[1] / len, n[2] / len] }
+}
+
+async function computeSection(input: CheckInput, s: Snapped[], ctx: CheckContext): Promise<SectionComputation> {
+  const parsed = SectionParams.safeParse(input.params)
+  if (!parsed.success) throw new Stop('invalid-geometry', `the section's params are not valid: ${parsed.error.issues[0]?.message}`)
+  const params = parsed.data
+  const { origin, normal } = sectionPlane(params, s)
+  const frame = planeFrame(origin, normal)
+  if (!frame) throw new Stop('invalid-geometry', 'the plane normal is zero.')
+  const ids = params.instanceIds ?? [...new Set(input.anchors.map((a) => a.instanceId))]
+  const chunks: Float64Array[] = []
+  let spacing = 0, pointU = 0, rms = 0
+  for (const id of ids) {
+    const { placement, scan } = placementOf(ctx, id, 'a placement the section cuts')
+    const inv = invertRigid(placement.matrix)
+    const o = transformPoint(inv, origin[0], origin[1], origin[2])
+    const r = inv
+    const n = [r[0]! * frame.n[0] + r[4]! * frame.n[1] + r[8]! * frame.n[2], r[1]! * frame.n[0] + r[5]! * frame.n[1] + r[9]! * frame.n[2], r[2]! * frame.n[0] + r[6]! * frame.n[1] + r[10]! * frame.n[2]]
+    const local = await ctx.points.slab(placement.scanId, o, n, params.thickness / 2)
+    if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
+    const m = placement.matrix
+    for (let i = 0; i < local.length; i += 3) {
+      const [x, y, z] = transformPoint(m, local[i]!, local[i + 1]!, local[i + 2]!)
+      local[i] = x
+      local[i + 1] = y
+      local[i + 2] = z
+    }
+    chunks.push(local)
+    spacing = Math.max(spacing, scan.spacing ?? 0)
+    pointU = Math.max(pointU, scan.pointUncertainty ?? 0)
+    rms = Math.max(rms, placement.registrationRms)
+  }
+  const total = chunks.reduce((n, c) => n + c.length, 0)
+  const xyz = new Float64Array(total)
+  let at = 0
+  for (const c of chunks) xyz.set(c, at), (at += c.length)
+  const count = total / 3
+  if (count === 0) throw new Stop('invalid-geometry', `the slab (${(params.thickness * 1000).toFixed(0)} mm thick) holds no stored points: it cuts nothing.`)
+  if (count < SECTION_MIN_POINTS) throw new Stop('too-few-points', `the slab holds only ${count} stored points (at least ${SECTION_MIN_POINTS} are needed).`)
+  if (!(spacing > 0)) throw new Stop('invalid-geometry', 'the scans cut have no known point spacing.')
+  const uv = new Float64Array(2 * count)
+  const [ox, oy, oz] = frame.origin
+  for (let i = 0; i < count; i++) {
+    const dx = xyz[3 * i]! - ox, dy = xyz[3 * i + 1]! - oy, dz = xyz[3 * i + 2]! - oz
+    uv[2 * i] = frame.u[0] * dx + frame.u[1] * dy + frame.u[2] * dz
+    uv[2 * i + 1] = frame.v[0] * dx + frame.v[1] * dy + frame.v[2] * dz
+  }
+  let seedUv: [number, number] | null = null
+  const seed = params.seed ?? (s.length ? s.reduce<Vec3>((c, a) => [c[0] + a.at[0] / s.length, c[1] + a.at[1] / s.length, c[2] + a.at[2] / s.length], [0, 0, 0]) : origin)
+  const d = sub(seed, frame.origin)
+  seedUv = [frame.u[0] * d[0] + frame.u[1] * d[1] + frame.u[2] * d[2], frame.v[0] * d[0] + frame.v[1] * d[1] + frame.v[2] * d[2]]
+  return { frame, thickness: params.thickness, xyz, uv, spacing, pointUncertainty: pointU, registrationRms: rms, seedUv, wantOpening: params.opening }
+}
+
+/** One point per cell of side `cell`: for outlines of dense slabs. */
+function thinUv(uv: Float64Array, cell: number): Float64Array {
+  const seen = new Set<number>()
+  const out: number[] = []
+  for (let i = 0; i < uv.length; i += 2) {
+    const key = Math.floor(uv[i]! / cell) * 1_000_003 + Math.floor(uv[i + 1]! / cell)
+    if (seen.has(key)) continue
+    seen.add(key)
+    out.push(uv[i]!, uv[i + 1]!)
+  }
+  return Float64Array.from(out)
+}
+
+function sampleUv(uv: Float64Array, max: number): number[] {
+  const n = uv.length >> 1
+  const stride = Math.max(1, Math.ceil(n / max))
+  const out: number[] = []
+  for (let i = 0; i < n; i += stride) out.push(round(uv[2 * i]!), round(uv[2 * i + 1]!))
+  return out
+}
+
+const round = (x: number) => Math.round(x * 1e5) / 1e5
+const ring = (xy: ArrayLike<number>) => Array.from(xy, round)
+
+const OPENING_METHOD =
+  'Free opening: the points of the slab are grown by one point spacing and rasterised at half a spacing; the region reached from the seed by a flood fill is the opening. Clear width is its narrowest row and clear height its lowest column, both within the middle half, each corrected by twice the growth radius.'
+
+interface OpeningOutcome {
+  opening: FreeOpening
+  result: NonNullable<SectionResult['opening']>
+}
+
+function openingOf(sec: SectionComputation): OpeningOutcome | { problem: string } {
+  if (!sec.seedUv) return { problem: 'no seed point for the opening.' }
+  const found = freeOpening(sec.uv, sec.seedUv, sec.spacing)
+  if (!found.ok) {
+    const words: Record<string, string> = {
+      'seed-on-points': 'the seed point lies on the points, not in an empty space: pick the two points on either side of the opening.',
+      'not-enclosed': 'the empty space around the seed is not closed by points on every side (a gap in the scan, or no opening there).',
+      'grid-too-large': 'the section is too large for the opening search at this point spacing; use a thinner slab or fewer placements.',
+      'too-few-points': 'too few points for an opening.',
+    }
+    return { problem: words[found.reason] ?? `the opening could not be found (${found.reason}).` }
+  }
+  // Each edge is found by the points beside it: point uncertainty per edge, the grid's resolution as a
+  // rectangular half-width (GUM 4.3.7), registration per edge.
+  const parts: CheckPart[] = [
+    { name: 'edge points', u: Math.SQRT2 * sec.pointUncertainty },
+    { name: 'grid resolution', u: found.resolution / Math.sqrt(3) },
+    { name: 'registration', u: Math.SQRT2 * sec.registrationRms },
+  ]
+  const u = combineInQuadrature(parts)
+  const U = u.ok ? u.expanded : NaN
+  return {
+    opening: found,
+    result: {
+      seed: [round(sec.seedUv[0]), round(sec.seedUv[1])],
+      outline: ring(found.outline),
+      area: found.area,
+      clearWidth: found.clearWidthCorrected,
+      clearWidthAtV: found.clearWidthAtV,
+      clearHeight: found.clearHeightCorrected,
+      clearHeightAtU: found.clearHeightAtU,
+      uncertainty: { width: U, height: U, parts },
+      resolution: found.resolution,
+      method: OPENING_METHOD,
+    },
+  }
+}
+
+function sectionResult(sec: SectionComputation, opening: OpeningOutcome | { problem: string } | null): SectionResult {
+  const thin = thinUv(sec.uv, sec.spacing)
+  const outline = concaveOutline(thin, sec.spacing)
+  let uMin = Infinity, uMax = -Infinity, vMin = Infinity, vMax = -Infinity
+  for (let i = 0; i < sec.uv.length; i += 2) {
+    const u = sec.uv[i]!, v = sec.uv[i + 1]!
+    if (u < uMin) uMin = u
+    if (u > uMax) uMax = u
+    if (v < vMin) vMin = v
+    if (v > vMax) vMax = v
+  }
+  return {
+    frame: { origin: sec.frame.origin, u: sec.frame.u, v: sec.frame.v, n: sec.frame.n },
+    thickness: sec.thickness,
+    pointCount: sec.uv.length / 2,
+    extents: { uMin, uMax, vMin, vMax },
+    sample: sampleUv(sec.uv, SAMPLE_POINTS),
+    outline: outline.ok ? ring(outline.xy) : [],
+    area: outline.ok ? polygonArea(outline.xy) : 0,
+    spacing: sec.spacing,
+    opening: opening && 'result' in opening ? opening.result : null,
+    openingProblem: opening && 'problem' in opening ? opening.problem : null,
+  }
+}
+
+function sectionCheck(base: Check, sec: SectionComputation): Check {
+  const opening = sec.wantOpening ? openingOf(sec) : null
+  const section = sectionResult(sec, opening)
+  if (opening && 'problem' in opening) return { ...base, state: 'invalid-geometry', reason: `No free opening: ${opening.problem}`, section }
+  if (section.opening) {
+    const o = section.opening
+    return {
+      ...base,
+      value: o.clearWidth,
+      unit: 'm',
+      standardUncertainty: o.uncertainty.width / COVERAGE_FACTOR,
+      expandedUncertainty: o.uncertainty.width,
+      parts: o.uncertainty.parts,
+      section,
+    }
+  }
+  return { ...base, value: section.area, unit: 'm2', standardUncertainty: null, expandedUncertainty: null, parts: [], section }
+}
+
+async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext): Promise<Check> {
+  const parsed = ClearanceParams.safeParse(input.params)
+  if (!parsed.success) throw new Stop('invalid-geometry', `the clearance's params are not valid: ${parsed.error.issues[0]?.message}`)
+  const params = parsed.data
+  const sectionMarker = await ctx.marker(params.sectionMarkerId)
+  if (!sectionMarker || sectionMarker.kind !== 'section') throw new Stop('invalid-geometry', 'the section of this clearance was deleted.')
+  const { placement: object, scan: objectScan } = placementOf(ctx, params.objectInstanceId, 'the object')
+  const sectionAnchors: Snapped[] = []
+  for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i))
+  const sec = await computeSection(sectionMarker, sectionAnchors, ctx)
+  const opening = openingOf(sec)
+  if ('problem' in opening) throw new Stop('invalid-geometry', `the section has no free opening: ${opening.problem}`)
+  const n = sec.frame.n
+  let dir = params.direction ?? n
+  const len = Math.hypot(...dir)
+  dir = [dir[0] / len, dir[1] / len, dir[2] / len]
+  const cos = dir[0] * n[0] + dir[1] * n[1] + dir[2] * n[2]
+  if (Math.abs(cos) < GRAZING_COS) throw new Stop('invalid-geometry', 'the direction of travel runs (almost) along the opening instead of through it.')
+
+  const local = await ctx.points.allPoints(object.scanId)
+  if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
+  const count = local.length / 3
+  if (count < 3) throw new Stop('invalid-geometry', 'the object has no stored points.')
+  // Project each object point along the direction of travel onto the section plane, then to u v.
+  const [ox, oy, oz] = sec.frame.origin
+  const silhouette = new Float64Array(2 * count)
+  const m = object.matrix
+  for (let i = 0; i < count; i++) {
+    const x = local[3 * i]!, y = local[3 * i + 1]!, z = local[3 * i + 2]!
+    const px = m[0]! * x + m[4]! * y + m[8]! * z + m[12]! - ox
+    const py = m[1]! * x + m[5]! * y + m[9]! * z + m[13]! - oy
+    const pz = m[2]! * x + m[6]! * y + m[10]! * z + m[14]! - oz
+    const t = (px * n[0] + py * n[1] + pz * n[2]) / cos
+    const qx = px - t * dir[0], qy = py - t * dir[1], qz = pz - t * dir[2]
+    silhouette[2 * i] = sec.frame.u[0] * qx + sec.frame.u[1] * qy + sec.frame.u[2] * qz
+    silhouette[2 * i + 1] = sec.frame.v[0] * qx + sec.frame.v[1] * qy + sec.frame.v[2] * qz
+  }
+  const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
+  // Margin uncertainty: the opening's edge points, the object's points, the grid, both registrations.
+  const parts: CheckPart[] = [
+    { name: 'opening points', u: sec.pointUncertainty },
+    { name: 'object points', u: objectScan.pointUncertainty ?? 0 },
+    { name: 'grid resolution', u: fitResolution(opening.opening) / Math.sqrt(3) },
+    { name: 'registration (opening)', u: sec.registrationRms },
+    { name: 'registration (object)', u: object.registrationRms },
+  ]
+  const budget = combineInQuadrature(parts)
+  if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)
+  const fit = fitThrough(opening.opening, silhouette, requiredMargin, budget.expanded)
+  if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
+  const sectionPart = sectionResult(sec, opening)
+  const clearance: ClearanceResult = {
+    outcome: decideFit(fit.margin, budget.expanded, requiredMargin),
+    collides: fit.collides,
+    margin: fit.margin,
+    requiredMargin,
+    rotationDegrees: fit.rotationDegrees,
+    translation: [round(fit.translation[0]), round(fit.translation[1])],
+    nearest: {
+      silhouettePoint: [round(fit.nearest.silhouettePoint[0]), round(fit.nearest.silhouettePoint[1])],
+      boundaryPoint: [round(fit.nearest.boundaryPoint[0]), round(fit.nearest.boundaryPoint[1])],
+    },
+    direction: dir,
+    frame: sectionPart.frame,
+    openingOutline: opening.result.outline,
+    silhouette: ring(fit.placed),
+    objectPointCount: count,
+    resolution: fit.resolution,
+    assumptions: CLEARANCE_ASSUMPTIONS,
+  }
+  return {
+    ...base,
+    value: fit.margin,
+    unit: 'm',
+    standardUncertainty: budget.total,
+    expandedUncertainty: budget.expanded,
+    parts: budget.parts,
+    section: sectionPart,
+    clearance,
+    reason: fit.collides ? 'The object collides with the opening: even the margin plus its uncertainty is below zero.' : null,
+  }
+}

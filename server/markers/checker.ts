@@ -1,0 +1,110 @@
+import type pino from 'pino'
+import type { Check } from '@shared/schemas'
+import type { Db } from '../db'
+import { findMarkerSettings } from '../repositories/projects'
+import { findMarker, pendingMarkers, storeCheck, type StoredAnchor } from '../repositories/markers'
+import { listInstances, projectOfScene } from '../repositories/scenes'
+import { findScan } from '../repositories/scans'
+import type { ScanIndexes } from '../types'
+import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, type CheckScan } from './check'
+
+/**
+ * Runs marker checks and stores their results. Latest wins: a check stores only if the marker still has the
+ * revision it was computed for (a conditional update), and a check whose marker moved on meanwhile stops at
+ * its next cancellation point. Background checks run one at a time, in the order asked.
+ */
+export class MarkerChecker {
+  /** Newest revision asked for per marker. */
+  private readonly wanted = new Map<string, number>()
+  private readonly queue: string[] = []
+  private running: Promise<void> | null = null
+
+  constructor(
+    private readonly db: Db,
+    private readonly points: ScanIndexes,
+    private readonly log: pino.Logger,
+  ) {}
+
+  /** Checks now and stores; returns the check (also when it was superseded and not stored). */
+  async checkNow(markerId: string): Promise<Check | null> {
+    const row = await findMarker(this.db, markerId)
+    if (!row) return null
+    this.want(markerId, row.revision)
+    const input: CheckInput = { kind: row.kind, anchors: row.anchors as StoredAnchor[], params: row.params as Record<string, unknown>, revision: row.revision }
+    const ctx = await this.context(row.scene_id)
+    ctx.cancelled = () => (this.wanted.get(markerId) ?? 0) > row.revision
+    let check: Check
+    try {
+      check = await checkMarker(input, ctx)
+    } catch (err) {
+      // A fault reading the points (not a property of the marker): it stays pending, retried on restart.
+      this.log.error({ err, markerId }, 'marker check failed; the marker stays pending')
+      return null
+    }
+    const stored = await storeCheck(this.db, markerId, row.revision, check.state, check)
+    if (stored && this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
+    return check
+  }
+
+  /** Queues checks in the background (a placement moved, settings changed, the server started). */
+  schedule(markers: readonly { id: string; revision: number }[]): void {
+    for (const m of markers) {
+      this.want(m.id, m.revision)
+      if (!this.queue.includes(m.id)) this.queue.push(m.id)
+    }
+    if (!this.running && this.queue.length) this.running = this.drain()
+  }
+
+  /** Every marker left pending (a restart mid-check) is checked again. */
+  async resumePending(): Promise<number> {
+    const pending = await pendingMarkers(this.db)
+    this.schedule(pending)
+    return pending.length
+  }
+
+  /** Resolves when the background queue is empty (tests, shutdown). */
+  async idle(): Promise<void> {
+    while (this.running) await this.running
+  }
+
+  private want(id: string, revision: number): void {
+    this.wanted.set(id, Math.max(this.wanted.get(id) ?? 0, revision))
+  }
+
+  private async drain(): Promise<void> {
+    try {
+      while (this.queue.length) {
+        const id = this.queue.shift()!
+        await this.checkNow(id).catch((err) => this.log.error({ err, markerId: id }, 'marker check failed'))
+      }
+    } finally {
+      this.running = null
+    }
+  }
+
+  private async context(sceneId: string): Promise<CheckContext> {
+    const instances = await listInstances(this.db, sceneId)
+    const placements = new Map<string, CheckPlacement>()
+    const scans = new Map<string, CheckScan>()
+    for (const i of instances) {
+      placements.set(i.id, { matrix: i.matrix, scanId: i.scan_id, registrationRms: 0 })
+      if (!scans.has(i.scan_id)) {
+        const scan = await findScan(this.db, i.scan_id)
+        if (scan) scans.set(i.scan_id, { name: scan.name, status: scan.status, spacing: scan.spacing, pointUncertainty: scan.entered_uncertainty ?? scan.estimated_uncertainty })
+      }
+    }
+    const projectId = (await projectOfScene(this.db, sceneId))?.project_id ?? ''
+    const settings = await findMarkerSettings(this.db, projectId)
+    return {
+      placements,
+      scans,
+      settings: { anchorTolerance: settings?.anchor_tolerance ?? null, requiredMargin: settings?.required_margin ?? 0.05 },
+      points: this.points,
+      marker: async (id) => {
+        const m = await findMarker(this.db, id)
+        if (!m || m.scene_id !== sceneId) return undefined
+        return { kind: m.kind, anchors: m.anchors as StoredAnchor[], params: m.params as Record<string, unknown>, revision: m.revision }
+      },
+    }
+  }
+}

@@ -1,0 +1,147 @@
+import { sql } from 'kysely'
+import type { Conn } from '../db'
+import type { CheckState } from '@shared/collab/states'
+import type { MarkerKind } from '@shared/schemas'
+
+export interface StoredAnchor {
+  instanceId: string
+  x: number
+  y: number
+  z: number
+}
+
+const markerRows = (db: Conn) =>
+  db
+    .selectFrom('markers as m')
+    .leftJoin('users as c', 'c.id', 'm.created_by')
+    .leftJoin('users as u', 'u.id', 'm.updated_by')
+    .selectAll('m')
+    .select(['c.name as created_by_name', 'u.name as updated_by_name'])
+
+export type MarkerWithPeopleRow = NonNullable<Awaited<ReturnType<typeof findMarker>>>
+
+export function listMarkers(db: Conn, sceneId: string) {
+  return markerRows(db).where('m.scene_id', '=', sceneId).orderBy('m.created_at').orderBy('m.id').execute()
+}
+
+export function findMarker(db: Conn, markerId: string) {
+  return markerRows(db).where('m.id', '=', markerId).executeTakeFirst()
+}
+
+export function projectOfMarker(db: Conn, markerId: string) {
+  return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select('s.project_id').where('m.id', '=', markerId).executeTakeFirst()
+}
+
+export function countMarkersOfKind(db: Conn, sceneId: string, kind: MarkerKind) {
+  return db
+    .selectFrom('markers')
+    .select((e) => e.fn.countAll<string>().as('n'))
+    .where('scene_id', '=', sceneId)
+    .where('kind', '=', kind)
+    .executeTakeFirstOrThrow()
+}
+
+export function insertMarker(
+  db: Conn,
+  v: { sceneId: string; kind: MarkerKind; label: string; anchors: StoredAnchor[]; params: Record<string, unknown>; userId: string | null },
+) {
+  return db
+    .insertInto('markers')
+    .values({
+      scene_id: v.sceneId,
+      kind: v.kind,
+      label: v.label,
+      anchors: JSON.stringify(v.anchors),
+      params: JSON.stringify(v.params),
+      created_by: v.userId,
+      updated_by: v.userId,
+    })
+    .returning(['id', 'revision'])
+    .executeTakeFirstOrThrow()
+}
+
+/** Replaces what changed and bumps the revision when geometry or params changed (a check is then due). */
+export function updateMarker(
+  db: Conn,
+  markerId: string,
+  v: { label?: string; anchors?: StoredAnchor[]; params?: Record<string, unknown>; userId: string | null },
+) {
+  const geometry = v.anchors !== undefined || v.params !== undefined
+  return db
+    .updateTable('markers')
+    .set((eb) => ({
+      ...(v.label !== undefined ? { label: v.label } : {}),
+      ...(v.anchors !== undefined ? { anchors: JSON.stringify(v.anchors) } : {}),
+      ...(v.params !== undefined ? { params: JSON.stringify(v.params) } : {}),
+      ...(geometry ? { revision: eb('revision', '+', 1), check_state: 'pending' as const } : {}),
+      updated_by: v.userId,
+      updated_at: new Date(),
+    }))
+    .where('id', '=', markerId)
+    .returning(['id', 'revision'])
+    .executeTakeFirst()
+}
+
+export function deleteMarker(db: Conn, markerId: string) {
+  return db.deleteFrom('markers').where('id', '=', markerId).executeTakeFirst()
+}
+
+/** Stores a check only when it was computed for the marker's current revision (latest wins). */
+export async function storeCheck(db: Conn, markerId: string, revision: number, state: CheckState, check: unknown): Promise<boolean> {
+  const result = await db
+    .updateTable('markers')
+    .set({ check_state: state, check: JSON.stringify(check) })
+    .where('id', '=', markerId)
+    .where('revision', '=', revision)
+    .executeTakeFirst()
+  return result.numUpdatedRows > 0n
+}
+
+/**
+ * Markers that depend on a placement: anchored on it, a section cutting it, a clearance of it as the object,
+ * and clearances through a section that depends on it. They go back to pending with a new revision.
+ */
+export async function invalidateMarkersOfInstance(db: Conn, sceneId: string, instanceId: string): Promise<{ id: string; revision: number }[]> {
+  const direct = await db
+    .updateTable('markers')
+    .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
+    .where('scene_id', '=', sceneId)
+    .where((eb) =>
+      eb.or([
+        sql<boolean>`anchors @> ${JSON.stringify([{ instanceId }])}::jsonb`,
+        sql<boolean>`coalesce(params->'instanceIds', '[]'::jsonb) @> ${JSON.stringify([instanceId])}::jsonb`,
+        sql<boolean>`params->>'objectInstanceId' = ${instanceId}`,
+      ]),
+    )
+    .returning(['id', 'revision'])
+    .execute()
+  const dependants = await invalidateClearancesThrough(db, sceneId, direct.map((m) => m.id))
+  return [...direct, ...dependants]
+}
+
+/** Clearances through any of these section markers go back to pending. */
+export async function invalidateClearancesThrough(db: Conn, sceneId: string, sectionIds: string[]): Promise<{ id: string; revision: number }[]> {
+  if (sectionIds.length === 0) return []
+  return db
+    .updateTable('markers')
+    .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
+    .where('scene_id', '=', sceneId)
+    .where('kind', '=', 'clearance')
+    .where(sql<string>`params->>'sectionMarkerId'`, 'in', sectionIds)
+    .returning(['id', 'revision'])
+    .execute()
+}
+
+/** Every marker of a project back to pending (its tolerance or margin changed). */
+export function invalidateMarkersOfProject(db: Conn, projectId: string) {
+  return db
+    .updateTable('markers')
+    .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
+    .where('scene_id', 'in', db.selectFrom('scenes').select('id').where('project_id', '=', projectId))
+    .returning(['id', 'revision'])
+    .execute()
+}
+
+export function pendingMarkers(db: Conn) {
+  return db.selectFrom('markers').select(['id', 'revision']).where('check_state', '=', 'pending').execute()
+}

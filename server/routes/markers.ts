@@ -1,0 +1,45 @@
+import { MarkerCreateBody, MarkerParams, MarkerUpdateBody, SceneParams } from '@shared/schemas'
+import * as markers from '../services/markers'
+import { defineRoute, type RouteDef } from './registry'
+
+export const markerRoutes: RouteDef[] = [
+  defineRoute({
+    method: 'get',
+    path: '/scenes/:sceneId/markers',
+    access: { kind: 'project', right: 'view' },
+    params: SceneParams,
+    handler: async ({ services, params }) => ({ body: { markers: await markers.markersOf(services, params.sceneId) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/scenes/:sceneId/markers',
+    access: { kind: 'project', right: 'editMarkers' },
+    params: SceneParams,
+    body: MarkerCreateBody,
+    handler: async ({ services, params, body, user }) => ({ status: 201, body: { marker: await markers.createMarker(services, params.sceneId, body, user?.id ?? null) } }),
+  }),
+  defineRoute({
+    method: 'get',
+    path: '/markers/:markerId',
+    access: { kind: 'project', right: 'view' },
+    params: MarkerParams,
+    handler: async ({ services, params }) => ({ body: { marker: await markers.getMarker(services, params.markerId) } }),
+  }),
+  defineRoute({
+    method: 'patch',
+    path: '/markers/:markerId',
+    access: { kind: 'project', right: 'editMarkers' },
+    params: MarkerParams,
+    body: MarkerUpdateBody,
+    handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.updateMarker(services, params.markerId, body, user?.id ?? null) } }),
+  }),
+  defineRoute({
+    method: 'delete',
+    path: '/markers/:markerId',
+    access: { kind: 'project', right: 'editMarkers' },
+    params: MarkerParams,
+    handler: async ({ services, params }) => {
+      await markers.removeMarker(services, params.markerId)
+    },
+  }),
+]

@@ -1,0 +1,129 @@
+import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerUpdateBody } from '@shared/schemas'
+import { ErrorCode } from '@shared/schemas/common'
+import { HttpError } from '../errors'
+import * as repo from '../repositories/markers'
+import { listInstances, touchScene } from '../repositories/scenes'
+import type { Services } from '../types'
+import type { MarkerChecker } from '../markers/checker'
+import { toMarker } from './mappers'
+
+/**
+ * Every marker write goes through here, whichever door it came in by (the API now, the live document
+ * later): validation against the scene, scene frame to placement frame, the row, the check.
+ */
+
+type Placements = Map<string, number[]>
+
+async function placementsOf(s: Services, sceneId: string): Promise<Placements> {
+  return new Map((await listInstances(s.db, sceneId)).map((i) => [i.id, i.matrix]))
+}
+
+function invalid(field: string, message: string): HttpError {
+  return new HttpError(400, ErrorCode.invalidInput, `body.${field}: ${message}`, field)
+}
+
+/** Placements, sections and objects named by the marker must be in its scene. */
+async function validateReferences(s: Services, sceneId: string, body: MarkerCreateBody, placements: Placements, markerId?: string): Promise<void> {
+  body.anchors.forEach((a, i) => {
+    if (!placements.has(a.instanceId)) throw invalid(`anchors.${i}.instanceId`, 'no placement with this id in the scene.')
+  })
+  if (body.kind === 'section') {
+    body.params.instanceIds?.forEach((id, i) => {
+      if (!placements.has(id)) throw invalid(`params.instanceIds.${i}`, 'no placement with this id in the scene.')
+    })
+  }
+  if (body.kind === 'clearance') {
+    if (!placements.has(body.params.objectInstanceId)) throw invalid('params.objectInstanceId', 'no placement with this id in the scene.')
+    const section = await repo.findMarker(s.db, body.params.sectionMarkerId)
+    if (!section || section.scene_id !== sceneId || section.id === markerId) throw invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
+    if (section.kind !== 'section') throw invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)
+    if (!(section.params as { opening?: boolean }).opening) throw invalid('params.sectionMarkerId', 'that section does not look for a free opening; turn "find the free opening" on first.')
+  }
+}
+
+function toLocal(anchors: Anchor[], placements: Placements): repo.StoredAnchor[] {
+  return anchors.map((a) => {
+    const [x, y, z] = transformPoint(invertRigid(placements.get(a.instanceId)!), a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
+}
+
+function defaultLabel(kind: MarkerKind, n: number): string {
+  return `${kind} ${n}`
+}
+
+function checker(s: Services): MarkerChecker {
+  return s.markerChecks
+}
+
+async function present(s: Services, markerId: string): Promise<Marker> {
+  const row = await repo.findMarker(s.db, markerId)
+  if (!row) throw HttpError.notFound('No such marker.')
+  return toMarker(row, await placementsOf(s, row.scene_id))
+}
+
+export async function markersOf(s: Services, sceneId: string): Promise<Marker[]> {
+  const placements = await placementsOf(s, sceneId)
+  return (await repo.listMarkers(s.db, sceneId)).map((row) => toMarker(row, placements))
+}
+
+export async function getMarker(s: Services, markerId: string): Promise<Marker> {
+  return present(s, markerId)
+}
+
+export async function createMarker(s: Services, sceneId: string, body: MarkerCreateBody, userId: string | null): Promise<Marker> {
+  const placements = await placementsOf(s, sceneId)
+  await validateReferences(s, sceneId, body, placements)
+  const label = body.label ?? defaultLabel(body.kind, Number((await repo.countMarkersOfKind(s.db, sceneId, body.kind)).n) + 1)
+  const { id } = await repo.insertMarker(s.db, { sceneId, kind: body.kind, label, anchors: toLocal(body.anchors, placements), params: body.params, userId })
+  await touchScene(s.db, sceneId)
+  await checker(s).checkNow(id)
+  return present(s, id)
+}
+
+export async function updateMarker(s: Services, markerId: string, body: MarkerUpdateBody, userId: string | null): Promise<Marker> {
+  const row = await repo.findMarker(s.db, markerId)
+  if (!row) throw HttpError.notFound('No such marker.')
+  const placements = await placementsOf(s, row.scene_id)
+  const current = toMarker(row, placements)
+  // The merged marker must be a valid marker of its kind (anchors in the scene frame, as the API takes them).
+  const merged = MarkerCreateBody.safeParse({ kind: row.kind, label: body.label ?? row.label, anchors: body.anchors ?? current.anchors, params: body.params ?? row.params })
+  if (!merged.success) {
+    const issue = merged.error.issues[0]!
+    const field = issue.path.join('.')
+    throw invalid(field, issue.message)
+  }
+  const geometry = body.anchors !== undefined || body.params !== undefined
+  if (geometry) await validateReferences(s, row.scene_id, merged.data, placements, markerId)
+  await repo.updateMarker(s.db, markerId, {
+    label: body.label,
+    anchors: body.anchors !== undefined ? toLocal(merged.data.anchors, placements) : undefined,
+    params: body.params !== undefined ? merged.data.params : undefined,
+    userId,
+  })
+  await touchScene(s.db, row.scene_id)
+  if (geometry) {
+    await checker(s).checkNow(markerId)
+    if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+  }
+  return present(s, markerId)
+}
+
+export async function removeMarker(s: Services, markerId: string): Promise<void> {
+  const row = await repo.findMarker(s.db, markerId)
+  if (!row) return
+  await repo.deleteMarker(s.db, markerId)
+  await touchScene(s.db, row.scene_id)
+  if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+}
+
+/** A placement moved, was hidden or removed: its markers go back to pending and are checked again. */
+export async function placementChanged(s: Services, sceneId: string, instanceId: string): Promise<void> {
+  checker(s).schedule(await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId))
+}
+
+/** The project's tolerance or margin changed: every marker is checked again. */
+export async function settingsChanged(s: Services, projectId: string): Promise<void> {
+  checker(s).schedule(await repo.invalidateMarkersOfProject(s.db, projectId))
+}

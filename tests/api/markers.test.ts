@@ -1,0 +1,332 @@
+// Markers checked against the stored points, through the API, on synthetic scans of known geometry made here
+// (seeded noise, 1 cm grids, 1 mm normal noise): tests/utils/solids.ts. Reference values are the solids' own
+// dimensions; budgets follow GUM (JCGM 100:2008) 4.3.7 and 5.1; the decision rule is DOMAIN section 2's guard
+// band (after JCGM 106:2012).
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { Matrix4 } from 'three'
+import type { Marker } from '@shared/schemas'
+import { upload, waitForScan } from '../utils/scans'
+import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { boxSolid, drumSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
+
+let t: TestServer
+let owner: Awaited<ReturnType<typeof signUpAgent>>
+let mentor: Awaited<ReturnType<typeof signUpAgent>>
+let projectId: string
+let sceneId: string
+const placed: Record<string, string> = {}
+const scanIds: Record<string, string> = {}
+/** Where each scan is placed in the scene (x offsets keep the test walls apart). */
+const at: Record<string, [number, number, number]> = {
+  wide: [0, 0, 0],
+  medium: [5, 0, 0],
+  narrow: [10, 0, 0],
+  arch: [15, 0, 0],
+  box: [0, -1.5, 0],
+  drum: [15, -1.5, 0],
+  square: [15, -3, 0],
+  sparse: [20, 0, 0],
+}
+const ENTERED_U = 0.001
+
+function sparseLine(): SurfaceSampler {
+  const s = new SurfaceSampler(0.1, 0, 3)
+  for (let i = 0; i < 12; i++) s.point([i * 0.1, 0, 1], [0, 1, 0])
+  return s
+}
+
+async function post(body: object, agent = owner.agent, status = 201): Promise<Marker> {
+  const res = await agent.post(`/api/scenes/${sceneId}/markers`).send(body)
+  if (res.status !== status) throw new Error(`POST marker: ${res.status} ${JSON.stringify(res.body)}`)
+  return res.body.marker
+}
+
+const anchor = (name: string, x: number, y: number, z: number) => ({ instanceId: placed[name]!, x: x + at[name]![0], y: y + at[name]![1], z: z + at[name]![2] })
+
+/** A section across an opening: two points on the jambs at 1 m, a 0.1 m slab, with its free opening. */
+const openingSection = (name: string, halfWidth: number) =>
+  post({ kind: 'section', anchors: [anchor(name, -halfWidth, 0, 1), anchor(name, halfWidth, 0, 1)], params: { plane: 'two-points', thickness: 0.1, opening: true } })
+
+async function waitChecked(id: string, revisionAbove: number): Promise<Marker> {
+  const deadline = Date.now() + 30_000
+  for (;;) {
+    const m = (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker as Marker
+    if (m.check.state !== 'pending' && m.check.basedOn > revisionAbove) return m
+    if (Date.now() > deadline) throw new Error(`marker ${id} still ${m.check.state} at revision ${m.check.basedOn}`)
+    await new Promise((r) => setTimeout(r, 50))
+  }
+}
+
+beforeAll(async () => {
+  t = await startTestServer({}, { WORKER: 'spawn' })
+  owner = await signUpAgent(t, 'Marker Owner')
+  mentor = await signUpAgent(t, 'Marker Mentor')
+  projectId = (await owner.agent.post('/api/projects').send({ name: 'Markers' }).expect(201)).body.project.id
+  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
+  const solids: Record<string, SurfaceSampler> = {
+    wide: wallWithOpening({ width: 1.4, height: 2.1, seed: 1 }),
+    medium: wallWithOpening({ width: 0.9, height: 2.1, seed: 2 }),
+    narrow: wallWithOpening({ width: 0.7, height: 2.1, seed: 3 }),
+    arch: wallWithOpening({ width: 1.4, height: 0.8, arched: true, seed: 4 }),
+    box: boxSolid(1.0, 0.6, 0.8),
+    drum: drumSolid(0.65, 0.4),
+    square: boxSolid(1.3, 0.4, 1.3, 0.01, 0.001, 9),
+    sparse: sparseLine(),
+  }
+  for (const [name, solid] of Object.entries(solids)) {
+    scanIds[name] = (await upload(owner.agent, projectId, solid.ply(), `${name}.ply`).expect(202)).body.scan.id
+  }
+  for (const name of Object.keys(solids)) {
+    const { scan } = await waitForScan(owner.agent, scanIds[name]!, undefined, 120_000)
+    expect(scan.status, `${name}: ${scan.error}`).toBe('ready')
+    // A stated point uncertainty, so the budget's point part is known exactly.
+    await owner.agent.patch(`/api/scans/${scanIds[name]}`).send({ enteredUncertainty: ENTERED_U }).expect(200)
+  }
+  sceneId = (await owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Test openings' }).expect(201)).body.scene.id
+  for (const name of Object.keys(solids)) {
+    const matrix = new Matrix4().makeTranslation(...at[name]!).elements
+    placed[name] = (await owner.agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scanIds[name], matrix }).expect(201)).body.instance.id
+  }
+}, 240_000)
+
+afterAll(async () => {
+  await t?.stop()
+})
+
+describe('distance and angle', () => {
+  it('measures the clear width between the jambs with its GUM budget', async () => {
+    const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
+    expect(m.check.state).toBe('checked')
+    expect(m.label).toBe('distance 1')
+    expect(m.check.unit).toBe('m')
+    // Reference: the solid's own width 1.4 m; the anchors snap within 1 mm noise of it.
+    expect(Math.abs(m.check.value! - 1.4)).toBeLessThan(m.check.expandedUncertainty!)
+    expect(m.check.distance!.horizontal).toBeCloseTo(m.check.value!, 2)
+    expect(Math.abs(m.check.distance!.vertical)).toBeLessThan(0.01)
+    const spacing = (await owner.agent.get(`/api/scans/${scanIds.wide}`).expect(200)).body.scan.spacing as number
+    for (const a of m.check.anchors) {
+      expect(a.onScan).toBe(true)
+      expect(a.residual!).toBeLessThan(0.01)
+      // Parts: the stated point uncertainty, the picking term spacing / sqrt(12) (GUM 4.3.7), registration 0.
+      expect(a.parts).toEqual([
+        { name: 'point', u: ENTERED_U },
+        { name: 'picking', u: expect.closeTo(spacing / Math.sqrt(12), 12) },
+        { name: 'registration', u: 0 },
+      ])
+      expect(a.tolerance).toBeCloseTo(Math.max(3 * spacing, 0.005), 12)
+    }
+    // GUM 5.1 for independent isotropic anchors: u^2(d) = uA^2 + uB^2, U = 2 u.
+    const uA = Math.hypot(ENTERED_U, spacing / Math.sqrt(12))
+    expect(m.check.standardUncertainty).toBeCloseTo(Math.SQRT2 * uA, 12)
+    expect(m.check.expandedUncertainty).toBeCloseTo(2 * Math.SQRT2 * uA, 12)
+    expect(Math.hypot(...m.check.parts.map((p) => p.u))).toBeCloseTo(m.check.standardUncertainty!, 12)
+  })
+
+  it('flags an anchor 10 cm off the surface as off the points, and says which and by how much', async () => {
+    const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.6, 0, 1)] })
+    expect(m.check.state).toBe('off-scan')
+    expect(m.check.anchors[0]!.onScan).toBe(true)
+    expect(m.check.anchors[1]!.onScan).toBe(false)
+    expect(m.check.anchors[1]!.residual!).toBeGreaterThan(0.095)
+    expect(m.check.reason).toMatch(/anchor B is (9\d|1\d\d)\.\d mm from the nearest stored point \(tolerance \d+\.\d mm\)/)
+  })
+
+  it('measures the right angle between a wall face and a jamb', async () => {
+    const m = await post({ kind: 'angle', anchors: [anchor('wide', -1.0, -0.15, 1), anchor('wide', -0.7, -0.15, 1), anchor('wide', -0.7, 0.1, 1)] })
+    expect(m.check.state).toBe('checked')
+    expect(m.check.unit).toBe('deg')
+    // Reference: the solid's right angle; U from the arms of 0.30 and 0.25 m.
+    expect(Math.abs(m.check.value! - 90)).toBeLessThan(m.check.expandedUncertainty! + 0.3)
+    expect(m.check.expandedUncertainty!).toBeGreaterThan(0.5)
+    expect(Math.hypot(...m.check.parts.map((p) => p.u))).toBeCloseTo(m.check.standardUncertainty!, 10)
+  })
+
+  it('calls coincident anchors invalid geometry', async () => {
+    const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', -0.7, 0, 1)] })
+    expect(m.check.state).toBe('invalid-geometry')
+    expect(m.check.reason).toMatch(/zero length/)
+  })
+})
+
+describe('sections', () => {
+  it('finds the clear width and height of a rectangular doorway within the stated uncertainty', async () => {
+    const m = await openingSection('wide', 0.7)
+    expect(m.check.state).toBe('checked')
+    const o = m.check.section!.opening!
+    expect(Math.abs(o.clearWidth - 1.4)).toBeLessThanOrEqual(o.uncertainty.width)
+    expect(Math.abs(o.clearHeight - 2.1)).toBeLessThanOrEqual(o.uncertainty.height)
+    expect(m.check.value).toBe(o.clearWidth)
+    expect(m.check.section!.pointCount).toBeGreaterThan(1000)
+    expect(m.check.section!.outline.length).toBeGreaterThan(6)
+    expect(o.outline.length).toBeGreaterThan(6)
+    // The frame: a vertical plane through the jambs, v up.
+    expect(m.check.section!.frame.v[2]).toBeCloseTo(1, 9)
+  })
+
+  it('finds the clear width and the crown height of an arched opening (semicircular head, R = 0.7 m)', async () => {
+    const m = await openingSection('arch', 0.7)
+    expect(m.check.state).toBe('checked')
+    const o = m.check.section!.opening!
+    // Derived from the solid (R = 0.7, springing s = 0.8, growth radius r = one spacing): the clear width is the
+    // narrowest row of the middle half, its top row, a quarter of the shrunk height below the shrunk crown;
+    // the clear height the lowest column of the middle half, at a quarter of the shrunk width.
+    const R = 0.7, s = 0.8, r = m.check.section!.spacing
+    const vTop = r + 0.75 * (s + R - 2 * r)
+    const width = 2 * Math.sqrt((R - r) ** 2 - (vTop - s) ** 2) + 2 * r
+    const height = s + ((R - r) * Math.sqrt(3)) / 2 + r
+    const slope = 2 * r // the arc's slope turns a cell of row or column placement into up to about two cells
+    expect(Math.abs(o.clearWidth - width)).toBeLessThanOrEqual(o.uncertainty.width + slope)
+    expect(Math.abs(o.clearHeight - height)).toBeLessThanOrEqual(o.uncertainty.height + slope)
+    expect(o.clearWidth).toBeLessThan(1.4)
+  })
+
+  it('says too sparse for a slab with a handful of points, and cannot be measured for an empty one or collinear points', async () => {
+    const sparse = await post({ kind: 'section', anchors: [], params: { plane: 'numbers', origin: [20.5, 0, 1], normal: [0, 1, 0], thickness: 0.05, instanceIds: [placed.sparse] } })
+    expect(sparse.check.state).toBe('too-few-points')
+    expect(sparse.check.reason).toMatch(/only 12 stored points/)
+    const empty = await post({ kind: 'section', anchors: [], params: { plane: 'numbers', origin: [0, 0, 50], normal: [0, 0, 1], thickness: 0.05, instanceIds: [placed.wide] } })
+    expect(empty.check.state).toBe('invalid-geometry')
+    expect(empty.check.reason).toMatch(/no stored points/)
+    const line = await post({ kind: 'section', anchors: [anchor('wide', -1.2, -0.15, 0.5), anchor('wide', -1.2, -0.15, 1), anchor('wide', -1.2, -0.15, 1.5)], params: { plane: 'three-points' } })
+    expect(line.check.state).toBe('invalid-geometry')
+    expect(line.check.reason).toMatch(/collinear/)
+  })
+})
+
+describe('clearances', () => {
+  let wide: Marker, medium: Marker, narrow: Marker, arch: Marker
+  beforeAll(async () => {
+    wide = await openingSection('wide', 0.7)
+    medium = await openingSection('medium', 0.45)
+    narrow = await openingSection('narrow', 0.35)
+    arch = await openingSection('arch', 0.7)
+  }, 60_000)
+
+  const clearance = (object: string, section: Marker, requiredMargin?: number) =>
+    post({ kind: 'clearance', params: { objectInstanceId: placed[object], sectionMarkerId: section.id, ...(requiredMargin === undefined ? {} : { requiredMargin }) } })
+
+  it('passes a 1.0 x 0.8 m box through a 1.4 x 2.1 m doorway, best stood on its end with 0.3 m either side', async () => {
+    const m = await clearance('box', wide)
+    expect(m.check.state).toBe('checked')
+    const c = m.check.clearance!
+    expect(c.outcome).toBe('passes')
+    expect(c.requiredMargin).toBe(0.05)
+    // Upright the margin is (1.4 - 1.0) / 2 = 0.2; turned 90 degrees in the opening plane (0.8 m wide) it is
+    // (1.4 - 0.8) / 2 = 0.3, and the fit reports the best turn.
+    expect(Math.abs(((c.rotationDegrees + 360) % 180) - 90)).toBeLessThan(3)
+    expect(Math.abs(c.margin - 0.3)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
+    expect(c.silhouette.length).toBeGreaterThanOrEqual(8)
+    expect(c.assumptions.join(' ')).toMatch(/straight along the direction/)
+  })
+
+  it('does not pass the box through a 0.7 m doorway, turned or not', async () => {
+    const c = (await clearance('box', narrow)).check.clearance!
+    expect(c.outcome).toBe('does-not-pass')
+    expect(c.margin).toBeLessThan(0)
+  })
+
+  it('passes the box through a 0.9 m doorway only turned about 90 degrees in the opening plane', async () => {
+    const m = await clearance('box', medium, 0.02)
+    const c = m.check.clearance!
+    expect(c.outcome).toBe('passes')
+    expect(Math.abs(((c.rotationDegrees + 360) % 180) - 90)).toBeLessThan(3)
+    expect(Math.abs(c.margin - 0.05)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
+  })
+
+  it('is too close to call when the required margin lies within the uncertainty', async () => {
+    const c = (await clearance('box', wide, 0.3)).check.clearance!
+    expect(c.outcome).toBe('too-close-to-call')
+  })
+
+  it('passes a drum (radius 0.65 m) through the arch where its bounding square 1.3 x 1.3 m does not', async () => {
+    const drum = (await clearance('drum', arch, 0)).check.clearance!
+    expect(drum.outcome).toBe('passes')
+    expect(Math.abs(drum.margin - 0.05)).toBeLessThan(0.02)
+    const square = (await clearance('square', arch, 0)).check.clearance!
+    expect(square.outcome).toBe('does-not-pass')
+  })
+
+  it('refuses a section without an opening and re-checks when the section is deleted', async () => {
+    const plain = await post({ kind: 'section', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)], params: { plane: 'two-points' } })
+    const res = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: plain.id } }).expect(400)
+    expect(res.body.error.message).toMatch(/^body\.params\.sectionMarkerId: .*free opening/)
+    const section = await openingSection('wide', 0.7)
+    const c = await clearance('box', section)
+    await owner.agent.delete(`/api/markers/${section.id}`).expect(204)
+    await owner.agent.get(`/api/markers/${section.id}`).expect(404)
+    const after = await waitChecked(c.id, c.check.basedOn)
+    expect(after.check.state).toBe('invalid-geometry')
+    expect(after.check.reason).toMatch(/section .* was deleted/)
+  })
+})
+
+describe('placements and settings', () => {
+  it('moves a marker with its placement and checks it again', async () => {
+    // From the doorway's left jamb to the middle of the box's front face (y = -1.5 - 0.3).
+    const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('box', 0, -0.3, 0.4)] })
+    expect(m.check.state).toBe('checked')
+    const before = m.check.value!
+    const moved = new Matrix4().makeTranslation(at.box[0] - 0.7, at.box[1], at.box[2]).elements
+    await owner.agent.patch(`/api/instances/${placed.box}`).send({ matrix: moved }).expect(200)
+    const after = await waitChecked(m.id, m.check.basedOn)
+    expect(after.check.state).toBe('checked')
+    // The far anchor moved 0.7 m in x with the box: it now lies straight in front of the jamb.
+    expect(after.anchors[1]!.x).toBeCloseTo(-0.7, 9)
+    const dy = 1.8, dz = 0.6
+    expect(before).toBeCloseTo(Math.hypot(0.7, dy, dz), 2)
+    expect(after.check.value!).toBeCloseTo(Math.hypot(0, dy, dz), 2)
+    await owner.agent.patch(`/api/instances/${placed.box}`).send({ matrix: new Matrix4().makeTranslation(...at.box).elements }).expect(200)
+  })
+
+  it('re-checks every marker when the project tolerance changes', async () => {
+    const off = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.6, 0, 1)] })
+    expect(off.check.state).toBe('off-scan')
+    const res = await owner.agent.patch(`/api/projects/${projectId}`).send({ anchorTolerance: 0.2 }).expect(200)
+    expect(res.body.project.markerSettings).toEqual({ anchorTolerance: 0.2, requiredMargin: 0.05 })
+    const after = await waitChecked(off.id, off.check.basedOn)
+    expect(after.check.state).toBe('checked')
+    await owner.agent.patch(`/api/projects/${projectId}`).send({ anchorTolerance: null }).expect(200)
+    expect((await waitChecked(off.id, after.check.basedOn)).check.state).toBe('off-scan')
+  })
+
+  it('edits a label without a new check, and geometry with one', async () => {
+    const m = await post({ kind: 'distance', label: 'jambs at 1 m', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
+    const renamed = (await owner.agent.patch(`/api/markers/${m.id}`).send({ label: 'clear width' }).expect(200)).body.marker as Marker
+    expect(renamed).toMatchObject({ label: 'clear width', revision: m.revision })
+    const edited = (await owner.agent.patch(`/api/markers/${m.id}`).send({ anchors: [anchor('wide', -0.7, 0, 1.5), anchor('wide', 0.7, 0, 1.5)] }).expect(200)).body.marker as Marker
+    expect(edited.revision).toBe(m.revision + 1)
+    expect(edited.check.basedOn).toBe(edited.revision)
+    expect(edited.check.anchors[0]!.picked[2]).toBeCloseTo(1.5, 9)
+    const list = (await mentor.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers as Marker[]
+    expect(list.find((x) => x.id === m.id)).toMatchObject({ label: 'clear width', createdBy: { name: 'Marker Owner' } })
+  })
+})
+
+describe('bad input', () => {
+  it('names the field for a wrong anchor count, an unknown placement and a non-finite coordinate', async () => {
+    const few = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', anchors: [anchor('wide', 0, 0, 1)] }).expect(400)
+    expect(few.body.error.message).toBe('body.anchors: a distance takes exactly 2 anchors')
+    const unknown = await owner.agent
+      .post(`/api/scenes/${sceneId}/markers`)
+      .send({ kind: 'distance', anchors: [anchor('wide', 0, 0, 1), { instanceId: '00000000-0000-4000-8000-000000000000', x: 0, y: 0, z: 0 }] })
+      .expect(400)
+    expect(unknown.body.error.message).toBe('body.anchors.1.instanceId: no placement with this id in the scene.')
+    // 1e999 is valid JSON that parses to Infinity.
+    const raw = `{"kind":"distance","anchors":[{"instanceId":"${placed.wide}","x":1e999,"y":0,"z":1},{"instanceId":"${placed.wide}","x":0,"y":0,"z":1}]}`
+    const inf = await owner.agent.post(`/api/scenes/${sceneId}/markers`).set('Content-Type', 'application/json').send(raw).expect(400)
+    expect(inf.body.error.message).toMatch(/^body\.anchors\.0\.x: must be a finite number/)
+    const kind = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'volume', anchors: [] }).expect(400)
+    expect(kind.body.error.message).toMatch(/kind must be one of distance, angle, section, clearance/)
+    const numbers = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'section', anchors: [], params: { plane: 'numbers', normal: [0, 1, 0], instanceIds: [placed.wide] } }).expect(400)
+    expect(numbers.body.error.message).toBe('body.params.origin: is required for a section by numbers')
+    const patch = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] }).expect(201)
+    const badPatch = await owner.agent.patch(`/api/markers/${patch.body.marker.id}`).send({ anchors: [anchor('wide', 0, 0, 1)] }).expect(400)
+    expect(badPatch.body.error.message).toBe('body.anchors: a distance takes exactly 2 anchors')
+  })
+
+  it('lets a mentor read markers but not write them', async () => {
+    const list = await mentor.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)
+    expect(list.body.markers.length).toBeGreaterThan(0)
+    await mentor.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] }).expect(403)
+  })
+})
