@@ -130,6 +130,7 @@ export class SpanmarkServer {
       setTimeout(() => this.http.closeAllConnections(), 5000).unref()
     })
     await this.worker?.stop()
+    this.services.markerChecks.stop()
     await this.services.markerChecks.idle()
     await this.services.mailer.stop()
     await this.services.boss.stop({ graceful: false, wait: true }).catch(() => {})

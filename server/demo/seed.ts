@@ -3,14 +3,16 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { countUsers, insertUser } from '../repositories/users'
 import { insertMembership } from '../repositories/memberships'
-import { insertProject } from '../repositories/projects'
+import { insertProject, updateProject } from '../repositories/projects'
 import { insertInstance, insertScene } from '../repositories/scenes'
+import { insertMarker } from '../repositories/markers'
+import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import { DOOR } from './synth/scene'
 import { acceptUpload } from '../services/scans'
 import { PLACEMENT_COLOURS } from '../services/scenes'
 import type { Services } from '../types'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT } from './accounts'
-import { DEMO_SCENE } from './synth/demoScans'
-import { demoScanFiles } from './synth/demoScans'
+import { DEMO_SCENE, demoScanFiles } from './synth/demoScans'
 
 /**
  * Seeds the demo into an empty database: one account per role, the project, and its synthetic scans,
@@ -45,9 +47,46 @@ export async function seedDemo(s: Services): Promise<boolean> {
   // ready scans). Station A stands where it stood; B only roughly, to be aligned; the chest waits in the
   // yard in front of the door.
   const { id: sceneId } = await insertScene(s.db, projectId, DEMO_SCENE.name, measurerId)
+  const instanceIds: Record<string, string> = {}
   for (const [i, p] of DEMO_SCENE.placements.entries()) {
-    await insertInstance(s.db, { sceneId, scanId: scanIds[p.fileName]!, matrix: p.matrix, visible: true, color: PLACEMENT_COLOURS[i]! })
+    instanceIds[p.fileName] = (await insertInstance(s.db, { sceneId, scanId: scanIds[p.fileName]!, matrix: p.matrix, visible: true, color: PLACEMENT_COLOURS[i]! })).id
   }
+  await seedDemoMarkers(s, projectId, sceneId, instanceIds, measurerId)
   s.log.info('seeded the demo project, its scene, and queued its scans')
   return true
+}
+
+/**
+ * The demo's first markers, on station A (placed where it stood): the door's head height, a section through
+ * the wall with its free opening, and the chest's clearance through it kept upright and free to turn. The
+ * riggers of the story ask for 80 mm a side. Written as rows and checked once the scans are processed.
+ */
+async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, instanceIds: Record<string, string>, userId: string): Promise<void> {
+  await updateProject(s.db, projectId, { requiredMargin: 0.08 })
+  const a = instanceIds['west-door-station-A.ply']!
+  const matrixA = DEMO_SCENE.placements.find((p) => p.fileName === 'west-door-station-A.ply')!.matrix
+  const local = (x: number, y: number, z: number) => {
+    const [lx, ly, lz] = transformPoint(invertRigid(matrixA), x, y, z)
+    return { instanceId: a, x: lx, y: ly, z: lz }
+  }
+  const { halfWidth, height, wallThickness } = DOOR
+  const markers: { id: string; revision: number }[] = []
+  const add = async (v: Omit<Parameters<typeof insertMarker>[1], 'sceneId' | 'userId'>) => {
+    const row = await insertMarker(s.db, { ...v, sceneId, userId })
+    markers.push(row)
+    return row.id
+  }
+  await add({ kind: 'distance', label: 'door head height', anchors: [local(0.3, wallThickness / 2, 0), local(0.3, wallThickness / 2, height)], params: {} })
+  // Two points on the yard face either side of the door: a vertical plane along the wall, 0.4 m thick so it
+  // holds the face, the reveal and the threshold.
+  const section = await add({
+    kind: 'section',
+    label: 'west door, free opening',
+    anchors: [local(-halfWidth - 0.3, 0, 1.0), local(halfWidth + 0.3, 0, 1.0)],
+    params: { plane: 'two-points', thickness: 0.4, opening: true },
+  })
+  const chest = instanceIds['chart-chest.ply']!
+  await add({ kind: 'clearance', label: 'chest upright through the door', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section, maxTurnDegrees: 0 } })
+  await add({ kind: 'clearance', label: 'chest, any turn', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section } })
+  s.markerChecks.schedule(markers)
 }

@@ -70,6 +70,7 @@ const GRAZING_COS = 0.1
 
 export const CLEARANCE_ASSUMPTIONS = [
   'The object passes straight along the direction of travel, without turning on the way.',
+  'The object may be turned in the opening plane only as far as the marker allows (any turn unless limited).',
   'The opening is thin: its free outline in this one section holds along the whole passage.',
   'The object is its silhouette along the direction of travel (its convex hull), as scanned.',
   'Islands of points inside the opening smaller than the object are not looked for.',
@@ -101,7 +102,8 @@ function placementOf(ctx: CheckContext, instanceId: string, what: string): { pla
   const placement = ctx.placements.get(instanceId)
   if (!placement) throw new Stop('invalid-geometry', `${what}: its placement is no longer in the scene.`)
   const scan = ctx.scans.get(placement.scanId)
-  if (!scan || scan.status !== 'ready') throw new Stop('invalid-geometry', `${what}: its scan is not ready.`)
+  if (scan && (scan.status === 'queued' || scan.status === 'processing')) throw new Stop('pending', `${what}: its scan "${scan.name}" is still being processed.`)
+  if (!scan || scan.status !== 'ready') throw new Stop('invalid-geometry', `${what}: its scan ${scan ? `"${scan.name}" failed to process` : 'was deleted'}.`)
   return { placement, scan }
 }
 
@@ -490,7 +492,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   ]
   const budget = combineInQuadrature(parts)
   if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)
-  const fit = fitThrough(opening.opening, silhouette, requiredMargin, budget.expanded)
+  const fit = fitThrough(opening.opening, silhouette, requiredMargin, budget.expanded, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
   if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
   const sectionPart = sectionResult(sec, opening)
   const clearance: ClearanceResult = {

@@ -13,6 +13,9 @@ import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, t
  * revision it was computed for (a conditional update), and a check whose marker moved on meanwhile stops at
  * its next cancellation point. Background checks run one at a time, in the order asked.
  */
+/** How soon a check waiting for a scan to finish processing is tried again. */
+const RETRY_MS = 2000
+
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
   private readonly wanted = new Map<string, number>()
@@ -41,6 +44,11 @@ export class MarkerChecker {
       this.log.error({ err, markerId }, 'marker check failed; the marker stays pending')
       return null
     }
+    if (check.state === 'pending') {
+      // A scan it needs is still being processed: try again shortly (nothing is stored meanwhile).
+      this.retrySoon(markerId, row.revision)
+      return check
+    }
     const stored = await storeCheck(this.db, markerId, row.revision, check.state, check)
     if (stored && this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
     return check
@@ -65,6 +73,28 @@ export class MarkerChecker {
   /** Resolves when the background queue is empty (tests, shutdown). */
   async idle(): Promise<void> {
     while (this.running) await this.running
+  }
+
+  private retryTimer: NodeJS.Timeout | null = null
+  private readonly deferred = new Map<string, number>()
+
+  private retrySoon(id: string, revision: number): void {
+    this.deferred.set(id, revision)
+    if (this.retryTimer) return
+    this.retryTimer = setTimeout(() => {
+      this.retryTimer = null
+      const again = [...this.deferred].map(([id, revision]) => ({ id, revision }))
+      this.deferred.clear()
+      this.schedule(again)
+    }, RETRY_MS)
+    this.retryTimer.unref()
+  }
+
+  /** Stops the retry timer (shutdown). */
+  stop(): void {
+    if (this.retryTimer) clearTimeout(this.retryTimer)
+    this.retryTimer = null
+    this.deferred.clear()
   }
 
   private want(id: string, revision: number): void {

@@ -46,6 +46,11 @@ export interface FitOptions {
   fineStepDegrees?: number
   /** Silhouette boundary sample step, metres (default: the opening's cell). */
   sampleStep?: number
+  /**
+   * Keep the object within this many degrees of its scanned orientation (0: as it stands; e.g. a chest that
+   * must stay upright). Turns from -max to +max are searched instead of rangeDegrees.
+   */
+  maxTurnDegrees?: number
 }
 
 export type FitOutcome = 'passes' | 'does-not-pass' | 'too-close-to-call'
@@ -90,8 +95,10 @@ export function fitThrough(
   const coarse = options.coarseStepDegrees ?? 5
   const fine = options.fineStepDegrees ?? 0.5
   const step = options.sampleStep ?? cell
+  const maxTurn = options.maxTurnDegrees
   if (!([range, coarse, fine, step].every((x) => Number.isFinite(x) && x > 0) && range <= 360))
     return { ok: false, reason: 'invalid-options' }
+  if (maxTurn !== undefined && !(Number.isFinite(maxTurn) && maxTurn >= 0 && maxTurn <= 180)) return { ok: false, reason: 'invalid-options' }
   const hull = convexHull(objectOutline)
   if (!hull.ok) return { ok: false, reason: 'degenerate-silhouette' }
   const h = hull.xy, hn = h.length >> 1
@@ -179,11 +186,21 @@ export function fitThrough(
       bestTheta = deg
     }
   }
-  for (let d = 0; d < range - 1e-9; d += coarse) evaluate(d)
+  let lo = -Infinity, hi = Infinity
+  if (maxTurn !== undefined) {
+    lo = -maxTurn
+    hi = maxTurn
+    evaluate(0)
+    for (let d = coarse; d < maxTurn - 1e-9; d += coarse) evaluate(d), evaluate(-d)
+    if (maxTurn > 0) evaluate(maxTurn), evaluate(-maxTurn)
+  } else for (let d = 0; d < range - 1e-9; d += coarse) evaluate(d)
   const centre = bestTheta
-  for (let d = centre - coarse + fine; d < centre + coarse - 1e-9; d += fine) if (Math.abs(d - centre) > 1e-9) evaluate(d)
+  for (let d = centre - coarse + fine; d < centre + coarse - 1e-9; d += fine)
+    if (Math.abs(d - centre) > 1e-9 && d >= lo - 1e-9 && d <= hi + 1e-9) evaluate(d)
 
-  const rot = ((bestTheta % 360) + 360) % 360
+  // Reported in (-180, 180]: a turn either way from the scanned orientation.
+  let rot = ((bestTheta % 360) + 360) % 360
+  if (rot > 180 + 1e-9) rot -= 360
   const a = (bestTheta * Math.PI) / 180, cs = Math.cos(a), sn = Math.sin(a)
   const ti = bestT % nu, tj = (bestT - ti) / nu
   const tu = u0 + (ti + 0.5) * cell, tv = v0 + (tj + 0.5) * cell
@@ -207,7 +224,7 @@ export function fitThrough(
   const outcome = decideFit(margin, U, requiredMargin)
   return {
     ok: true,
-    rotationDegrees: rot >= 360 - 1e-9 ? 0 : rot,
+    rotationDegrees: Math.abs(rot) < 1e-9 || rot >= 360 - 1e-9 ? 0 : rot,
     translation: [tu, tv],
     margin,
     requiredMargin,

@@ -69,6 +69,8 @@ export const ClearanceParams = z
       .min(MARGIN_LIMITS.min, { error: 'must not be negative' })
       .max(MARGIN_LIMITS.max, { error: `must be at most ${MARGIN_LIMITS.max} m` })
       .optional(),
+    /** Degrees either way the object may be turned in the opening's plane (0: as scanned, upright); default any. */
+    maxTurnDegrees: z.number({ error: 'must be a number of degrees' }).min(0, { error: 'must not be negative' }).max(180, { error: 'must be at most 180 degrees' }).optional(),
   })
   .strict()
 export type ClearanceParams = z.infer<typeof ClearanceParams>

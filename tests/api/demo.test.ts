@@ -1,8 +1,8 @@
 // The demo's synthetic scans go through the real upload and ingest path when the demo is seeded.
 import { afterAll, beforeAll, expect, it } from 'vitest'
-import type { Scan } from '@shared/schemas'
+import type { Marker, Scan } from '@shared/schemas'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
-import { CHEST } from '../../server/demo/synth/scene'
+import { CHEST, DOOR } from '../../server/demo/synth/scene'
 import { waitForScan } from '../utils/scans'
 import { startTestServer, type TestServer } from '../utils/server'
 
@@ -41,4 +41,30 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   expect(scene.instanceCount).toBe(3)
   const full = (await guest.get(`/api/scenes/${scene.id}`).expect(200)).body.scene
   expect(full.instances.map((i: { scanName: string }) => i.scanName).sort()).toEqual(scans.map((s) => s.name).sort())
+
+  // The seeded markers are checked once the scans are ready: the invented door's own size (1.40 x 2.10 m),
+  // the chest 1.32 m long: upright 40 mm a side, short of the story's 80 mm; turned on end it passes.
+  const deadline = Date.now() + 60_000
+  let markers: Marker[] = []
+  for (;;) {
+    markers = (await guest.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers
+    if (markers.every((m) => m.check.state !== 'pending') || Date.now() > deadline) break
+    await new Promise((r) => setTimeout(r, 200))
+  }
+  const by = Object.fromEntries(markers.map((m) => [m.label, m]))
+  const head = by['door head height']!
+  expect(head.check.state).toBe('checked')
+  expect(Math.abs(head.check.value! - DOOR.height)).toBeLessThan(head.check.expandedUncertainty! + 0.005)
+  const section = by['west door, free opening']!
+  expect(section.check.state, section.check.reason ?? '').toBe('checked')
+  const opening = section.check.section!.opening!
+  expect(Math.abs(opening.clearWidth - 2 * DOOR.halfWidth)).toBeLessThan(opening.uncertainty.width + 0.01)
+  expect(Math.abs(opening.clearHeight - DOOR.height)).toBeLessThan(opening.uncertainty.height + 0.01)
+  const upright = by['chest upright through the door']!.check
+  expect(upright.state, upright.reason ?? '').toBe('checked')
+  expect(upright.clearance).toMatchObject({ outcome: 'does-not-pass', requiredMargin: 0.08, rotationDegrees: 0 })
+  expect(Math.abs(upright.clearance!.margin - (2 * DOOR.halfWidth - CHEST.length) / 2)).toBeLessThan(upright.expandedUncertainty! + 0.01)
+  const free = by['chest, any turn']!.check.clearance!
+  expect(free.outcome).toBe('passes')
+  expect(Math.abs(Math.abs(free.rotationDegrees) - 90)).toBeLessThan(3)
 })

@@ -14,10 +14,10 @@ let owner: Awaited<ReturnType<typeof signUpAgent>>
 let mentor: Awaited<ReturnType<typeof signUpAgent>>
 let projectId: string
 let sceneId: string
-const placed: Record<string, string> = {}
-const scanIds: Record<string, string> = {}
+const placed = {} as Record<Name, string>
+const scanIds = {} as Record<Name, string>
 /** Where each scan is placed in the scene (x offsets keep the test walls apart). */
-const at: Record<string, [number, number, number]> = {
+const at = {
   wide: [0, 0, 0],
   medium: [5, 0, 0],
   narrow: [10, 0, 0],
@@ -26,7 +26,8 @@ const at: Record<string, [number, number, number]> = {
   drum: [15, -1.5, 0],
   square: [15, -3, 0],
   sparse: [20, 0, 0],
-}
+} satisfies Record<string, [number, number, number]>
+type Name = keyof typeof at
 const ENTERED_U = 0.001
 
 function sparseLine(): SurfaceSampler {
@@ -41,10 +42,10 @@ async function post(body: object, agent = owner.agent, status = 201): Promise<Ma
   return res.body.marker
 }
 
-const anchor = (name: string, x: number, y: number, z: number) => ({ instanceId: placed[name]!, x: x + at[name]![0], y: y + at[name]![1], z: z + at[name]![2] })
+const anchor = (name: Name, x: number, y: number, z: number) => ({ instanceId: placed[name]!, x: x + at[name]![0], y: y + at[name]![1], z: z + at[name]![2] })
 
 /** A section across an opening: two points on the jambs at 1 m, a 0.1 m slab, with its free opening. */
-const openingSection = (name: string, halfWidth: number) =>
+const openingSection = (name: Name, halfWidth: number) =>
   post({ kind: 'section', anchors: [anchor(name, -halfWidth, 0, 1), anchor(name, halfWidth, 0, 1)], params: { plane: 'two-points', thickness: 0.1, opening: true } })
 
 async function waitChecked(id: string, revisionAbove: number): Promise<Marker> {
@@ -63,7 +64,7 @@ beforeAll(async () => {
   mentor = await signUpAgent(t, 'Marker Mentor')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Markers' }).expect(201)).body.project.id
   await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
-  const solids: Record<string, SurfaceSampler> = {
+  const solids: Record<Name, SurfaceSampler> = {
     wide: wallWithOpening({ width: 1.4, height: 2.1, seed: 1 }),
     medium: wallWithOpening({ width: 0.9, height: 2.1, seed: 2 }),
     narrow: wallWithOpening({ width: 0.7, height: 2.1, seed: 3 }),
@@ -73,17 +74,17 @@ beforeAll(async () => {
     square: boxSolid(1.3, 0.4, 1.3, 0.01, 0.001, 9),
     sparse: sparseLine(),
   }
-  for (const [name, solid] of Object.entries(solids)) {
+  for (const [name, solid] of Object.entries(solids) as [Name, SurfaceSampler][]) {
     scanIds[name] = (await upload(owner.agent, projectId, solid.ply(), `${name}.ply`).expect(202)).body.scan.id
   }
-  for (const name of Object.keys(solids)) {
+  for (const name of Object.keys(solids) as Name[]) {
     const { scan } = await waitForScan(owner.agent, scanIds[name]!, undefined, 120_000)
     expect(scan.status, `${name}: ${scan.error}`).toBe('ready')
     // A stated point uncertainty, so the budget's point part is known exactly.
     await owner.agent.patch(`/api/scans/${scanIds[name]}`).send({ enteredUncertainty: ENTERED_U }).expect(200)
   }
   sceneId = (await owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Test openings' }).expect(201)).body.scene.id
-  for (const name of Object.keys(solids)) {
+  for (const name of Object.keys(solids) as Name[]) {
     const matrix = new Matrix4().makeTranslation(...at[name]!).elements
     placed[name] = (await owner.agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scanIds[name], matrix }).expect(201)).body.instance.id
   }
@@ -202,7 +203,7 @@ describe('clearances', () => {
     arch = await openingSection('arch', 0.7)
   }, 60_000)
 
-  const clearance = (object: string, section: Marker, requiredMargin?: number) =>
+  const clearance = (object: Name, section: Marker, requiredMargin?: number) =>
     post({ kind: 'clearance', params: { objectInstanceId: placed[object], sectionMarkerId: section.id, ...(requiredMargin === undefined ? {} : { requiredMargin }) } })
 
   it('passes a 1.0 x 0.8 m box through a 1.4 x 2.1 m doorway, best stood on its end with 0.3 m either side', async () => {

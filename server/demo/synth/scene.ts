@@ -40,6 +40,7 @@ export function doorSurfaces(): Surface[] {
     rect(0, -w, [0, 0], [d, h]), // left jamb
     rect(0, w, [0, 0], [d, h]), // right jamb
     rect(2, h, [-w, 0], [w, d]), // head (soffit)
+    rect(2, 0, [-w, 0], [w, d], stone), // threshold
     rect(1, 7, [-5, 0], [5, 4.5]), // gallery's far wall
     rect(0, -5, [d, 0], [7, 4.5]), // gallery side walls
     rect(0, 5, [d, 0], [7, 4.5]),

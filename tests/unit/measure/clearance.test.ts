@@ -59,6 +59,14 @@ describe('fit through an opening', () => {
     expect(f.outcome).toBe('passes')
     const upright = fitThrough(o, box(1.9, 0.8, 0, 0), 0.02, 0.01, { rangeDegrees: 1, coarseStepDegrees: 1, fineStepDegrees: 1 })
     expect(upright.ok && upright.outcome).toBe('does-not-pass')
+    // Held within 30 degrees of upright: a 1.9 x 0.8 box turned by t needs 1.9 cos t + 0.8 sin t of width,
+    // at least 1.9 cos 30 + 0.8 sin 30 = 2.05 m > 1.0 m (derived): it cannot pass; the search stays in range.
+    const held = fitThrough(o, box(1.9, 0.8, 0, 0), 0.02, 0.01, { maxTurnDegrees: 30 })
+    expect(held.ok && held.outcome).toBe('does-not-pass')
+    expect(held.ok && Math.abs(held.rotationDegrees)).toBeLessThanOrEqual(30)
+    const still = fitThrough(o, box(1.9, 0.8, 0, 0), 0.02, 0.01, { maxTurnDegrees: 0 })
+    expect(still.ok && still.rotationDegrees).toBe(0)
+    expect(fitThrough(o, box(1.9, 0.8, 0, 0), 0.02, 0.01, { maxTurnDegrees: -1 })).toEqual({ ok: false, reason: 'invalid-options' })
   })
 
   it('a disc of radius 0.65 passes an arch where its bounding square 1.3 x 1.3 does not', () => {
