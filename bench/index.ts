@@ -1,6 +1,7 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
 // DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
 import { formatIngestBench, runIngestBench } from './ingest'
+import { formatMarkerBench, runMarkerBench } from './markers'
 import { runOctreeBench } from './octree'
 import { formatParseBench, runParseBench } from './parse'
 import { formatViewerBench, runViewerBench } from './viewer'
@@ -12,6 +13,10 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
+/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers). */
+const onlyAt = process.argv.indexOf('--only')
+const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
+const wanted = (name: string) => !only || only.has(name)
 const log = (l: string) => process.stderr.write(`${l}\n`)
 const out: string[] = []
 const section = (title: string, body: string) => {
@@ -19,13 +24,13 @@ const section = (title: string, body: string) => {
   process.stdout.write(`\n## ${title}\n\n${body}\n`)
 }
 
-section('Parse (targets: binary PLY and LAS >= 15 M points/s, >= 10x three PLYLoader)', formatParseBench(runParseBench(s, log)))
-const octree = await runOctreeBench(s)
-section(
+if (wanted('parse')) section('Parse (targets: binary PLY and LAS >= 15 M points/s, >= 10x three PLYLoader)', formatParseBench(runParseBench(s, log)))
+if (wanted('octree')) section(
   'Octree, tiles, statistics, nearest point (in memory; target: anchor check p99 < 5 ms warm, < 50 ms cold)',
-  octree
+  (await runOctreeBench(s))
     .map((r) => `${r.points / 1e6} M: build ${r.buildMs.toFixed(0)} ms, encode ${r.encodeMs.toFixed(0)} ms, spacing ${r.spacingMs.toFixed(0)} ms, uncertainty ${r.uncertaintyMs.toFixed(0)} ms; nearest cold p50/p99 ${r.coldP50Ms.toFixed(2)}/${r.coldP99Ms.toFixed(2)} ms, warm ${r.warmP50Ms.toFixed(3)}/${r.warmP99Ms.toFixed(3)} ms; peak RSS ${r.peakRssBuildMB.toFixed(0)} MB`)
     .join('\n'),
 )
-section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
-section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
+if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
+if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
+if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))

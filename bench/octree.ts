@@ -21,6 +21,7 @@ import { estimatePointUncertainty } from '../server/points/stats/pointUncertaint
 import { estimateSpacing } from '../server/points/stats/spacing'
 import { createRandom, gaussian } from '../server/points/stats/random'
 import { syntheticScan } from './lib/roomScan'
+import { percentile } from './lib/stats'
 
 export interface OctreeBenchRow {
   points: number
@@ -47,10 +48,6 @@ export interface OctreeBenchRow {
 
 const peakRssMB = () => process.resourceUsage().maxRSS / 1024
 
-function percentile(values: number[], p: number): number {
-  const sorted = [...values].sort((a, b) => a - b)
-  return sorted[Math.min(sorted.length - 1, Math.floor((p / 100) * sorted.length))]!
-}
 
 function time<T>(run: () => T): [T, number] {
   const start = performance.now()

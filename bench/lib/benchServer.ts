@@ -35,7 +35,7 @@ export async function startBenchServer(): Promise<BenchServer> {
     ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none', ...(process.env.LOG_LEVEL ? { LOG_LEVEL: process.env.LOG_LEVEL } : {}) }),
     uploads: { limitBytes: 4 * 1024 ** 3, lazLimitBytes: 512 * 1024 ** 2 },
   }
-  const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
+  const server = await SpanmarkServer.start(config, pino({ level: process.env.LOG_LEVEL ?? 'silent' }))
   const url = server.url
   const json = { 'content-type': 'application/json', Origin: url }
   const email = `bench-${Date.now()}@spanmark.example`
@@ -58,8 +58,11 @@ export async function startBenchServer(): Promise<BenchServer> {
     async ingest(file) {
       const form = new FormData()
       form.append('file', await fs.openAsBlob(file), path.basename(file))
-      const t0 = performance.now()
-      const res = await fetch(`${url}/api/projects/${project.project.id}/scans`, { method: 'POST', headers, body: form })
+      // A keep-alive socket the server closed while the file was being written fails the first write
+      // (ECONNRESET before any answer); the upload is then simply sent again on a new connection.
+      const send = () => fetch(`${url}/api/projects/${project.project.id}/scans`, { method: 'POST', headers, body: form })
+      let t0 = performance.now()
+      const res = await send().catch(() => ((t0 = performance.now()), send()))
       const t1 = performance.now()
       const { scan } = (await res.json()) as { scan: { id: string } }
       for (;;) {

@@ -17,6 +17,8 @@ export function createLimiters(limits: Config['rateLimits']): Record<LimiterName
       limit: limits[name].limit,
       standardHeaders: 'draft-8',
       legacyHeaders: false,
+      // Sign-in counts failed attempts only (password guessing), so a team signing in from one address is not locked out.
+      skipSuccessfulRequests: name === 'signIn',
       handler: (_req, res, _next, options) => {
         const minutes = Math.ceil(options.windowMs / 60_000)
         res.status(429).json({

@@ -73,6 +73,11 @@ export class ScanIndexRegistry implements ScanIndexes {
     return out.array()
   }
 
+  /** Tile cache figures of a scan's index (the bench). */
+  async cacheStats(scanId: string) {
+    return (await this.index(scanId)).cacheStats
+  }
+
   /** Drops every cached tile (the bench's cold runs). */
   async clearCaches(): Promise<void> {
     for (const index of this.indexes.values()) (await index.catch(() => null))?.clearCache()

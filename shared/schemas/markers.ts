@@ -154,6 +154,7 @@ export const SectionResult = z.object({
       clearWidthAtV: z.number(),
       clearHeight: z.number(),
       clearHeightAtU: z.number(),
+      /** Expanded uncertainties (k = 2) of the clear width and height, metres; parts are standard uncertainties. */
       uncertainty: z.object({ width: z.number(), height: z.number(), parts: z.array(CheckPart) }),
       resolution: z.number(),
       method: z.string(),
@@ -187,7 +188,7 @@ export const Check = z.object({
   state: z.enum(CHECK_STATES),
   /** Why, in words, when the state is not checked (or a note on a checked value). */
   reason: z.string().nullable(),
-  /** Metres, degrees for an angle; a section's value is its clear width when it has an opening, else its area (m2). */
+  /** A clearance's check also carries its section (for the figure). Metres, degrees for an angle; a section's value is its clear width when it has an opening, else its area (m2). */
   value: z.number().nullable(),
   unit: z.enum(['m', 'deg', 'm2']).nullable(),
   standardUncertainty: z.number().nullable(),
@@ -196,6 +197,7 @@ export const Check = z.object({
   parts: z.array(CheckPart),
   anchors: z.array(CheckedAnchor),
   distance: z
+    /** Components of B - A; uHorizontal and uVertical are standard uncertainties (k = 1), metres. */
     .object({ dx: z.number(), dy: z.number(), dz: z.number(), horizontal: z.number(), vertical: z.number(), uHorizontal: z.number().nullable(), uVertical: z.number() })
     .nullable(),
   angle: z.object({ nearBound: z.boolean() }).nullable(),
