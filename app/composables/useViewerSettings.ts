@@ -1,5 +1,5 @@
 import { reactive, watch } from 'vue'
-import { LENGTH_UNITS, type LengthUnit } from '@/lib/units'
+import { LENGTH_UNITS, type LengthUnit } from '@shared/format/units'
 import { DEFAULT_POINT_BUDGET, MAX_POINT_BUDGET, MIN_POINT_BUDGET } from '@/viewer/PointViewer'
 import type { ColorMode } from '@/viewer/types'
 

@@ -1,6 +1,7 @@
 /**
  * Spanmark's scene viewer: several placements of scanned points at true scale, streamed level of detail,
- * picking of stored points, a gizmo for placing, a section slab with a head-on profile view, and walking.
+ * picking of stored points, a gizmo for placing, a section slab with a head-on profile view, walking, and the
+ * scene's markers drawn over the points (markerLayer.ts).
  *
  * Frames: scene frame in metres, right-handed, Z up (camera.up = +Z). On the GPU everything is in the render
  * frame = scene frame minus the render origin (float64, fixed once: the centre of the first placement whose
@@ -17,6 +18,7 @@ import type { DecodedTile } from '@shared/points/tileFormat'
 import { transformPoint } from '@shared/geometry/rigidTransform'
 import { Emitter } from './emitter'
 import { FloorGrid } from './floorGrid'
+import { MarkerLayer, type MarkerView } from './markerLayer'
 import { selectNodes, type LodTree } from './lodSelect'
 import { pickPoint, type PickHit, type PickTarget } from './picking'
 import { COLOR_MODE_INDEX } from './pointMaterial'
@@ -106,6 +108,7 @@ export class PointViewer {
   private grid = new FloorGrid()
   private slabOutline = new SlabOutline()
   private marks: Record<MarkKind, SceneMark>
+  private markerLayer: MarkerLayer
   private cache: TileCache
   private requests: TileRequests
   private instances = new Map<string, ViewInstance>()
@@ -189,6 +192,13 @@ export class PointViewer {
 
     this.scene.add(this.grid.object, this.content, this.slabOutline.object, this.gizmo.getHelper())
     for (const mark of Object.values(this.marks)) this.scene.add(mark.object)
+    this.markerLayer = new MarkerLayer(container, {
+      pixelRatio: this.pixelRatio,
+      toRender: (p) => this.sceneToRender(p),
+      onSelect: (markerId) => this.emitter.emit('marker-select', markerId),
+      requestRender: this.requestRender,
+    })
+    this.scene.add(this.markerLayer.object)
 
     this.cache = new TileCache(options.cacheBytes ?? DEFAULT_CACHE_BYTES)
     this.requests = new TileRequests(this.source, options.maxRequests ?? DEFAULT_MAX_REQUESTS, this.onTileLoaded, this.onTileFailed)
@@ -280,6 +290,37 @@ export class PointViewer {
   setMark(kind: 'section' | 'pick', point: Vec3 | null): void {
     this.marks[kind].place(point && this.origin ? this.sceneToRender(point) : null)
     this.needsRender = true
+  }
+
+  /** Draws exactly these markers (scene frame); see markerLayer.ts. */
+  setMarkers(views: readonly MarkerView[]): void {
+    this.markerLayer.setMarkers(views)
+    this.needsRender = true
+  }
+
+  /** The marker being placed (dashed, with its preview value), or null. */
+  setMarkerPreview(view: MarkerView | null): void {
+    this.markerLayer.setPreview(view)
+    this.needsRender = true
+  }
+
+  /** Highlights one marker (its strokes wider, its label ringed), or none. */
+  setSelectedMarker(markerId: string | null): void {
+    this.markerLayer.setSelected(markerId)
+    this.needsRender = true
+  }
+
+  /**
+   * Clicks where a scene-frame point shows on screen: the same pick (and `pick` event) as a click there.
+   * For browser tests, which know points by coordinates rather than by pixel. Null when it is off screen or
+   * no drawn point lies within the pick tolerance of its image.
+   */
+  async pickScenePoint(point: Vec3): Promise<PickResult | null> {
+    const px = this.project(...point)
+    if (!px || px.x < 0 || px.y < 0 || px.x > this.width || px.y > this.height) return null
+    const result = await this.pickAt(px.x, px.y)
+    if (result && !this.disposed) this.emitter.emit('pick', result)
+    return result
   }
 
   frameAll(): void {
@@ -510,6 +551,7 @@ export class PointViewer {
     this.cache.dispose()
     this.grid.dispose()
     this.slabOutline.dispose()
+    this.markerLayer.dispose()
     for (const mark of Object.values(this.marks)) mark.dispose()
     this.emitter.clear()
     this.renderer.dispose()
@@ -532,6 +574,7 @@ export class PointViewer {
   private render(): void {
     this.needsRender = false
     this.renderer.render(this.scene, this.camera())
+    this.markerLayer.render(this.camera())
     this.frames++
     if (this.firstFrameMs === null && this.pointsDrawn > 0) this.firstFrameMs = performance.now() - this.createdAt
   }
@@ -594,6 +637,7 @@ export class PointViewer {
     this.width = width
     this.height = height
     this.renderer.setSize(width, height)
+    this.markerLayer.setSize(width, height)
     this.perspective.aspect = width / height
     this.perspective.updateProjectionMatrix()
     if (this.ortho) {
@@ -672,7 +716,10 @@ export class PointViewer {
     inst.message = record.message
     if (record.tree && inst.tree !== record.tree) {
       inst.setTree(record.tree)
-      if (!this.origin) this.origin = inst.sceneCentre()
+      if (!this.origin) {
+        this.origin = inst.sceneCentre()
+        this.markerLayer.originKnown()
+      }
     }
     const u = inst.material.uniforms
     u.uPointSize.value = this.pointSize * this.pixelRatio

@@ -86,4 +86,6 @@ export interface ViewerEvents {
   'placement-change': { instanceId: string; matrix: number[]; final: boolean }
   'walk-change': boolean
   'profile-change': boolean
+  /** A marker's label was clicked: its id. */
+  'marker-select': string
 }

@@ -20,7 +20,7 @@ export type Anchor = z.infer<typeof Anchor>
 const MarkerLabel = z.string({ error: 'must be text' }).trim().min(1, { error: 'must not be empty' }).max(80, { error: 'must be at most 80 characters' })
 
 /** Slab thickness limits, metres. */
-export const SECTION_THICKNESS = { min: 0.002, max: 1, default: 0.05 } as const
+export const SECTION_THICKNESS = { min: 0.002, max: 1, default: 0.1 } as const
 /** Required-margin limits, metres. */
 export const MARGIN_LIMITS = { min: 0, max: 2 } as const
 /** Anchor tolerance limits, metres (a project may set its own; otherwise max(3 x spacing, 5 mm)). */

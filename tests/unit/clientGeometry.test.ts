@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest'
 import { Euler, Matrix4 } from 'three'
 import { rigidProblem } from '@shared/geometry/rigidTransform'
 import { matrixOfPose, poseOfMatrix } from '@/lib/placementPose'
-import { feetInches, parseLength } from '@/lib/units'
+import { feetInches, parseLength } from '@shared/format/units'
 
 describe('feet and inches', () => {
   it('writes exact lengths to the sixteenth of an inch', () => {

@@ -45,6 +45,14 @@ export const ICONS = {
   slide: ['M8 2.5v11M2.5 8h11', 'M6.4 4.1L8 2.5l1.6 1.6', 'M6.4 11.9L8 13.5l1.6-1.6', 'M4.1 6.4L2.5 8l1.6 1.6', 'M11.9 6.4L13.5 8l-1.6 1.6'],
   turn: ['M13 8.4A5 5 0 1 1 11.1 4.3', 'M11.6 1.8l-.5 2.6 2.6.4'],
   help: ['M8 14A6 6 0 1 0 8 2a6 6 0 0 0 0 12z', 'M6.3 6.3a1.8 1.8 0 1 1 2.5 1.6c-.5.3-.8.7-.8 1.2v.3', 'M8 11.4v.2'],
+  // Marker kinds (drawn for Spanmark): two ends with the line between and end ticks; two arms from a vertex with
+  // the arc between; a wall cut open round a doorway; an object held between two jambs with its gaps marked.
+  kindDistance: ['M4 12L12 4', 'M2.4 10.4l3.2 3.2', 'M10.4 2.4l3.2 3.2'],
+  kindAngle: ['M2.5 13h11', 'M2.5 13L10 3.5', 'M7 13A4.5 4.5 0 0 0 5.3 9.5'],
+  kindSection: ['M2.5 13.5V4.5l2.5-2h6l2.5 2v9', 'M6 13.5V8.5h4v5', 'M1.5 13.5h13'],
+  kindClearance: ['M2.5 2.5v11M13.5 2.5v11', 'M5.8 5.5h4.4v5H5.8z', 'M3.5 8h1.3M11.2 8h1.3'],
+  /** Parts of a value: a stack of unequal bars. */
+  parts: ['M2.5 4h11', 'M2.5 8h7', 'M2.5 12h4.5'],
 } as const
 
 export type IconName = keyof typeof ICONS

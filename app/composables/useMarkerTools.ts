@@ -1,0 +1,290 @@
+import { computed, onBeforeUnmount, onMounted, reactive, ref, toValue, watch, type MaybeRefOrGetter, type Ref, type ShallowRef } from 'vue'
+import { SECTION_THICKNESS, type Instance, type Marker, type MarkerCreateBody, type Scan } from '@shared/schemas'
+import { anchorBudget } from '@shared/measure/uncertainty'
+import type { LengthUnit } from '@shared/format/units'
+import { ApiError } from '@/api/http'
+import { markerView, previewView } from '@/components/viewer/markerViews'
+import {
+  addPick,
+  anchorsNeeded,
+  angleBody,
+  clearanceBody,
+  distanceBody,
+  placingHint,
+  previewText,
+  sectionBody,
+  sectionProblem,
+  type ClearanceOptions,
+  type Picked,
+  type SectionClicks,
+} from '@/components/viewer/markerPlacing'
+import { MARKER_TOOL_KIND, isMarkerTool, type MarkerTool, type ViewerTool } from '@/components/viewer/viewerTools'
+import type { PointViewer } from '@/viewer/PointViewer'
+import type { PickResult, Vec3 } from '@/viewer/types'
+
+export interface MarkerToolsOptions {
+  tool: Ref<ViewerTool | null>
+  viewer: ShallowRef<PointViewer | null>
+  /** Where a click would land now (the viewer's throttled hover), for the live preview. */
+  hover: ShallowRef<PickResult | null>
+  unit: Readonly<Ref<LengthUnit>>
+  /** A placement's per-coordinate standard uncertainty of one picked point, metres (for the preview only). */
+  uncertaintyOf: (instanceId: string) => number
+  /** Saves a marker; the server answers after its check. */
+  create: (body: MarkerCreateBody) => Promise<Marker>
+  onCreated: (marker: Marker) => void
+}
+
+const KIND_WORD: Record<MarkerTool, string> = { distance: 'distance', angle: 'angle', 'section-marker': 'section', clearance: 'clearance' }
+
+function problemText(error: unknown): string {
+  if (error instanceof ApiError) return error.message
+  return error instanceof Error ? error.message : String(error)
+}
+
+/**
+ * Placing markers by clicks on the points: distance (two clicks), angle (arm, vertex, arm), section (two or
+ * three clicks, then its panel), clearance (a panel only). Shows what to click next and a live preview of
+ * the value (shared/measure with each scan's uncertainty; the server's check is the value that counts),
+ * saves through `create`, and cancels on Esc.
+ */
+export function useMarkerTools(options: MarkerToolsOptions) {
+  const { tool, viewer, hover, unit } = options
+  const picks = ref<Picked[]>([])
+  const saving = ref(false)
+  const error = ref<string | null>(null)
+  const section = reactive<{ plane: SectionClicks; thickness: number; opening: boolean }>({
+    plane: 'two-points',
+    thickness: SECTION_THICKNESS.default,
+    opening: true,
+  })
+
+  const markerTool = computed<MarkerTool | null>(() => (isMarkerTool(tool.value) ? tool.value : null))
+  const needed = computed(() => (markerTool.value ? anchorsNeeded(markerTool.value, section.plane) : 0))
+  const hint = computed(() => {
+    const t = markerTool.value
+    if (!t) return ''
+    if (saving.value) return `Saving the ${KIND_WORD[t]}; the server checks it against the stored points…`
+    return placingHint(t, picks.value.length, section.plane)
+  })
+  const sectionReady = computed(() => markerTool.value === 'section-marker' && picks.value.length === needed.value)
+  const sectionIssue = computed(() => (markerTool.value === 'section-marker' ? sectionProblem(picks.value, section.plane) : null))
+
+  /** The picks so far, and the cursor while more are needed. */
+  const previewPoints = computed<{ points: Vec3[]; u: number[] }>(() => {
+    const list = picks.value.map((p) => ({ point: p.point, instanceId: p.instanceId }))
+    const h = hover.value
+    if (h && list.length > 0 && list.length < needed.value && !saving.value) list.push({ point: h.point, instanceId: h.instanceId })
+    return { points: list.map((p) => p.point), u: list.map((p) => options.uncertaintyOf(p.instanceId)) }
+  })
+  const preview = computed(() => {
+    const t = markerTool.value
+    if (!t) return null
+    return previewText(t, previewPoints.value.points, previewPoints.value.u, unit.value)
+  })
+
+  watch(
+    [markerTool, previewPoints, preview, viewer],
+    ([t, { points }, text, v]) => v?.setMarkerPreview(t && t !== 'clearance' ? previewView(MARKER_TOOL_KIND[t], points, text) : null),
+    { immediate: true },
+  )
+
+  /** The viewer's pick mark goes too: once a marker draws its own dots, a lone ochre disc reads as one more point. */
+  function cancel(): void {
+    if (picks.value.length) viewer.value?.clearPick()
+    picks.value = []
+    error.value = null
+  }
+
+  watch(markerTool, cancel)
+  watch(
+    () => section.plane,
+    () => (picks.value = []),
+  )
+
+  async function save(body: MarkerCreateBody): Promise<Marker | null> {
+    saving.value = true
+    error.value = null
+    try {
+      const marker = await options.create(body)
+      picks.value = []
+      viewer.value?.clearPick()
+      options.onCreated(marker)
+      return marker
+    } catch (e) {
+      error.value = problemText(e)
+      return null
+    } finally {
+      saving.value = false
+    }
+  }
+
+  function takePick(pick: PickResult): void {
+    const t = markerTool.value
+    if (!t || t === 'clearance' || saving.value) return
+    error.value = null
+    picks.value = addPick(picks.value, { instanceId: pick.instanceId, point: pick.point }, needed.value)
+    if (picks.value.length < needed.value) return
+    if (t === 'distance') void save(distanceBody(picks.value))
+    else if (t === 'angle') void save(angleBody(picks.value))
+    // A section waits for its panel's "Create section".
+  }
+
+  async function createSection(): Promise<Marker | null> {
+    if (!sectionReady.value || sectionIssue.value) return null
+    return save(sectionBody(picks.value, { plane: section.plane, thickness: section.thickness, opening: section.opening }))
+  }
+
+  function createClearance(input: ClearanceOptions): Promise<Marker | null> {
+    return save(clearanceBody(input))
+  }
+
+  function onKey(event: KeyboardEvent): void {
+    if (event.key !== 'Escape' || !markerTool.value) return
+    const el = event.target as HTMLElement | null
+    if (el && (el.tagName === 'INPUT' || el.tagName === 'SELECT' || el.tagName === 'TEXTAREA')) return
+    if (picks.value.length > 0 || error.value) cancel()
+  }
+  onMounted(() => window.addEventListener('keydown', onKey))
+  onBeforeUnmount(() => {
+    window.removeEventListener('keydown', onKey)
+    viewer.value?.setMarkerPreview(null)
+  })
+
+  return {
+    markerTool,
+    picks,
+    needed,
+    hint,
+    preview,
+    saving,
+    error,
+    section,
+    sectionReady,
+    sectionIssue,
+    takePick,
+    cancel,
+    createSection,
+    createClearance,
+  }
+}
+
+/**
+ * The scene's markers in the viewport: drawn in the reader's unit, the selected one highlighted, and a click
+ * on a label selects its marker.
+ */
+export function useMarkerToolDrawing(viewer: ShallowRef<PointViewer | null>, markers: Ref<Marker[]>, unit: Readonly<Ref<LengthUnit>>, selectedId: Ref<string | null>) {
+  watch(
+    [viewer, markers, unit],
+    ([v, list, u]) => v?.setMarkers(list.map((m) => markerView(m, u))),
+    { immediate: true },
+  )
+  watch([viewer, selectedId], ([v, id]) => v?.setSelectedMarker(id), { immediate: true })
+  watch(
+    viewer,
+    (v, _old, onCleanup) => {
+      if (!v) return
+      onCleanup(v.on('marker-select', (id) => (selectedId.value = id)))
+    },
+    { immediate: true },
+  )
+}
+
+/** What browser tests read and do, beside `window.__spanmark.viewer`. */
+export interface SpanmarkMarkersHook {
+  count(): number
+  list(): { id: string; kind: string; label: string; state: string; value: number | null; expandedUncertainty: number | null; outcome: string | null }[]
+  selected(): string | null
+  /** Clicks where a scene-frame point shows (the pick goes to the active tool, as a click would). */
+  pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number; instanceId: string } | null>
+}
+
+type HookWindow = { __spanmark?: Record<string, unknown> }
+
+/** Installs `window.__spanmark.markers` while the scene page is mounted. */
+export function useMarkerToolTestHook(viewer: ShallowRef<PointViewer | null>, markers: Ref<Marker[]>, selectedId: Ref<string | null>) {
+  const w = window as unknown as HookWindow
+  const hook: SpanmarkMarkersHook = {
+    count: () => markers.value.length,
+    list: () =>
+      markers.value.map((m) => ({
+        id: m.id,
+        kind: m.kind,
+        label: m.label,
+        state: m.check.state,
+        value: m.check.value,
+        expandedUncertainty: m.check.expandedUncertainty,
+        outcome: m.check.clearance?.outcome ?? null,
+      })),
+    selected: () => selectedId.value,
+    pick: async (x, y, z) => {
+      const p = await viewer.value?.pickScenePoint([x, y, z])
+      return p ? { x: p.point[0], y: p.point[1], z: p.point[2], instanceId: p.instanceId } : null
+    },
+  }
+  onMounted(() => {
+    w.__spanmark = { ...w.__spanmark, markers: hook }
+  })
+  onBeforeUnmount(() => {
+    if (!w.__spanmark) return
+    delete w.__spanmark.markers
+    if (Object.keys(w.__spanmark).length === 0) delete w.__spanmark
+  })
+}
+
+const DRAWER_KEY = 'spanmark.scene.markersDrawer'
+/** CSS pixels: the placements rail (272) and the drawer (440) leave about 700 for the viewport. */
+export const DRAWER_OPEN_MIN_WIDTH = 1400
+
+/**
+ * Whether the markers drawer is open: as the reader last left it; on a first visit, open only where the window
+ * leaves the viewport room beside the rail and the drawer (below that it opens when a marker is made).
+ */
+export function useMarkerToolDrawer(): Ref<boolean> {
+  let start = window.innerWidth >= DRAWER_OPEN_MIN_WIDTH
+  try {
+    const saved = localStorage.getItem(DRAWER_KEY)
+    if (saved === 'open' || saved === 'folded') start = saved === 'open'
+  } catch {
+    // Storage refused: the window's width decides.
+  }
+  const open = ref(start)
+  watch(open, (on) => {
+    try {
+      localStorage.setItem(DRAWER_KEY, on ? 'open' : 'folded')
+    } catch {
+      // Private windows may refuse storage; the drawer still opens and folds for this visit.
+    }
+  })
+  return open
+}
+
+/** What the marker tools need to know of the scans behind the placements. */
+export function useMarkerToolScans(
+  placements: MaybeRefOrGetter<Instance[]>,
+  scans: MaybeRefOrGetter<Scan[] | undefined>,
+  selectedPlacementId: MaybeRefOrGetter<string | null>,
+) {
+  const scanOf = (instanceId: string) => {
+    const scanId = toValue(placements).find((p) => p.id === instanceId)?.scanId
+    return toValue(scans)?.find((s) => s.id === scanId)
+  }
+  return {
+    /** Per-coordinate standard uncertainty of a point picked on a placement, metres (the preview's; the server's check counts). */
+    uncertaintyOf(instanceId: string): number {
+      const scan = scanOf(instanceId)
+      const budget = anchorBudget({ point: scan?.pointUncertainty ?? 0, spacing: scan?.spacing ?? 0 })
+      return budget.ok ? budget.total : 0
+    },
+    /** The clearance tool's first guess at the object: the placement selected in the rail, else the smallest scan. */
+    likelyObjectId: computed(() => {
+      const selected = toValue(selectedPlacementId)
+      if (selected) return selected
+      const size = (p: Instance) => {
+        const b = scanOf(p.id)?.bounds
+        return b ? (b.max[0] - b.min[0]) * (b.max[1] - b.min[1]) * (b.max[2] - b.min[2]) : Infinity
+      }
+      return [...toValue(placements)].sort((a, b) => size(a) - size(b))[0]?.id ?? null
+    }),
+  }
+}

@@ -1,0 +1,101 @@
+// Markers in Chromium on the seeded demo scene: a measurer places a distance with the D tool and a clearance
+// through the seeded door section with the C tool, and the values the page shows are the API's. The demo's
+// geometry is invented (server/demo/synth/scene.ts); the reference here is the API's own answer, and for the
+// distance also the invented door's dimensions.
+import fs from 'node:fs'
+import { afterAll, beforeAll, expect, it } from 'vitest'
+import type { Browser } from 'playwright-core'
+import type { Marker, Scene } from '@shared/schemas'
+import { formatWithUncertainty } from '@shared/format/units'
+import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
+import { DOOR } from '../../server/demo/synth/scene'
+import { launchBrowser, shot, watchConsole } from '../utils/browser'
+import { waitForScan } from '../utils/scans'
+import { startTestServer, type TestServer } from '../utils/server'
+
+let t: TestServer
+let browser: Browser
+let scene: Scene
+let projectId: string
+type Hook = {
+  __spanmark: {
+    viewer: { stats(): { firstFrameMs: number | null; tilesPending: number } }
+    markers: { count(): number; list(): { id: string; kind: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number } | null> }
+  }
+}
+
+beforeAll(async () => {
+  if (!fs.existsSync('dist/index.html')) throw new Error('browser tests need the client build: run them through `npm test`')
+  t = await startTestServer({ seedDemo: true }, { WORKER: 'spawn' })
+  browser = await launchBrowser()
+  const agent = t.agent()
+  await agent.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS[1]!.email, password: DEMO_PASSWORD }).expect(200)
+  projectId = (await agent.get('/api/projects').expect(200)).body.projects[0].id
+  const sceneId = (await agent.get(`/api/projects/${projectId}/scenes`).expect(200)).body.scenes[0].id
+  scene = (await agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene
+  for (const i of scene.instances) await waitForScan(agent, i.scanId, undefined, 100_000, 200)
+}, 150_000)
+afterAll(async () => {
+  await browser?.close()
+  await t?.stop()
+})
+
+it('places a distance and a clearance, and shows the values the server computed', { timeout: 120_000 }, async () => {
+  const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
+  const page = await context.newPage()
+  const problems = watchConsole(page)
+  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
+  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email)
+  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
+  await page.getByTestId('sign-in-submit').click()
+  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
+  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
+  // The seeded markers are checked once the scans are ready.
+  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 30_000 })
+  const seeded = await page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
+
+  // Distance: the D tool, two picks on station A's side of the door: the right jamb and the wall face beside it.
+  await page.keyboard.press('d')
+  const pick = (p: [number, number, number]) => page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.markers.pick(x, y, z), p)
+  const a = await pick([DOOR.halfWidth, DOOR.wallThickness / 2, 1.0])
+  const b = await pick([DOOR.halfWidth + 0.8, 0, 1.0])
+  expect(a && b, 'both picks land on stored points').toBeTruthy()
+  await page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length > n, 1, { timeout: 20_000 })
+  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 20_000 })
+  const list = async () => ((await (await page.request.get(`${t.url}/api/scenes/${scene.id}/markers`)).json()) as { markers: Marker[] }).markers
+  const markers = await list()
+  expect(markers).toHaveLength(seeded + 1)
+  const distance = markers.at(-1)!
+  expect(distance.kind).toBe('distance')
+  expect(distance.check.state).toBe('checked')
+  // The invented wall: jamb face at x = 0.70, face y = 0; the picks were 0.8 m apart in x and 0.15 m in y.
+  expect(distance.check.value!).toBeGreaterThan(0.75)
+  expect(distance.check.value!).toBeLessThan(0.88)
+  const shown = formatWithUncertainty(distance.check.value, distance.check.expandedUncertainty, 'length', 'm')
+  const row = page.getByTestId('marker-row').filter({ has: page.locator(`[data-marker-id="${distance.id}"]`) })
+  await expect.poll(async () => (await row.getByTestId('marker-row-value').innerText()).replace(/\s+/g, ' ')).toBe(shown.replace(/ \(k = 2\)$/, '').replace(/\s+/g, ' '))
+  await expect.poll(() => page.getByTestId('marker-value').innerText()).toBe(shown)
+  await shot(page, '40-marker-distance')
+
+  // Clearance: the C tool, the chest through the seeded door section.
+  await page.keyboard.press('Escape')
+  await page.keyboard.press('c')
+  const section = markers.find((m) => m.label === 'west door, free opening')!
+  const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
+  await page.getByTestId('marker-clearance-object').selectOption(chest.id)
+  await page.getByTestId('marker-clearance-section').selectOption(section.id)
+  await expect.poll(() => page.getByTestId('marker-clearance-caution').innerText()).toMatch(/planning aid/i)
+  await page.getByTestId('marker-clearance-check').click()
+  await page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, seeded + 1, { timeout: 30_000 })
+  const after = await list()
+  const clearance = after.at(-1)!
+  expect(clearance.kind).toBe('clearance')
+  expect(clearance.check.clearance!.outcome).toBe('passes')
+  await expect.poll(() => page.getByTestId('marker-outcome').innerText()).toMatch(/passes/)
+  await expect.poll(() => page.getByTestId('marker-value').innerText()).toBe(formatWithUncertainty(clearance.check.value, clearance.check.expandedUncertainty, 'length', 'm'))
+  await expect(page.getByTestId('marker-figure').count()).resolves.toBe(1)
+  await shot(page, '41-marker-clearance')
+  expect(problems).toEqual([])
+  await context.close()
+})
