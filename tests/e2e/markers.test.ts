@@ -2,16 +2,15 @@
 // through the seeded door section with the C tool, and the values the page shows are the API's. The demo's
 // geometry is invented (server/demo/synth/scene.ts); the reference here is the API's own answer, and for the
 // distance also the invented door's dimensions.
-import fs from 'node:fs'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'
 import type { Marker, Scene } from '@shared/schemas'
 import { formatWithUncertainty } from '@shared/format/units'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
 import { DOOR } from '../../server/demo/synth/scene'
-import { launchBrowser, shot, watchConsole } from '../utils/browser'
-import { waitForScan } from '../utils/scans'
-import { startTestServer, type TestServer } from '../utils/server'
+import { shot, watchConsole } from '../utils/browser'
+import { startDemoScene } from '../utils/demoScene'
+import type { TestServer } from '../utils/server'
 
 let t: TestServer
 let browser: Browser
@@ -25,15 +24,7 @@ type Hook = {
 }
 
 beforeAll(async () => {
-  if (!fs.existsSync('dist/index.html')) throw new Error('browser tests need the client build: run them through `npm test`')
-  t = await startTestServer({ seedDemo: true }, { WORKER: 'spawn' })
-  browser = await launchBrowser()
-  const agent = t.agent()
-  await agent.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS[1]!.email, password: DEMO_PASSWORD }).expect(200)
-  projectId = (await agent.get('/api/projects').expect(200)).body.projects[0].id
-  const sceneId = (await agent.get(`/api/projects/${projectId}/scenes`).expect(200)).body.scenes[0].id
-  scene = (await agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene
-  for (const i of scene.instances) await waitForScan(agent, i.scanId, undefined, 100_000, 200)
+  ;({ t, browser, scene, projectId } = await startDemoScene())
 }, 150_000)
 afterAll(async () => {
   await browser?.close()

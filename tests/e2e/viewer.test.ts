@@ -1,16 +1,15 @@
 // The scene viewer in Chromium (WebGL through SwiftShader) on the seeded demo scene: points drawn and not
 // blank, within the point budget, a click on a known stored point reads that point back, a placement
 // moved through the form is still moved after a reload, and a mentor can neither move one nor see how.
-import fs from 'node:fs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import { decodeTile } from '@shared/points/tileFormat'
 import { transformPoint } from '@shared/geometry/rigidTransform'
 import type { Scene } from '@shared/schemas'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
-import { launchBrowser, shot, watchConsole } from '../utils/browser'
-import { waitForScan } from '../utils/scans'
-import { startTestServer, type TestServer } from '../utils/server'
+import { shot, watchConsole } from '../utils/browser'
+import { startDemoScene } from '../utils/demoScene'
+import type { TestServer } from '../utils/server'
 
 let t: TestServer
 let browser: Browser
@@ -27,15 +26,7 @@ interface Stats {
 type Hook = { __spanmark: { viewer: { stats(): Stats; project(x: number, y: number, z: number): { x: number; y: number }; lastPick(): { x: number; y: number; z: number } | null; setPointBudget(n: number): void } } }
 
 beforeAll(async () => {
-  if (!fs.existsSync('dist/index.html')) throw new Error('browser tests need the client build: run them through `npm test`')
-  t = await startTestServer({ seedDemo: true }, { WORKER: 'spawn' })
-  browser = await launchBrowser()
-  const agent = t.agent()
-  await agent.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS[1]!.email, password: DEMO_PASSWORD }).expect(200)
-  projectId = (await agent.get('/api/projects').expect(200)).body.projects[0].id
-  const sceneId = (await agent.get(`/api/projects/${projectId}/scenes`).expect(200)).body.scenes[0].id
-  scene = (await agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene
-  for (const i of scene.instances) await waitForScan(agent, i.scanId, undefined, 100_000, 200)
+  ;({ t, browser, scene, projectId } = await startDemoScene())
 }, 150_000)
 afterAll(async () => {
   await browser?.close()

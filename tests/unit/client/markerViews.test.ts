@@ -6,6 +6,7 @@
 import { describe, expect, it } from 'vitest'
 import { Plane, ShapeUtils, Vector2, Vector3 } from 'three'
 import type { Check, Marker, SectionFrame } from '@shared/schemas'
+import { check, marker as baseMarker } from './factories'
 import { BRICK, MARKER_KIND_COLOURS, anchorDots, arcPoints, markerLabel, markerView, planePoint, previewView, ringInPlane, sectionRectangle } from '@/components/viewer/markerViews'
 import { liftClear } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
@@ -13,44 +14,7 @@ import type { Vec3 } from '@/viewer/types'
 const INSTANCE = '11111111-1111-4111-8111-111111111111'
 const v3 = (p: Vec3) => new Vector3(...p)
 
-function check(over: Partial<Check> = {}): Check {
-  return {
-    state: 'checked',
-    reason: null,
-    value: null,
-    unit: null,
-    standardUncertainty: null,
-    expandedUncertainty: null,
-    coverageFactor: 2,
-    parts: [],
-    anchors: [],
-    distance: null,
-    angle: null,
-    section: null,
-    clearance: null,
-    checkedAt: null,
-    basedOn: 1,
-    ...over,
-  }
-}
-
-function marker(over: Partial<Marker>): Marker {
-  return {
-    id: '33333333-3333-4333-8333-333333333333',
-    sceneId: '44444444-4444-4444-8444-444444444444',
-    kind: 'distance',
-    label: 'Door width',
-    anchors: [],
-    params: {},
-    revision: 1,
-    check: check(),
-    createdBy: null,
-    updatedBy: null,
-    createdAt: '2026-12-02T10:00:00.000Z',
-    updatedAt: '2026-12-02T10:00:00.000Z',
-    ...over,
-  }
-}
+const marker = (over: Partial<Marker> & { check?: Check } = {}): Marker => baseMarker({ label: 'Door width', createdBy: null, ...over })
 
 const anchor = (x: number, y: number, z: number) => ({ instanceId: INSTANCE, x, y, z })
 const checked = (picked: Vec3, snapped: Vec3 | null, onScan: boolean) => ({ instanceId: INSTANCE, picked, snapped, residual: 0.001, tolerance: 0.005, onScan, u: 0.001, parts: [] })
@@ -151,10 +115,11 @@ describe('labels', () => {
   it('name a section’s clear width or area, and a clearance’s margin and outcome', () => {
     expect(markerLabel(marker({ kind: 'section', check: check({ value: 1.398, unit: 'm', expandedUncertainty: 0.006 }) }), 'm').value).toBe('clear width 1.398\u00a0m \u00b1 6.0\u00a0mm (k = 2)')
     expect(markerLabel(marker({ kind: 'section', check: check({ value: 2.5, unit: 'm2' }) }), 'm').value).toBe('area 2.500\u00a0m\u00b2')
-    const clearance = marker({
-      kind: 'clearance',
+    // Only the outcome of the clearance result matters to the label (the rest is left out, so not parsed).
+    const clearance: Marker = {
+      ...marker({ kind: 'clearance' }),
       check: check({ value: 0.031, unit: 'm', expandedUncertainty: 0.008, clearance: { outcome: 'too-close-to-call' } as Check['clearance'] }),
-    })
+    }
     expect(markerLabel(clearance, 'm')).toMatchObject({ value: 'margin 0.031\u00a0m \u00b1 8.0\u00a0mm (k = 2)', state: { word: 'too close to call', shape: 'half-disc' } })
   })
 
