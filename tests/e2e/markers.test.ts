@@ -31,7 +31,7 @@ afterAll(async () => {
   await t?.stop()
 })
 
-it('places a distance and a clearance, and shows the values the server computed', { timeout: 120_000 }, async () => {
+it('places a distance, flags an anchor typed off the surface, places a clearance, and shows the values the server computed', { timeout: 120_000 }, async () => {
   const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
   const page = await context.newPage()
   const problems = watchConsole(page)
@@ -68,6 +68,15 @@ it('places a distance and a clearance, and shows the values the server computed'
   await expect.poll(async () => (await row.getByTestId('marker-row-value').innerText()).replace(/\s+/g, ' ')).toBe(shown.replace(/ \(k = 2\)$/, '').replace(/\s+/g, ' '))
   await expect.poll(() => page.getByTestId('marker-value').innerText()).toBe(shown)
   await shot(page, '40-marker-distance')
+
+  // The second anchor typed 10 cm in front of the wall face: the server flags it off the points.
+  await page.getByTestId('marker-anchors-toggle').click()
+  await page.getByTestId('marker-anchor-1-y').fill((distance.anchors[1]!.y - 0.1).toFixed(3))
+  await page.getByTestId('marker-anchors-save').click()
+  await expect.poll(async () => (await list()).find((m) => m.id === distance.id)!.check.state, { timeout: 20_000 }).toBe('off-scan')
+  await expect.poll(() => page.getByTestId('marker-reason').innerText()).toMatch(/anchor B is \d+\.\d mm from the nearest stored point/)
+  await expect.poll(() => page.getByTestId('marker-card').getAttribute('data-state')).toBe('off-scan')
+  await shot(page, '40b-marker-off-scan')
 
   // Clearance: the C tool, the chest through the seeded door section.
   await page.keyboard.press('Escape')
