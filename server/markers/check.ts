@@ -8,6 +8,7 @@ import { concaveOutline, polygonArea } from '@shared/measure/polygon'
 import { planeFrame, type SlabFrame } from '@shared/measure/slab'
 import { anchorBudget, combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from '@shared/measure/uncertainty'
 import {
+  blankCheck,
   ClearanceParams,
   SectionParams,
   TOLERANCE_LIMITS,
@@ -139,23 +140,7 @@ async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index: number
 }
 
 function emptyCheck(revision: number, state: CheckState, reason: string | null, anchors: CheckedAnchor[] = []): Check {
-  return {
-    state,
-    reason,
-    value: null,
-    unit: null,
-    standardUncertainty: null,
-    expandedUncertainty: null,
-    coverageFactor: COVERAGE_FACTOR,
-    parts: [],
-    anchors,
-    distance: null,
-    angle: null,
-    section: null,
-    clearance: null,
-    checkedAt: new Date().toISOString(),
-    basedOn: revision,
-  }
+  return { ...blankCheck(state, revision, reason, new Date().toISOString()), anchors }
 }
 
 const letter = (i: number) => String.fromCharCode(65 + i)

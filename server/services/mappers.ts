@@ -7,7 +7,7 @@ import type { ScanWithUploaderRow } from '../repositories/scans'
 import type { InstanceRow, SceneRow } from '../repositories/scenes'
 import type { MarkerWithPeopleRow, StoredAnchor } from '../repositories/markers'
 import { transformPoint } from '@shared/geometry/rigidTransform'
-import { Check } from '@shared/schemas'
+import { blankCheck, Check } from '@shared/schemas'
 import type { UploadTokenWithCreatorRow } from '../repositories/uploadTokens'
 
 /** Database rows (snake_case) to API objects (camelCase): the only place the two spellings meet. */
@@ -131,23 +131,7 @@ export function toMarker(row: MarkerWithPeopleRow, placements: ReadonlyMap<strin
 export function parseStoredCheck(stored: unknown, state: string, revision: number): Check {
   const parsed = Check.safeParse(stored)
   if (parsed.success && parsed.data.basedOn === revision && state !== 'pending') return parsed.data
-  const pending: Check = {
-    state: 'pending',
-    reason: null,
-    value: null,
-    unit: null,
-    standardUncertainty: null,
-    expandedUncertainty: null,
-    coverageFactor: 2,
-    parts: [],
-    anchors: [],
-    distance: null,
-    angle: null,
-    section: null,
-    clearance: null,
-    checkedAt: null,
-    basedOn: revision,
-  }
+  const pending = blankCheck('pending', revision)
   // While a re-check runs, the last result is kept for reading, marked pending.
   return parsed.success ? { ...parsed.data, state: 'pending', basedOn: parsed.data.basedOn } : pending
 }

@@ -209,6 +209,27 @@ export const Check = z.object({
 })
 export type Check = z.infer<typeof Check>
 
+/** A check with no result yet (pending), or the frame of one that stopped with a state and a reason. */
+export function blankCheck(state: Check['state'], basedOn: number, reason: string | null = null, checkedAt: string | null = null): Check {
+  return {
+    state,
+    reason,
+    value: null,
+    unit: null,
+    standardUncertainty: null,
+    expandedUncertainty: null,
+    coverageFactor: 2,
+    parts: [],
+    anchors: [],
+    distance: null,
+    angle: null,
+    section: null,
+    clearance: null,
+    checkedAt,
+    basedOn,
+  }
+}
+
 export const PersonRef = z.object({ id: Id, name: z.string() }).nullable()
 
 export const Marker = z.object({

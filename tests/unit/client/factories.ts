@@ -1,30 +1,13 @@
 // A tiny factory of API markers for the drawer's helpers, parsed by the shared Marker schema so it cannot
 // drift from the contract.
-import { Marker, type Check } from '@shared/schemas'
+import { blankCheck, Marker, type Check } from '@shared/schemas'
 
 let n = 0
 const id = () => `00000000-0000-4000-8000-${String(++n).padStart(12, '0')}`
 export const INSTANCE_ID = '10000000-0000-4000-8000-000000000001'
 
 export function check(overrides: Partial<Check> = {}): Check {
-  return {
-    state: 'checked',
-    reason: null,
-    value: null,
-    unit: null,
-    standardUncertainty: null,
-    expandedUncertainty: null,
-    coverageFactor: 2,
-    parts: [],
-    anchors: [],
-    distance: null,
-    angle: null,
-    section: null,
-    clearance: null,
-    checkedAt: '2026-03-02T10:00:00.000Z',
-    basedOn: 1,
-    ...overrides,
-  }
+  return { ...blankCheck('checked', 1, null, '2026-03-02T10:00:00.000Z'), ...overrides }
 }
 
 export function marker(overrides: Partial<Marker> & { check?: Check } = {}): Marker {
