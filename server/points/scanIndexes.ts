@@ -1,6 +1,6 @@
 import type { Db } from '../db'
 import { HttpError } from '../errors'
-import { getTile, listTiles } from '../repositories/scans'
+import { getTilesForSearch, listTiles } from '../repositories/scans'
 import { decodeTile } from '@shared/points/tileFormat'
 import { NearestIndex } from './index/nearestIndex'
 import type { ScanIndexes, SnappedPoint } from '../types'
@@ -34,9 +34,13 @@ export class ScanIndexRegistry implements ScanIndexes {
         nodes,
         cacheBytes: this.cacheBytesPerScan,
         loadTile: async (key) => {
-          const tile = await getTile(this.db, scanId, key)
+          const tile = (await getTilesForSearch(this.db, scanId, [key])).get(key)
           if (!tile) throw new Error(`tile ${key} of scan ${scanId} is missing`)
-          return decodeTile(new Uint8Array(tile.data.buffer, tile.data.byteOffset, tile.data.byteLength))
+          return decodeTile(new Uint8Array(tile.buffer, tile.byteOffset, tile.byteLength))
+        },
+        loadTiles: async (keys) => {
+          const found = await getTilesForSearch(this.db, scanId, keys)
+          return new Map([...found].map(([key, data]) => [key, decodeTile(new Uint8Array(data.buffer, data.byteOffset, data.byteLength))]))
         },
       })
     })()

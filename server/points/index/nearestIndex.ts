@@ -27,6 +27,8 @@ import { UniformGrid } from './uniformGrid'
 export interface NearestIndexOptions {
   nodes: readonly NodeInfo[]
   loadTile: (key: string) => Promise<DecodedTile>
+  /** Several tiles at once (one database round trip); optional, `loadTile` is used one by one without it. */
+  loadTiles?: (keys: string[]) => Promise<Map<string, DecodedTile>>
   /** Byte budget of the tile cache (default 256 MiB). */
   cacheBytes?: number
 }
@@ -61,12 +63,14 @@ export class NearestIndex {
   private readonly children: number[][]
   private readonly root: number
   private readonly loadTile: (key: string) => Promise<DecodedTile>
+  private readonly loadTiles: ((keys: string[]) => Promise<Map<string, DecodedTile>>) | null
   private readonly cache: ByteLruCache<LoadedTile>
   private readonly inflight = new Map<number, Promise<LoadedTile>>()
 
   constructor(options: NearestIndexOptions) {
     const nodes = options.nodes
     this.loadTile = options.loadTile
+    this.loadTiles = options.loadTiles ?? null
     this.cache = new ByteLruCache(options.cacheBytes ?? DEFAULT_CACHE_BYTES)
     this.keys = nodes.map((node) => node.key)
     this.counts = nodes.map((node) => node.pointCount)
@@ -126,6 +130,7 @@ export class NearestIndex {
     if (!(maxDistance >= 0)) throw new RangeError(`maxDistance must be at least 0, got ${maxDistance}`)
     const heap = new KBest(k, maxDistance)
     if (this.root < 0) return []
+    await this.prefetchChain(x, y, z)
     const queue = new NodeQueue()
     const rootDistance = this.boxDistance2(this.root, x, y, z)
     if (rootDistance <= heap.bound2) queue.push(rootDistance, this.root)
@@ -239,6 +244,25 @@ export class NearestIndex {
     return found.sort((a, b) => a.distance - b.distance)
   }
 
+  /**
+   * The nodes whose boxes hold the query point, root to leaf, are all searched; when several of their tiles
+   * are missing they are fetched in one batch instead of one round trip each.
+   */
+  private async prefetchChain(x: number, y: number, z: number): Promise<void> {
+    if (!this.loadTiles) return
+    const missing: number[] = []
+    let id = this.root
+    for (;;) {
+      if (!this.cached(id) && !this.inflight.has(id) && this.counts[id]! > 0) missing.push(id)
+      const next = this.children[id]!.find((c) => this.boxDistance2(c, x, y, z) === 0)
+      if (next === undefined) break
+      id = next
+    }
+    if (missing.length < 2) return
+    const batch = this.loadTiles(missing.map((m) => this.keys[m]!))
+    await Promise.all(missing.map((m) => this.load(m, batch)))
+  }
+
   private boxDistance2(id: number, x: number, y: number, z: number): number {
     const b = this.boxes
     const o = id * 6
@@ -262,13 +286,14 @@ export class NearestIndex {
   }
 
   /** Loads, checks and indexes one tile; concurrent queries share one load. */
-  private load(id: number): Promise<LoadedTile> {
+  private load(id: number, batch?: Promise<Map<string, DecodedTile>>): Promise<LoadedTile> {
     const pending = this.inflight.get(id)
     if (pending) return pending
     const key = this.keys[id]!
     const promise = (async () => {
       try {
-        const tile = await this.loadTile(key)
+        const fromBatch = batch ? (await batch).get(key) : undefined
+        const tile = fromBatch ?? (await this.loadTile(key))
         if (tile.count !== this.counts[id]) {
           throw new Error(`tile ${key} holds ${tile.count} points, the hierarchy says ${this.counts[id]}`)
         }
