@@ -13,6 +13,7 @@ import {
   placingHint,
   previewText,
   sectionBody,
+  sectionNumbersBody,
   sectionProblem,
   type ClearanceOptions,
   type Picked,
@@ -135,6 +136,10 @@ export function useMarkerTools(options: MarkerToolsOptions) {
     return save(sectionBody(picks.value, { plane: section.plane, thickness: section.thickness, opening: section.opening }))
   }
 
+  function createSectionByNumbers(plane: { origin: Vec3; normal: Vec3; instanceIds: string[] }): Promise<Marker | null> {
+    return save(sectionNumbersBody(plane, { thickness: section.thickness, opening: section.opening }))
+  }
+
   function createClearance(input: ClearanceOptions): Promise<Marker | null> {
     return save(clearanceBody(input))
   }
@@ -165,6 +170,7 @@ export function useMarkerTools(options: MarkerToolsOptions) {
     takePick,
     cancel,
     createSection,
+    createSectionByNumbers,
     createClearance,
   }
 }

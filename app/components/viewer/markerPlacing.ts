@@ -106,6 +106,15 @@ export function sectionBody(picks: readonly Picked[], options: SectionOptions): 
   return { kind: 'section', anchors: picks.map(anchorOf), params: { plane: options.plane, thickness: options.thickness, opening: options.opening } }
 }
 
+/** A section whose plane is typed in: a point on it, its normal (scene frame) and the placements it cuts. */
+export function sectionNumbersBody(plane: { origin: Vec3; normal: Vec3; instanceIds: string[] }, options: Omit<SectionOptions, 'plane'>): MarkerCreateBody {
+  return {
+    kind: 'section',
+    anchors: [],
+    params: { plane: 'numbers', origin: plane.origin, normal: plane.normal, instanceIds: plane.instanceIds, thickness: options.thickness, opening: options.opening },
+  }
+}
+
 export interface ClearanceOptions {
   objectInstanceId: string
   sectionMarkerId: string

@@ -15,6 +15,7 @@ import {
   placingHint,
   previewText,
   sectionBody,
+  sectionNumbersBody,
   sectionProblem,
   type Picked,
 } from '@/components/viewer/markerPlacing'
@@ -120,5 +121,12 @@ describe('the live preview', () => {
     expect(previewText('distance', [[1, 1, 1], [1, 1, 1]], [0, 0], 'm')).toBeNull()
     expect(previewText('angle', [[1, 0, 0], [0, 0, 0]], [0, 0], 'm')).toBeNull()
     expect(previewText('section-marker', [[1, 0, 0], [0, 0, 0]], [0, 0], 'm')).toBeNull()
+  })
+})
+
+describe('a section by numbers', () => {
+  it('is a valid marker body by the contract: a point, a normal, the placements it cuts, no anchors', () => {
+    const body = sectionNumbersBody({ origin: [0, 0.15, 1], normal: [0, 1, 0], instanceIds: ['10000000-0000-4000-8000-000000000001'] }, { thickness: 0.1, opening: true })
+    expect(MarkerCreateBody.parse(body)).toMatchObject({ kind: 'section', anchors: [], params: { plane: 'numbers', origin: [0, 0.15, 1], normal: [0, 1, 0], thickness: 0.1, opening: true } })
   })
 })
