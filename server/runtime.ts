@@ -17,6 +17,7 @@ import { WorkerSupervisor } from './jobs/supervisor'
 import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
 import { MarkerChecker } from './markers/checker'
+import { CollabServer } from './collab/socketServer'
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'
 import type { Services } from './types'
@@ -37,6 +38,8 @@ export class SpanmarkServer {
     readonly url: string,
     /** What a worker process of this server runs with (the fakes' real addresses filled in). */
     readonly workerConfig: Config,
+    /** The live documents' WebSocket endpoint. */
+    readonly collab: CollabServer,
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
@@ -87,6 +90,8 @@ export class SpanmarkServer {
 
       if (config.seedDemo) await seedDemo(services)
       const server = http.createServer(createApp(services))
+      const collab = new CollabServer(services, () => [services.publicOrigin()])
+      collab.attach(server)
       await new Promise<void>((resolve, reject) => {
         server.once('error', reject)
         server.listen(config.port, config.host, () => resolve())
@@ -95,7 +100,7 @@ export class SpanmarkServer {
       const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`
       origin ||= url
       services.mailer.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab)
       app.startSweeper()
       const resumed = await services.markerChecks.resumePending()
       if (resumed) log.info({ markers: resumed }, 'checking markers left pending')
@@ -123,6 +128,7 @@ export class SpanmarkServer {
 
   async stop(): Promise<void> {
     if (this.sweeper) clearInterval(this.sweeper)
+    await this.collab.close()
     await new Promise<void>((resolve) => {
       this.http.close(() => resolve())
       // Keep-alive connections would hold close() open; idle ones go now, busy ones after 5 s.

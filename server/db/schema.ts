@@ -174,8 +174,28 @@ export interface MarkersTable {
   updated_at: Timestamp
 }
 
+export interface SceneUpdatesTable {
+  id: Generated<string>
+  scene_id: string
+  doc: 'work' | 'record'
+  update: Buffer
+  user_id: string | null
+  created_at: Timestamp
+}
+
+export interface SceneSnapshotsTable {
+  scene_id: string
+  doc: 'work' | 'record'
+  state: Buffer
+  /** bigint as text: the last scene_updates id folded in. */
+  upto: string
+  created_at: Timestamp
+}
+
 export interface Database {
   markers: MarkersTable
+  scene_updates: SceneUpdatesTable
+  scene_snapshots: SceneSnapshotsTable
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable

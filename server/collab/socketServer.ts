@@ -1,0 +1,125 @@
+import type http from 'node:http'
+import type { Duplex } from 'node:stream'
+import type pino from 'pino'
+import { WebSocketServer, type WebSocket } from 'ws'
+import { can } from '@shared/auth/roles'
+import { CLOSE_CODES, type DocumentKind } from '@shared/collab/documents'
+import { findMembership } from '../repositories/memberships'
+import { projectOfScene } from '../repositories/scenes'
+import type { Services } from '../types'
+import { Room, type Connection } from './room'
+
+const PATH = /^\/collab\/([0-9a-f-]{36})(\/record)?$/i
+
+/**
+ * The live documents' WebSocket endpoint (DESIGN section 7): `/collab/:sceneId` (the work document) and
+ * `/collab/:sceneId/record` (the record document), speaking y-websocket's protocol. The upgrade is taken,
+ * then decided: a bad Origin, no session, no such scene or no membership closes the socket at once with a
+ * named code (shared/collab/documents.ts CLOSE_CODES), so a client can tell why. Owners and measurers write
+ * the work document; everyone else, and everyone on the record document, is read-only.
+ */
+export class CollabServer {
+  private readonly wss = new WebSocketServer({ noServer: true, maxPayload: 8 * 1024 * 1024 })
+  private readonly rooms = new Map<string, Promise<Room>>()
+  private readonly log: pino.Logger
+
+  constructor(
+    private readonly services: Services,
+    allowedOrigins: () => string[],
+  ) {
+    this.log = services.log.child({ part: 'collab' })
+    this.allowedOrigins = allowedOrigins
+  }
+
+  private readonly allowedOrigins: () => string[]
+
+  attach(server: http.Server): void {
+    server.on('upgrade', (req: http.IncomingMessage, socket: Duplex, head: Buffer) => {
+      const url = new URL(req.url ?? '/', 'http://localhost')
+      const match = PATH.exec(url.pathname)
+      if (!match) return socket.destroy()
+      this.wss.handleUpgrade(req, socket, head, (ws) => {
+        void this.admit(ws, req, match[1]!.toLowerCase(), match[2] ? 'record' : 'work').catch((err) => {
+          this.log.error({ err }, 'live connection failed')
+          ws.close(1011, 'server error')
+        })
+      })
+    })
+  }
+
+  private originAllowed(req: http.IncomingMessage): boolean {
+    const origin = req.headers.origin
+    if (!origin) return false
+    try {
+      const host = new URL(origin).host
+      return host === req.headers.host || this.allowedOrigins().some((o) => new URL(o).host === host)
+    } catch {
+      return false
+    }
+  }
+
+  private async admit(ws: WebSocket, req: http.IncomingMessage, sceneId: string, kind: DocumentKind): Promise<void> {
+    // The client speaks first (its sync step 1) while the session is still being checked: hold its messages.
+    const early: Uint8Array[] = []
+    let deliver: ((bytes: Uint8Array) => void) | null = null
+    ws.binaryType = 'nodebuffer'
+    ws.on('message', (data: Buffer) => {
+      const bytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength)
+      if (deliver) deliver(bytes)
+      else early.push(bytes)
+    })
+    const refuse = (code: keyof typeof CLOSE_CODES, reason: string) => ws.close(CLOSE_CODES[code], reason)
+    if (!this.originAllowed(req)) return refuse('badOrigin', 'bad origin')
+    const { auth, db } = this.services
+    const sessionId = auth.readSessionCookie(req.headers.cookie ?? '')
+    const { session, user } = sessionId ? await auth.validateSession(sessionId) : { session: null, user: null }
+    if (!session || !user) return refuse('unauthenticated', 'sign in first')
+    const scene = await projectOfScene(db, sceneId)
+    const membership = scene ? await findMembership(db, scene.project_id, user.id) : undefined
+    // Not a member: the same answer as no such scene, so ids reveal nothing.
+    if (!scene || !membership) return refuse('forbidden', 'not a member of this scene')
+    if (!can(membership.role, 'view')) return refuse('forbidden', 'not allowed')
+    const room = await this.room(sceneId, kind)
+    if (ws.readyState !== ws.OPEN) return
+    const conn: Connection = {
+      socket: ws,
+      userId: user.id,
+      name: user.name,
+      writable: kind === 'work' && can(membership.role, 'editMarkers'),
+      clientId: null,
+      awarenessTimes: [],
+    }
+    room.connections.set(ws, conn)
+    let chain = Promise.resolve()
+    // One message at a time per connection, in order.
+    deliver = (bytes) => {
+      chain = chain.then(() => room.receive(conn, bytes)).catch((err) => this.log.warn({ err }, 'a live message was refused'))
+    }
+    ws.on('close', () => room.leave(conn))
+    room.greet(conn)
+    for (const bytes of early.splice(0)) deliver(bytes)
+  }
+
+  /** The room of a scene's document, loaded once. */
+  room(sceneId: string, kind: DocumentKind): Promise<Room> {
+    const key = `${sceneId}:${kind}`
+    let room = this.rooms.get(key)
+    if (!room) {
+      room = Room.load(this.services.db, sceneId, kind, this.log)
+      room.catch(() => this.rooms.delete(key))
+      this.rooms.set(key, room)
+    }
+    return room
+  }
+
+  /** Closes every connection (going away) once every stored update has been sent. */
+  async close(): Promise<void> {
+    for (const room of this.rooms.values()) {
+      const r = await room.catch(() => null)
+      if (!r) continue
+      await r.flushed()
+      for (const socket of r.connections.keys()) socket.close(CLOSE_CODES.goingAway, 'server stopping')
+    }
+    this.wss.close()
+  }
+}

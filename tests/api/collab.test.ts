@@ -1,0 +1,145 @@
+// Live documents over WebSockets with real y-websocket clients (the library's own provider, on ws in
+// Node as STACK.md describes): convergence, roles at the socket, named close codes, store-before-send,
+// compaction and reload, and presence limited to the connection's own client id.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import supertest from 'supertest'
+import WebSocket from 'ws'
+import * as Y from 'yjs'
+import * as awarenessProtocol from 'y-protocols/awareness'
+import * as encoding from 'lib0/encoding'
+import { WebsocketProvider } from 'y-websocket'
+import pino from 'pino'
+import { CLOSE_CODES, WORK_MAPS } from '@shared/collab/documents'
+import { Room } from '../../server/collab/room'
+import { countUpdates } from '../../server/repositories/sceneUpdates'
+import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+
+let t: TestServer
+let sceneId: string
+const cookies: Record<string, string> = {}
+const open: WebsocketProvider[] = []
+
+async function cookieOf(email: string, password: string): Promise<string> {
+  const res = await supertest(t.url).post('/api/auth/sign-in').set('Origin', t.url).send({ email, password }).expect(200)
+  return String(res.headers['set-cookie']![0]).split(';')[0]!
+}
+
+function client(cookie: string | null, path = sceneId, origin: string | null = null) {
+  const headers: Record<string, string> = { origin: origin ?? t.url }
+  if (cookie) headers.cookie = cookie
+  class CookieSocket extends WebSocket {
+    constructor(url: string, protocols?: string | string[]) {
+      super(url, protocols, { headers })
+    }
+  }
+  const doc = new Y.Doc()
+  const provider = new WebsocketProvider(`${t.url.replace(/^http/, 'ws')}/collab`, path, doc, { WebSocketPolyfill: CookieSocket as unknown as typeof globalThis.WebSocket, disableBc: true })
+  open.push(provider)
+  return { doc, provider, markers: doc.getMap<unknown>(WORK_MAPS.markers) }
+}
+
+const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
+async function until(check: () => boolean, ms = 5000): Promise<void> {
+  const end = Date.now() + ms
+  while (!check()) {
+    if (Date.now() > end) throw new Error('timed out')
+    await new Promise((r) => setTimeout(r, 20))
+  }
+}
+const closeCode = (p: WebsocketProvider) =>
+  new Promise<number>((resolve) => p.on('connection-close', (event: CloseEvent | null) => {
+    p.shouldConnect = false
+    resolve(event?.code ?? -1)
+  }))
+
+beforeAll(async () => {
+  t = await startTestServer()
+  const people = { owner: await signUpAgent(t, 'Live Owner'), measurer: await signUpAgent(t, 'Live Measurer'), mentor: await signUpAgent(t, 'Live Mentor'), outsider: await signUpAgent(t, 'Live Outsider') }
+  const projectId = (await people.owner.agent.post('/api/projects').send({ name: 'Live' }).expect(201)).body.project.id
+  for (const role of ['measurer', 'mentor'] as const) await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
+  sceneId = (await people.owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Live scene' }).expect(201)).body.scene.id
+  for (const [role, p] of Object.entries(people)) cookies[role] = await cookieOf(p.email, p.password)
+})
+afterAll(async () => {
+  for (const p of open) p.destroy()
+  await t?.stop()
+})
+
+describe('live documents', () => {
+  it('converges two writers, and stores every update before it is sent', async () => {
+    const a = client(cookies.owner!), b = client(cookies.measurer!)
+    await Promise.all([synced(a.provider), synced(b.provider)])
+    a.markers.set('m1', { kind: 'distance', label: 'from A' })
+    b.markers.set('m2', { kind: 'angle', label: 'from B' })
+    await until(() => a.markers.size === 2 && b.markers.size === 2)
+    expect(b.markers.get('m1')).toEqual({ kind: 'distance', label: 'from A' })
+    // Whatever a client has seen is in the store: a document loaded from it alone has both.
+    const stored = await Room.load(t.server.services.db, sceneId, 'work', pino({ level: 'silent' }))
+    expect(stored.doc.getMap(WORK_MAPS.markers).toJSON()).toEqual(a.markers.toJSON())
+  })
+
+  it('drops every update a mentor sends, and keeps serving the mentor the document', async () => {
+    const mentor = client(cookies.mentor!)
+    await synced(mentor.provider)
+    expect(mentor.markers.has('m1')).toBe(true)
+    const before = Number((await countUpdates(t.server.services.db, sceneId, 'work')).n)
+    mentor.markers.set('forged', { kind: 'distance', label: 'mentor wrote this' })
+    await new Promise((r) => setTimeout(r, 500))
+    const fresh = client(cookies.owner!)
+    await synced(fresh.provider)
+    expect(fresh.markers.has('forged')).toBe(false)
+    expect(Number((await countUpdates(t.server.services.db, sceneId, 'work')).n)).toBe(before)
+  })
+
+  it('lets nobody write the record document', async () => {
+    const owner = client(cookies.owner!, `${sceneId}/record`)
+    await synced(owner.provider)
+    owner.doc.getMap('markers').set('m1', { state: 'checked' })
+    await new Promise((r) => setTimeout(r, 400))
+    const stored = await Room.load(t.server.services.db, sceneId, 'record', pino({ level: 'silent' }))
+    expect(stored.doc.getMap('markers').size).toBe(0)
+  })
+
+  it('refuses an outsider, a caller without a session and a foreign origin with named close codes', async () => {
+    expect(await closeCode(client(cookies.outsider!).provider)).toBe(CLOSE_CODES.forbidden)
+    expect(await closeCode(client(null).provider)).toBe(CLOSE_CODES.unauthenticated)
+    expect(await closeCode(client(cookies.owner!, sceneId, 'http://elsewhere.example').provider)).toBe(CLOSE_CODES.badOrigin)
+    expect(await closeCode(client(cookies.owner!, '00000000-0000-4000-8000-000000000000').provider)).toBe(CLOSE_CODES.forbidden)
+  })
+
+  it('compacts the log into a snapshot that loads to the same state', async () => {
+    const db = t.server.services.db
+    const room = await t.server.collab.room(sceneId, 'work')
+    await room.flushed()
+    const state = room.doc.getMap(WORK_MAPS.markers).toJSON()
+    await room.compact()
+    expect(Number((await countUpdates(db, sceneId, 'work')).n)).toBe(0)
+    const reloaded = await Room.load(db, sceneId, 'work', pino({ level: 'silent' }))
+    expect(reloaded.doc.getMap(WORK_MAPS.markers).toJSON()).toEqual(state)
+  })
+
+  it('takes presence only for the connection’s own client id, with the name from its session', async () => {
+    const a = client(cookies.owner!), b = client(cookies.measurer!)
+    await Promise.all([synced(a.provider), synced(b.provider)])
+    b.provider.awareness.setLocalStateField('cursor', [1, 2, 3])
+    a.provider.awareness.setLocalState({ user: { name: 'Somebody Else' }, cursor: [0, 0, 0] })
+    await until(() => {
+      const seen = b.provider.awareness.getStates().get(a.doc.clientID) as { user?: { name: string } } | undefined
+      return seen?.user?.name === 'Live Owner'
+    })
+    // A forged presence for b's client id, sent on a's socket: dropped.
+    const fake = new Y.Doc()
+    fake.clientID = b.doc.clientID
+    const forged = new awarenessProtocol.Awareness(fake)
+    forged.setLocalState({ user: { name: 'Mallory' }, cursor: [9, 9, 9] })
+    const encoder = encoding.createEncoder()
+    encoding.writeVarUint(encoder, 1)
+    encoding.writeVarUint8Array(encoder, awarenessProtocol.encodeAwarenessUpdate(forged, [b.doc.clientID]))
+    a.provider.ws!.send(encoding.toUint8Array(encoder))
+    await new Promise((r) => setTimeout(r, 400))
+    const room = await t.server.collab.room(sceneId, 'work')
+    const bState = room.awareness.getStates().get(b.doc.clientID) as { user: { name: string }; cursor: number[] }
+    expect(bState.user.name).toBe('Live Measurer')
+    expect(bState.cursor).toEqual([1, 2, 3])
+  })
+})
