@@ -18,6 +18,16 @@ import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
 import { MarkerChecker } from './markers/checker'
 import { CollabServer } from './collab/socketServer'
+import type { LiveSync } from './types'
+
+/** Until the collab server is attached (the demo seed runs before it), nothing is live yet. */
+const NO_LIVE: LiveSync = {
+  markerChanged: async () => {},
+  markerRemoved: async () => {},
+  instanceChanged: async () => {},
+  instanceRemoved: async () => {},
+  checkStored: async () => {},
+}
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'
 import type { Services } from './types'
@@ -79,6 +89,7 @@ export class SpanmarkServer {
         boss,
         scanIndexes,
         markerChecks: new MarkerChecker(db, scanIndexes, log),
+        live: NO_LIVE,
         log,
         publicOrigin: () => origin,
       }
@@ -92,6 +103,8 @@ export class SpanmarkServer {
       const server = http.createServer(createApp(services))
       const collab = new CollabServer(services, () => [services.publicOrigin()])
       collab.attach(server)
+      services.live = collab.sync
+      services.markerChecks.onStored = (sceneId, markerId) => collab.sync.checkStored(sceneId, markerId)
       await new Promise<void>((resolve, reject) => {
         server.once('error', reject)
         server.listen(config.port, config.host, () => resolve())

@@ -34,6 +34,8 @@ export interface Services {
   scanIndexes: ScanIndexes
   /** Marker checks, latest wins (server/markers/checker.ts). */
   markerChecks: MarkerChecker
+  /** The live documents, told of every change made through the API (server/collab/liveSync.ts). */
+  live: LiveSync
   log: pino.Logger
   /** Origin for links in e-mails: PUBLIC_URL, else the address the server listens on. */
   publicOrigin(): string
@@ -47,6 +49,15 @@ export interface ScanIndexes {
   allPoints(scanId: string): Promise<Float64Array>
   clearCaches(): Promise<void>
   forget(scanId: string): void
+}
+
+/** What the REST side tells the live documents (a no-op until the collab server is attached). */
+export interface LiveSync {
+  markerChanged(sceneId: string, markerId: string): Promise<void>
+  markerRemoved(sceneId: string, markerId: string): Promise<void>
+  instanceChanged(sceneId: string, instanceId: string): Promise<void>
+  instanceRemoved(sceneId: string, instanceId: string): Promise<void>
+  checkStored(sceneId: string, markerId: string): Promise<void>
 }
 
 export interface SnappedPoint {

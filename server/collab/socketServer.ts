@@ -7,6 +7,7 @@ import { CLOSE_CODES, type DocumentKind } from '@shared/collab/documents'
 import { findMembership } from '../repositories/memberships'
 import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
+import { LiveDocumentsSync } from './liveSync'
 import { Room, type Connection } from './room'
 
 const PATH = /^\/collab\/([0-9a-f-]{36})(\/record)?$/i
@@ -22,6 +23,8 @@ export class CollabServer {
   private readonly wss = new WebSocketServer({ noServer: true, maxPayload: 8 * 1024 * 1024 })
   private readonly rooms = new Map<string, Promise<Room>>()
   private readonly log: pino.Logger
+  /** REST and live as one model. */
+  readonly sync: LiveDocumentsSync
 
   constructor(
     private readonly services: Services,
@@ -29,6 +32,7 @@ export class CollabServer {
   ) {
     this.log = services.log.child({ part: 'collab' })
     this.allowedOrigins = allowedOrigins
+    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind))
   }
 
   private readonly allowedOrigins: () => string[]
@@ -105,7 +109,11 @@ export class CollabServer {
     const key = `${sceneId}:${kind}`
     let room = this.rooms.get(key)
     if (!room) {
-      room = Room.load(this.services.db, sceneId, kind, this.log)
+      room = Room.load(this.services.db, sceneId, kind, this.log).then(async (loaded) => {
+        this.sync.watch(loaded)
+        await this.sync.seed(loaded)
+        return loaded
+      })
       room.catch(() => this.rooms.delete(key))
       this.rooms.set(key, room)
     }

@@ -19,6 +19,8 @@ const RETRY_MS = 2000
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
   private readonly wanted = new Map<string, number>()
+  /** Told of every stored check (the record document). */
+  onStored: ((sceneId: string, markerId: string) => Promise<void>) | null = null
   private readonly queue: string[] = []
   private running: Promise<void> | null = null
 
@@ -51,6 +53,7 @@ export class MarkerChecker {
     }
     const stored = await storeCheck(this.db, markerId, row.revision, check.state, check)
     if (stored && this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
+    if (stored) await this.onStored?.(row.scene_id, markerId)
     return check
   }
 

@@ -43,11 +43,12 @@ export function countMarkersOfKind(db: Conn, sceneId: string, kind: MarkerKind) 
 
 export function insertMarker(
   db: Conn,
-  v: { sceneId: string; kind: MarkerKind; label: string; anchors: StoredAnchor[]; params: Record<string, unknown>; userId: string | null },
+  v: { id?: string; sceneId: string; kind: MarkerKind; label: string; anchors: StoredAnchor[]; params: Record<string, unknown>; userId: string | null },
 ) {
   return db
     .insertInto('markers')
     .values({
+      ...(v.id ? { id: v.id } : {}),
       scene_id: v.sceneId,
       kind: v.kind,
       label: v.label,

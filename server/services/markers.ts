@@ -1,4 +1,5 @@
 import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import type { LiveMarker } from '@shared/collab/documents'
 import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerUpdateBody } from '@shared/schemas'
 import { ErrorCode } from '@shared/schemas/common'
 import { HttpError } from '../errors'
@@ -79,6 +80,7 @@ export async function createMarker(s: Services, sceneId: string, body: MarkerCre
   const { id } = await repo.insertMarker(s.db, { sceneId, kind: body.kind, label, anchors: toLocal(body.anchors, placements), params: body.params, userId })
   await touchScene(s.db, sceneId)
   await checker(s).checkNow(id)
+  await s.live.markerChanged(sceneId, id)
   return present(s, id)
 }
 
@@ -107,15 +109,57 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
     await checker(s).checkNow(markerId)
     if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
   }
+  await s.live.markerChanged(row.scene_id, markerId)
   return present(s, markerId)
 }
 
-export async function removeMarker(s: Services, markerId: string): Promise<void> {
+/**
+ * A marker as a writer left it in the work document (anchors in their placements' frames): validated as the
+ * API validates, then stored and checked. Returns null, or why it was refused.
+ */
+export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, userId: string): Promise<string | null> {
+  const placements = await placementsOf(s, sceneId)
+  const row = await repo.findMarker(s.db, markerId)
+  if (row && (row.scene_id !== sceneId || row.kind !== entry.kind)) return 'a marker keeps its scene and kind'
+  const sceneAnchors = entry.anchors.map((a) => {
+    const m = placements.get(a.instanceId)
+    if (!m) return null
+    const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
+  if (sceneAnchors.some((a) => a === null)) return 'an anchor names a placement that is not in the scene'
+  const parsed = MarkerCreateBody.safeParse({ kind: entry.kind, label: entry.label, anchors: sceneAnchors, params: entry.params })
+  if (!parsed.success) return `${parsed.error.issues[0]!.path.join('.')}: ${parsed.error.issues[0]!.message}`
+  try {
+    await validateReferences(s, sceneId, parsed.data, placements, markerId)
+  } catch (err) {
+    return err instanceof HttpError ? err.message : 'refused'
+  }
+  const same = row && row.label === entry.label && JSON.stringify(row.anchors) === JSON.stringify(entry.anchors) && JSON.stringify(row.params) === JSON.stringify(parsed.data.params)
+  if (same) return null
+  let revision: number
+  if (row) {
+    const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(parsed.data.params)
+    const updated = await repo.updateMarker(s.db, markerId, { label: entry.label, anchors: geometry ? entry.anchors : undefined, params: geometry ? parsed.data.params : undefined, userId })
+    revision = updated?.revision ?? row.revision
+    if (geometry && row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]))
+  } else {
+    revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
+  }
+  await touchScene(s.db, sceneId)
+  // Checked in the background (latest wins); the result goes to the record document.
+  checker(s).schedule([{ id: markerId, revision }])
+  await s.live.checkStored(sceneId, markerId)
+  return null
+}
+
+export async function removeMarker(s: Services, markerId: string, options: { fromLive?: boolean } = {}): Promise<void> {
   const row = await repo.findMarker(s.db, markerId)
   if (!row) return
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
   if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+  if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 
 /** A placement moved, was hidden or removed: its markers go back to pending and are checked again. */

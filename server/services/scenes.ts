@@ -1,6 +1,6 @@
 import type { Instance, InstanceCreateBody, InstanceUpdateBody, Scene, SceneSummary } from '@shared/schemas'
 import { ErrorCode } from '@shared/schemas/common'
-import { IDENTITY } from '@shared/geometry/rigidTransform'
+import { IDENTITY, rigidProblem } from '@shared/geometry/rigidTransform'
 import { HttpError } from '../errors'
 import { findScan } from '../repositories/scans'
 import * as repo from '../repositories/scenes'
@@ -49,6 +49,7 @@ export async function addInstance(s: Services, sceneId: string, projectId: strin
     color: body.color ?? PLACEMENT_COLOURS[existing.length % PLACEMENT_COLOURS.length]!,
   })
   await repo.touchScene(s.db, sceneId)
+  await s.live.instanceChanged(sceneId, id)
   return toInstance((await repo.findInstance(s.db, id))!)
 }
 
@@ -59,7 +60,19 @@ export async function editInstance(s: Services, instanceId: string, body: Instan
   await repo.touchScene(s.db, row.scene_id)
   // Visibility and colour change nothing measured; a new transform moves the markers with it.
   if (body.matrix !== undefined) await placementChanged(s, row.scene_id, instanceId)
+  await s.live.instanceChanged(row.scene_id, instanceId)
   return toInstance(row)
+}
+
+/** A placement as a writer left it in the work document: a rigid matrix, visibility, colour. */
+export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, _userId: string): Promise<boolean> {
+  if (rigidProblem(entry.matrix) !== null || !/^#[0-9a-fA-F]{6}$/.test(entry.color)) return false
+  const before = await repo.findInstance(s.db, instanceId)
+  if (!before) return false
+  await repo.updateInstance(s.db, instanceId, { matrix: entry.matrix, visible: entry.visible, color: entry.color })
+  await repo.touchScene(s.db, before.scene_id)
+  if (before.matrix.some((v, i) => v !== entry.matrix[i])) await placementChanged(s, before.scene_id, instanceId)
+  return true
 }
 
 export async function removeInstance(s: Services, instanceId: string): Promise<void> {
@@ -68,5 +81,6 @@ export async function removeInstance(s: Services, instanceId: string): Promise<v
   if (row) {
     await repo.touchScene(s.db, row.scene_id)
     await placementChanged(s, row.scene_id, instanceId)
+    await s.live.instanceRemoved(row.scene_id, instanceId)
   }
 }

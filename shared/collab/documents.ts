@@ -11,6 +11,10 @@
  * update a read-only connection sends.
  */
 
+import { z } from 'zod'
+import { Id } from '../schemas/common'
+import { MARKER_KINDS } from '../schemas/markers'
+
 export const DOCUMENT_VERSION = 1
 
 export const DOCUMENT_KINDS = ['work', 'record'] as const
@@ -46,3 +50,22 @@ export type CloseCodeName = keyof typeof CLOSE_CODES
 
 /** Awareness (presence) limits per connection. */
 export const AWARENESS_LIMITS = { maxBytes: 2048, perSecond: 20 } as const
+
+const Finite = z.number({ error: 'must be a finite number' })
+
+/** A marker in the work document: anchors in each placement's own frame (metres). */
+export const LiveMarker = z
+  .object({
+    kind: z.enum(MARKER_KINDS),
+    label: z.string().trim().min(1).max(80),
+    anchors: z.array(z.object({ instanceId: Id, x: Finite, y: Finite, z: Finite }).strict()).max(3),
+    params: z.record(z.string(), z.unknown()),
+  })
+  .strict()
+export type LiveMarker = z.infer<typeof LiveMarker>
+
+/** A placement in the work document. */
+export const LiveInstance = z
+  .object({ scanId: Id, matrix: z.array(Finite).length(16), visible: z.boolean(), color: z.string() })
+  .strict()
+export type LiveInstance = z.infer<typeof LiveInstance>

@@ -16,6 +16,8 @@ import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 let sceneId: string
+let instanceId: string
+let ownerAgent: ReturnType<TestServer['agent']>
 const cookies: Record<string, string> = {}
 const open: WebsocketProvider[] = []
 
@@ -58,6 +60,11 @@ beforeAll(async () => {
   const projectId = (await people.owner.agent.post('/api/projects').send({ name: 'Live' }).expect(201)).body.project.id
   for (const role of ['measurer', 'mentor'] as const) await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
   sceneId = (await people.owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Live scene' }).expect(201)).body.scene.id
+  // A placement of a scan marked ready by hand (no worker here: its markers stay pending, which is enough).
+  const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
+  await t.server.services.db.updateTable('scans').set({ status: 'ready' }).where('id', '=', scan.body.scan.id).execute()
+  instanceId = (await people.owner.agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scan.body.scan.id }).expect(201)).body.instance.id
+  ownerAgent = people.owner.agent
   for (const [role, p] of Object.entries(people)) cookies[role] = await cookieOf(p.email, p.password)
 })
 afterAll(async () => {
@@ -141,5 +148,67 @@ describe('live documents', () => {
     const bState = room.awareness.getStates().get(b.doc.clientID) as { user: { name: string }; cursor: number[] }
     expect(bState.user.name).toBe('Live Measurer')
     expect(bState.cursor).toEqual([1, 2, 3])
+  })
+})
+
+describe('one model: the API and the live documents', () => {
+  const anchors = () => [
+    { instanceId, x: 0, y: 0, z: 0 },
+    { instanceId, x: 1, y: 0, z: 0 },
+  ]
+
+  it('shows a marker made through the API in the work document, and its record in the record document', async () => {
+    const work = client(cookies.mentor!), record = client(cookies.mentor!, `${sceneId}/record`)
+    await Promise.all([synced(work.provider), synced(record.provider)])
+    const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'made by REST', anchors: anchors() }).expect(201)).body.marker
+    await until(() => work.markers.has(made.id) && record.doc.getMap('markers').has(made.id))
+    expect(work.markers.get(made.id)).toMatchObject({ kind: 'distance', label: 'made by REST', anchors: anchors() })
+    expect(record.doc.getMap('markers').get(made.id)).toMatchObject({ revision: 1, author: { name: 'Live Owner' } })
+    await ownerAgent.delete(`/api/markers/${made.id}`).expect(204)
+    await until(() => !work.markers.has(made.id) && !record.doc.getMap('markers').has(made.id))
+  })
+
+  it('stores a marker a writer makes live, as the API returns it', async () => {
+    const w = client(cookies.measurer!)
+    await synced(w.provider)
+    const id = '5e0e0000-0000-4000-8000-000000000001'
+    w.markers.set(id, { kind: 'distance', label: 'made live', anchors: anchors(), params: {} })
+    const deadline = Date.now() + 5000
+    let found: { label: string; createdBy: { name: string } } | undefined
+    while (!found && Date.now() < deadline) {
+      found = (await ownerAgent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers.find((m: { id: string }) => m.id === id)
+      if (!found) await new Promise((r) => setTimeout(r, 50))
+    }
+    expect(found).toMatchObject({ label: 'made live', createdBy: { name: 'Live Measurer' } })
+  })
+
+  it('puts back a live marker the service refuses (a distance with one anchor)', async () => {
+    const w = client(cookies.measurer!)
+    await synced(w.provider)
+    const id = '5e0e0000-0000-4000-8000-000000000002'
+    w.markers.set(id, { kind: 'distance', label: 'one anchor', anchors: anchors().slice(0, 1), params: {} })
+    await until(() => !w.markers.has(id))
+    const list = (await ownerAgent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers
+    expect(list.some((m: { id: string }) => m.id === id)).toBe(false)
+  })
+
+  it('moves a placement live, as the API then returns it, and puts back a matrix that is not rigid', async () => {
+    const w = client(cookies.measurer!)
+    await synced(w.provider)
+    const instances = w.doc.getMap<{ scanId: string; matrix: number[]; visible: boolean; color: string }>(WORK_MAPS.instances)
+    await until(() => instances.has(instanceId))
+    const moved = [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 2, 3, 0, 1]
+    instances.set(instanceId, { ...instances.get(instanceId)!, matrix: moved })
+    const deadline = Date.now() + 5000
+    let matrix: number[] = []
+    while (Date.now() < deadline) {
+      matrix = (await ownerAgent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances[0].matrix
+      if (matrix[12] === 2) break
+      await new Promise((r) => setTimeout(r, 50))
+    }
+    expect(matrix).toEqual(moved)
+    instances.set(instanceId, { ...instances.get(instanceId)!, matrix: [2, 0, 0, 0, 0, 2, 0, 0, 0, 0, 2, 0, 0, 0, 0, 1] })
+    await until(() => instances.get(instanceId)!.matrix[0] === 1)
+    expect((await ownerAgent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances[0].matrix).toEqual(moved)
   })
 })
