@@ -99,3 +99,40 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   expect(problems).toEqual([])
   await context.close()
 })
+
+it('shows a marker one person places to another within a second, with who is here now', { timeout: 120_000 }, async () => {
+  const open = async (role: 'measurer' | 'mentor') => {
+    const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
+    const page = await context.newPage()
+    const problems = watchConsole(page)
+    await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
+    await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === role)!.email)
+    await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
+    await page.getByTestId('sign-in-submit').click()
+    await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+    await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
+    await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
+    await expect.poll(() => page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
+    return { page, context, problems }
+  }
+  const measurer = await open('measurer')
+  const mentor = await open('mentor')
+  // Each sees the other here now, named from their sessions.
+  await expect.poll(() => mentor.page.getByTestId('here-now-person').getAttribute('title'), { timeout: 5_000 }).toBe('Tomas Reyne')
+  await expect.poll(() => measurer.page.getByTestId('here-now-person').getAttribute('title'), { timeout: 5_000 }).toBe('Maren Holt')
+  const before = await mentor.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
+  await measurer.page.keyboard.press('d')
+  const pick = (p: [number, number, number]) => measurer.page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.markers.pick(x, y, z), p)
+  await pick([DOOR.halfWidth, DOOR.wallThickness / 2, 1.5])
+  await pick([DOOR.halfWidth + 0.5, 0, 1.5])
+  await measurer.page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, before, { timeout: 20_000 })
+  const placedAt = Date.now()
+  await mentor.page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, before, { timeout: 5_000 })
+  const seenAfterMs = Date.now() - placedAt
+  expect(seenAfterMs).toBeLessThan(1_000)
+  await mentor.page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 5_000 })
+  await shot(mentor.page, '42-marker-seen-live')
+  expect([...measurer.problems, ...mentor.problems]).toEqual([])
+  await measurer.context.close()
+  await mentor.context.close()
+})
