@@ -63,6 +63,8 @@ export interface Config {
   worker: 'spawn' | 'none'
   /** A processing scan whose worker has not beaten for this long is queued again. */
   ingestStaleMs: number
+  /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
+  liveSettleMs: number
 }
 
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */
@@ -115,5 +117,6 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     uploads: { limitBytes: e.UPLOAD_LIMIT_BYTES, lazLimitBytes: e.LAZ_LIMIT_BYTES },
     worker: e.WORKER,
     ingestStaleMs: test ? 3000 : 30_000,
+    liveSettleMs: test ? 300 : 2000,
   }
 }

@@ -118,7 +118,7 @@ export class LiveDocumentsSync implements LiveSync {
   private async applyMarker(room: Room, markerId: string, value: unknown, conn: Connection): Promise<void> {
     const s = this.services
     if (value === null) {
-      await markers.removeMarker(s, markerId, { fromLive: true })
+      await markers.removeMarker(s, markerId, { fromLive: true, userId: conn.userId })
       ;(await this.room(room.sceneId, 'record')).transact((doc) => doc.getMap(RECORD_MAPS.markers).delete(markerId))
       return
     }

@@ -192,8 +192,20 @@ export interface SceneSnapshotsTable {
   created_at: Timestamp
 }
 
+export interface MarkerRevisionsTable {
+  id: Generated<string>
+  marker_id: string
+  scene_id: string
+  revision: number
+  action: 'created' | 'edited' | 'deleted' | 'restored'
+  state: Json<{ kind: string; label: string; anchors: unknown[]; params: Record<string, unknown> }>
+  user_id: string | null
+  created_at: Timestamp
+}
+
 export interface Database {
   markers: MarkersTable
+  marker_revisions: MarkerRevisionsTable
   scene_updates: SceneUpdatesTable
   scene_snapshots: SceneSnapshotsTable
   scenes: ScenesTable

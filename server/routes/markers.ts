@@ -1,4 +1,4 @@
-import { MarkerCreateBody, MarkerParams, MarkerUpdateBody, SceneParams } from '@shared/schemas'
+import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerUpdateBody, SceneParams } from '@shared/schemas'
 import * as markers from '../services/markers'
 import { defineRoute, type RouteDef } from './registry'
 
@@ -38,8 +38,23 @@ export const markerRoutes: RouteDef[] = [
     path: '/markers/:markerId',
     access: { kind: 'project', right: 'editMarkers' },
     params: MarkerParams,
-    handler: async ({ services, params }) => {
-      await markers.removeMarker(services, params.markerId)
+    handler: async ({ services, params, user }) => {
+      await markers.removeMarker(services, params.markerId, { userId: user?.id ?? null })
     },
+  }),
+  defineRoute({
+    method: 'get',
+    path: '/markers/:markerId/history',
+    access: { kind: 'project', right: 'view' },
+    params: MarkerParams,
+    handler: async ({ services, params }) => ({ body: { revisions: await markers.historyOf(services, params.markerId) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/markers/:markerId/restore',
+    access: { kind: 'project', right: 'editMarkers' },
+    params: MarkerParams,
+    body: MarkerRestoreBody,
+    handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.restoreMarker(services, params.markerId, body.revisionId, user?.id ?? null) } }),
   }),
 ]

@@ -1,9 +1,10 @@
 import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import type { LiveMarker } from '@shared/collab/documents'
-import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerUpdateBody } from '@shared/schemas'
+import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
 import { ErrorCode } from '@shared/schemas/common'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
+import * as revisions from '../repositories/markerRevisions'
 import { listInstances, touchScene } from '../repositories/scenes'
 import type { Services } from '../types'
 import type { MarkerChecker } from '../markers/checker'
@@ -79,12 +80,13 @@ export async function createMarker(s: Services, sceneId: string, body: MarkerCre
   const label = body.label ?? defaultLabel(body.kind, Number((await repo.countMarkersOfKind(s.db, sceneId, body.kind)).n) + 1)
   const { id } = await repo.insertMarker(s.db, { sceneId, kind: body.kind, label, anchors: toLocal(body.anchors, placements), params: body.params, userId })
   await touchScene(s.db, sceneId)
+  await revisions.insertRevision(s.db, (await repo.findMarker(s.db, id))!, 'created', userId)
   await checker(s).checkNow(id)
   await s.live.markerChanged(sceneId, id)
   return present(s, id)
 }
 
-export async function updateMarker(s: Services, markerId: string, body: MarkerUpdateBody, userId: string | null): Promise<Marker> {
+export async function updateMarker(s: Services, markerId: string, body: MarkerUpdateBody, userId: string | null, options: { action?: 'edited' | 'restored' } = {}): Promise<Marker> {
   const row = await repo.findMarker(s.db, markerId)
   if (!row) throw HttpError.notFound('No such marker.')
   const placements = await placementsOf(s, row.scene_id)
@@ -105,6 +107,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
     userId,
   })
   await touchScene(s.db, row.scene_id)
+  await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, options.action ?? 'edited', userId)
   if (geometry) {
     await checker(s).checkNow(markerId)
     if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
@@ -147,15 +150,17 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
     revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
   }
   await touchScene(s.db, sceneId)
+  settleLater(s, markerId, userId, row ? 'edited' : 'created')
   // Checked in the background (latest wins); the result goes to the record document.
   checker(s).schedule([{ id: markerId, revision }])
   await s.live.checkStored(sceneId, markerId)
   return null
 }
 
-export async function removeMarker(s: Services, markerId: string, options: { fromLive?: boolean } = {}): Promise<void> {
+export async function removeMarker(s: Services, markerId: string, options: { fromLive?: boolean; userId?: string | null } = {}): Promise<void> {
   const row = await repo.findMarker(s.db, markerId)
   if (!row) return
+  await revisions.insertRevision(s.db, row, 'deleted', options.userId ?? null)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
   if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
@@ -170,4 +175,61 @@ export async function placementChanged(s: Services, sceneId: string, instanceId:
 /** The project's tolerance or margin changed: every marker is checked again. */
 export async function settingsChanged(s: Services, projectId: string): Promise<void> {
   checker(s).schedule(await repo.invalidateMarkersOfProject(s.db, projectId))
+}
+
+/**
+ * Live edits come many a second while a person drags: one revision per person and marker once they have
+ * left it alone for `liveSettleMs` (the first of a run decides created or edited).
+ */
+const settling = new Map<string, { timer: NodeJS.Timeout; action: 'created' | 'edited' }>()
+
+function settleLater(s: Services, markerId: string, userId: string, action: 'created' | 'edited'): void {
+  const key = `${userId}:${markerId}`
+  const earlier = settling.get(key)
+  if (earlier) clearTimeout(earlier.timer)
+  const first = earlier?.action ?? action
+  const timer = setTimeout(() => {
+    settling.delete(key)
+    void (async () => {
+      const row = await repo.findMarker(s.db, markerId)
+      if (row) await revisions.insertRevision(s.db, row, first, userId)
+    })().catch((err) => s.log.error({ err, markerId }, 'a live revision could not be recorded'))
+  }, s.config.liveSettleMs)
+  timer.unref()
+  settling.set(key, { timer, action: first })
+}
+
+/** The marker's settled edits, oldest first, anchors in the scene frame with today's placements. */
+export async function historyOf(s: Services, markerId: string): Promise<MarkerRevision[]> {
+  const rows = await revisions.listRevisions(s.db, markerId)
+  if (rows.length === 0) throw HttpError.notFound('No such marker.')
+  const placements = await placementsOf(s, rows[0]!.scene_id)
+  return rows.map((r) => {
+    const state = r.state as { kind: MarkerKind; label: string; anchors: repo.StoredAnchor[]; params: Record<string, unknown> }
+    return {
+      id: r.id,
+      markerId: r.marker_id,
+      revision: r.revision,
+      action: r.action,
+      state: { ...state, anchors: state.anchors.map((a) => toScene(a, placements)) },
+      by: r.user_id && r.user_name ? { id: r.user_id, name: r.user_name } : null,
+      at: r.created_at.toISOString(),
+    }
+  })
+}
+
+function toScene(a: repo.StoredAnchor, placements: Placements): Anchor {
+  const m = placements.get(a.instanceId)
+  if (!m) return { ...a }
+  const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
+  return { instanceId: a.instanceId, x, y, z }
+}
+
+/** An earlier state of the marker becomes its current one, recorded as a new revision ("restored"). */
+export async function restoreMarker(s: Services, markerId: string, revisionId: string, userId: string | null): Promise<Marker> {
+  const revision = await revisions.findRevision(s.db, markerId, revisionId)
+  if (!revision) throw invalid('revisionId', 'no revision with this id in the marker\'s history.')
+  const state = revision.state as { label: string; anchors: repo.StoredAnchor[]; params: Record<string, unknown> }
+  const placements = await placementsOf(s, revision.scene_id)
+  return updateMarker(s, markerId, { label: state.label, anchors: state.anchors.map((a) => toScene(a, placements)), params: state.params }, userId, { action: 'restored' })
 }

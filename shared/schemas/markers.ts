@@ -259,3 +259,21 @@ export const MarkerSettings = z.object({
   requiredMargin: z.number(),
 })
 export type MarkerSettings = z.infer<typeof MarkerSettings>
+
+export const REVISION_ACTIONS = ['created', 'edited', 'deleted', 'restored'] as const
+
+/** One settled edit of a marker: who, when, what, and the whole state (anchors in the scene frame). */
+export const MarkerRevision = z.object({
+  id: z.string(),
+  markerId: Id,
+  revision: z.number().int(),
+  action: z.enum(REVISION_ACTIONS),
+  state: z.object({ kind: z.enum(MARKER_KINDS), label: z.string(), anchors: z.array(Anchor), params: z.record(z.string(), z.unknown()) }),
+  by: PersonRef,
+  at: Timestamp,
+})
+export type MarkerRevision = z.infer<typeof MarkerRevision>
+export const MarkerHistory = z.object({ revisions: z.array(MarkerRevision) })
+
+export const MarkerRestoreBody = z.object({ revisionId: z.string({ error: 'must be a revision id' }).regex(/^\d{1,18}$/, { error: 'must be a revision id from the history' }) }).strict()
+export type MarkerRestoreBody = z.infer<typeof MarkerRestoreBody>

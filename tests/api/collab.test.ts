@@ -212,3 +212,52 @@ describe('one model: the API and the live documents', () => {
     expect((await ownerAgent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances[0].matrix).toEqual(moved)
   })
 })
+
+describe('history', () => {
+  const at = (x: number) => [
+    { instanceId, x, y: 0, z: 0 },
+    { instanceId, x: x + 1, y: 0, z: 0 },
+  ]
+
+  it('records a revision per API write with its author and full state, and restores an earlier one as a new revision', async () => {
+    const m = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'first', anchors: at(0) }).expect(201)).body.marker
+    await ownerAgent.patch(`/api/markers/${m.id}`).send({ label: 'second' }).expect(200)
+    await ownerAgent.patch(`/api/markers/${m.id}`).send({ anchors: at(0.5) }).expect(200)
+    const history = (await ownerAgent.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions
+    expect(history.map((r: { action: string; state: { label: string } }) => [r.action, r.state.label])).toEqual([
+      ['created', 'first'],
+      ['edited', 'second'],
+      ['edited', 'second'],
+    ])
+    expect(history[0].by).toMatchObject({ name: 'Live Owner' })
+    expect(history[2].state.anchors[0].x).toBeCloseTo(0.5, 12)
+    const restored = (await ownerAgent.post(`/api/markers/${m.id}/restore`).send({ revisionId: history[0].id }).expect(200)).body.marker
+    expect(restored).toMatchObject({ label: 'first' })
+    expect(restored.anchors[0].x).toBeCloseTo(0, 12)
+    const after = (await ownerAgent.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions
+    expect(after.at(-1)).toMatchObject({ action: 'restored', state: { label: 'first' } })
+    const bad = await ownerAgent.post(`/api/markers/${m.id}/restore`).send({ revisionId: '999999' }).expect(400)
+    expect(bad.body.error.message).toMatch(/^body\.revisionId: no revision/)
+  })
+
+  it('records one revision for a run of live edits, once the author leaves the marker alone', async () => {
+    const w = client(cookies.measurer!)
+    await synced(w.provider)
+    const id = '5e0e0000-0000-4000-8000-000000000003'
+    for (let i = 0; i < 5; i++) {
+      w.markers.set(id, { kind: 'distance', label: `dragging ${i}`, anchors: at(i * 0.1), params: {} })
+      await new Promise((r) => setTimeout(r, 40))
+    }
+    const deadline = Date.now() + 5000
+    let revisions: { action: string; state: { label: string } }[] = []
+    while (Date.now() < deadline) {
+      const res = await ownerAgent.get(`/api/markers/${id}/history`)
+      revisions = res.status === 200 ? res.body.revisions : []
+      if (revisions.length > 0) break
+      await new Promise((r) => setTimeout(r, 100))
+    }
+    await new Promise((r) => setTimeout(r, 600))
+    revisions = (await ownerAgent.get(`/api/markers/${id}/history`).expect(200)).body.revisions
+    expect(revisions.map((r) => [r.action, r.state.label])).toEqual([['created', 'dragging 4']])
+  })
+})

@@ -1,0 +1,34 @@
+import type { Conn } from '../db'
+import type { MarkerWithPeopleRow } from './markers'
+
+export type RevisionAction = 'created' | 'edited' | 'deleted' | 'restored'
+
+export function insertRevision(db: Conn, row: Pick<MarkerWithPeopleRow, 'id' | 'scene_id' | 'revision' | 'kind' | 'label' | 'anchors' | 'params'>, action: RevisionAction, userId: string | null) {
+  return db
+    .insertInto('marker_revisions')
+    .values({
+      marker_id: row.id,
+      scene_id: row.scene_id,
+      revision: row.revision,
+      action,
+      state: JSON.stringify({ kind: row.kind, label: row.label, anchors: row.anchors, params: row.params }),
+      user_id: userId,
+    })
+    .returning('id')
+    .executeTakeFirstOrThrow()
+}
+
+export function listRevisions(db: Conn, markerId: string) {
+  return db
+    .selectFrom('marker_revisions as r')
+    .leftJoin('users as u', 'u.id', 'r.user_id')
+    .selectAll('r')
+    .select('u.name as user_name')
+    .where('r.marker_id', '=', markerId)
+    .orderBy('r.id')
+    .execute()
+}
+
+export function findRevision(db: Conn, markerId: string, id: string) {
+  return db.selectFrom('marker_revisions').selectAll().where('marker_id', '=', markerId).where('id', '=', id).executeTakeFirst()
+}
