@@ -42,7 +42,7 @@ export class LiveDocumentsSync implements LiveSync {
   /** A document loaded for the first time is filled from PostgreSQL, once (its meta map says so). */
   async seed(room: Room): Promise<void> {
     const meta = room.doc.getMap<number>(WORK_MAPS.meta)
-    if (meta.get('version') !== undefined) return
+    if (meta.get('version') !== undefined) return this.reconcile(room)
     const db = this.services.db
     if (room.kind === 'work') {
       const [rows, instances] = await Promise.all([listMarkers(db, room.sceneId), listInstances(db, room.sceneId)])
@@ -60,6 +60,26 @@ export class LiveDocumentsSync implements LiveSync {
         doc.getMap<number>(RECORD_MAPS.meta).set('version', DOCUMENT_VERSION)
       })
     }
+  }
+
+  /**
+   * A server stopped between storing a live update and mirroring it (or between a REST write and its live
+   * copy) leaves the two apart: on load, markers only in the document go through the service, and markers
+   * only in PostgreSQL go into the document.
+   */
+  private async reconcile(room: Room): Promise<void> {
+    if (room.kind !== 'work') return
+    const s = this.services
+    const rows = new Map((await listMarkers(s.db, room.sceneId)).map((r) => [r.id, r]))
+    const map = room.doc.getMap<unknown>(WORK_MAPS.markers)
+    for (const [id, value] of map.entries()) {
+      if (rows.has(id)) continue
+      const parsed = LiveMarker.safeParse(value)
+      const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, null) : 'not a marker'
+      if (problem !== null) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
+    }
+    const missing = [...rows.values()].filter((r) => !map.has(r.id))
+    if (missing.length) room.transact((doc) => missing.forEach((r) => doc.getMap(WORK_MAPS.markers).set(r.id, liveMarkerOf(r))))
   }
 
   async markerChanged(sceneId: string, markerId: string): Promise<void> {

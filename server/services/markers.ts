@@ -120,7 +120,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
  * A marker as a writer left it in the work document (anchors in their placements' frames): validated as the
  * API validates, then stored and checked. Returns null, or why it was refused.
  */
-export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, userId: string): Promise<string | null> {
+export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, userId: string | null): Promise<string | null> {
   const placements = await placementsOf(s, sceneId)
   const row = await repo.findMarker(s.db, markerId)
   if (row && (row.scene_id !== sceneId || row.kind !== entry.kind)) return 'a marker keeps its scene and kind'
@@ -150,7 +150,8 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
     revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
   }
   await touchScene(s.db, sceneId)
-  settleLater(s, markerId, userId, row ? 'edited' : 'created')
+  if (userId) settleLater(s, markerId, userId, row ? 'edited' : 'created')
+  else await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, row ? 'edited' : 'created', null)
   // Checked in the background (latest wins); the result goes to the record document.
   checker(s).schedule([{ id: markerId, revision }])
   await s.live.checkStored(sceneId, markerId)
