@@ -1,6 +1,7 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
 // DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
 import { formatIngestBench, runIngestBench } from './ingest'
+import { formatLiveBench, runLiveBench } from './live'
 import { formatMarkerBench, runMarkerBench } from './markers'
 import { runOctreeBench } from './octree'
 import { formatParseBench, runParseBench } from './parse'
@@ -13,7 +14,7 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers). */
+/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, live). */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -34,3 +35,4 @@ if (wanted('octree')) section(
 if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
 if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
+if (wanted('live')) section('Live documents (targets: an edit seen by 50 clients p99 < 50 ms; state at any of 10 k revisions < 100 ms)', formatLiveBench(await runLiveBench(log)))

@@ -32,3 +32,19 @@ export function listRevisions(db: Conn, markerId: string) {
 export function findRevision(db: Conn, markerId: string, id: string) {
   return db.selectFrom('marker_revisions').selectAll().where('marker_id', '=', markerId).where('id', '=', id).executeTakeFirst()
 }
+
+/** Each marker's last revision at or before `at` (deleted ones left out): the scene's markers as they were. */
+export async function stateAt(db: Conn, sceneId: string, at: Date) {
+  const rows = await db
+    .selectFrom('marker_revisions as r')
+    .leftJoin('users as u', 'u.id', 'r.user_id')
+    .selectAll('r')
+    .select('u.name as user_name')
+    .distinctOn('r.marker_id')
+    .where('r.scene_id', '=', sceneId)
+    .where('r.created_at', '<=', at)
+    .orderBy('r.marker_id')
+    .orderBy('r.id', 'desc')
+    .execute()
+  return rows.filter((r) => r.action !== 'deleted')
+}

@@ -1,4 +1,4 @@
-import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerUpdateBody, SceneParams } from '@shared/schemas'
+import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerUpdateBody, SceneParams, SceneStateQuery } from '@shared/schemas'
 import * as markers from '../services/markers'
 import { defineRoute, type RouteDef } from './registry'
 
@@ -17,6 +17,14 @@ export const markerRoutes: RouteDef[] = [
     params: SceneParams,
     body: MarkerCreateBody,
     handler: async ({ services, params, body, user }) => ({ status: 201, body: { marker: await markers.createMarker(services, params.sceneId, body, user?.id ?? null) } }),
+  }),
+  defineRoute({
+    method: 'get',
+    path: '/scenes/:sceneId/state',
+    access: { kind: 'project', right: 'view' },
+    params: SceneParams,
+    query: SceneStateQuery,
+    handler: async ({ services, params, query }) => ({ body: { at: new Date(query.at).toISOString(), revisions: await markers.sceneStateAt(services, params.sceneId, new Date(query.at)) } }),
   }),
   defineRoute({
     method: 'get',

@@ -204,7 +204,15 @@ function settleLater(s: Services, markerId: string, userId: string, action: 'cre
 export async function historyOf(s: Services, markerId: string): Promise<MarkerRevision[]> {
   const rows = await revisions.listRevisions(s.db, markerId)
   if (rows.length === 0) throw HttpError.notFound('No such marker.')
-  const placements = await placementsOf(s, rows[0]!.scene_id)
+  return toRevisions(rows, await placementsOf(s, rows[0]!.scene_id))
+}
+
+/** The scene's markers as they were at `at` (the timeline). */
+export async function sceneStateAt(s: Services, sceneId: string, at: Date): Promise<MarkerRevision[]> {
+  return toRevisions(await revisions.stateAt(s.db, sceneId, at), await placementsOf(s, sceneId))
+}
+
+function toRevisions(rows: Awaited<ReturnType<typeof revisions.listRevisions>>, placements: Placements): MarkerRevision[] {
   return rows.map((r) => {
     const state = r.state as { kind: MarkerKind; label: string; anchors: repo.StoredAnchor[]; params: Record<string, unknown> }
     return {

@@ -277,3 +277,7 @@ export const MarkerHistory = z.object({ revisions: z.array(MarkerRevision) })
 
 export const MarkerRestoreBody = z.object({ revisionId: z.string({ error: 'must be a revision id' }).regex(/^\d{1,18}$/, { error: 'must be a revision id from the history' }) }).strict()
 export type MarkerRestoreBody = z.infer<typeof MarkerRestoreBody>
+
+/** The scene's markers as they were at a time (the timeline): each one's last revision by then. */
+export const SceneStateQuery = z.object({ at: z.iso.datetime({ offset: true, error: 'must be a time such as 2026-12-02T10:00:00Z' }) }).strict()
+export const SceneState = z.object({ at: Timestamp, revisions: z.array(MarkerRevision) })

@@ -236,6 +236,16 @@ describe('history', () => {
     expect(restored.anchors[0].x).toBeCloseTo(0, 12)
     const after = (await ownerAgent.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions
     expect(after.at(-1)).toMatchObject({ action: 'restored', state: { label: 'first' } })
+    // The timeline: the scene as it was between the first and the second edit.
+    const between = new Date((Date.parse(history[0].at) + Date.parse(history[1].at)) / 2)
+    if (Date.parse(history[1].at) > Date.parse(history[0].at)) {
+      const then = (await ownerAgent.get(`/api/scenes/${sceneId}/state`).query({ at: between.toISOString() }).expect(200)).body.revisions
+      expect(then.find((r: { markerId: string }) => r.markerId === m.id)).toMatchObject({ action: 'created', state: { label: 'first' } })
+    }
+    const now = (await ownerAgent.get(`/api/scenes/${sceneId}/state`).query({ at: new Date().toISOString() }).expect(200)).body.revisions
+    expect(now.find((r: { markerId: string }) => r.markerId === m.id)).toMatchObject({ action: 'restored', state: { label: 'first' } })
+    const badTime = await ownerAgent.get(`/api/scenes/${sceneId}/state`).query({ at: 'yesterday' }).expect(400)
+    expect(badTime.body.error.message).toMatch(/^query\.at: must be a time/)
     const bad = await ownerAgent.post(`/api/markers/${m.id}/restore`).send({ revisionId: '999999' }).expect(400)
     expect(bad.body.error.message).toMatch(/^body\.revisionId: no revision/)
   })
