@@ -1,4 +1,4 @@
-import { onBeforeUnmount, ref, toValue, watch, type MaybeRefOrGetter } from 'vue'
+import { onBeforeUnmount, onMounted, ref, toValue, watch, type MaybeRefOrGetter } from 'vue'
 import { useQueryClient } from '@tanstack/vue-query'
 import * as Y from 'yjs'
 import { WebsocketProvider } from 'y-websocket'
@@ -106,4 +106,15 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       work?.awareness.setLocalStateField('editing', markerId)
     },
   }
+}
+
+/** `window.__spanmark.live` for browser tests: the live status, who is here now, how many pointers are drawn. */
+export function installLiveTestHook(live: ReturnType<typeof useLiveScene>, cursorsDrawn: () => number): void {
+  const w = window as unknown as { __spanmark?: Record<string, unknown> }
+  onMounted(() => {
+    w.__spanmark = { ...w.__spanmark, live: { status: () => live.status.value, people: () => live.people.value, cursorsDrawn } }
+  })
+  onBeforeUnmount(() => {
+    if (w.__spanmark) delete w.__spanmark.live
+  })
 }

@@ -109,6 +109,7 @@ export class PointViewer {
   private slabOutline = new SlabOutline()
   private marks: Record<MarkKind, SceneMark>
   private markerLayer: MarkerLayer
+  private readonly peopleCursors = new Map<number, SceneMark>()
   private cache: TileCache
   private requests: TileRequests
   private instances = new Map<string, ViewInstance>()
@@ -290,6 +291,32 @@ export class PointViewer {
   setMark(kind: 'section' | 'pick', point: Vec3 | null): void {
     this.marks[kind].place(point && this.origin ? this.sceneToRender(point) : null)
     this.needsRender = true
+  }
+
+  /** Other people's pointers (scene frame), each a ring in their colour; an empty list clears them. */
+  setPeopleCursors(cursors: readonly { id: number; colour: string; point: Vec3 }[]): void {
+    const keep = new Set(cursors.map((c) => c.id))
+    for (const [id, mark] of this.peopleCursors) {
+      if (keep.has(id)) continue
+      this.scene.remove(mark.object)
+      mark.dispose()
+      this.peopleCursors.delete(id)
+    }
+    for (const c of cursors) {
+      let mark = this.peopleCursors.get(c.id)
+      if (!mark) {
+        mark = new SceneMark({ color: c.colour, ring: true, size: 18 }, this.pixelRatio)
+        this.peopleCursors.set(c.id, mark)
+        this.scene.add(mark.object)
+      }
+      mark.place(this.origin ? this.sceneToRender(c.point) : null)
+    }
+    this.needsRender = true
+  }
+
+  /** How many other people's pointers are drawn (browser tests). */
+  get peopleCursorCount(): number {
+    return [...this.peopleCursors.values()].filter((m) => m.object.visible).length
   }
 
   /** Draws exactly these markers (scene frame); see markerLayer.ts. */
@@ -552,6 +579,7 @@ export class PointViewer {
     this.grid.dispose()
     this.slabOutline.dispose()
     this.markerLayer.dispose()
+    for (const mark of this.peopleCursors.values()) mark.dispose()
     for (const mark of Object.values(this.marks)) mark.dispose()
     this.emitter.clear()
     this.renderer.dispose()

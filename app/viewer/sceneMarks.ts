@@ -28,8 +28,13 @@ void main() {
 `
 
 export type MarkKind = 'hover' | 'pick' | 'section'
+export interface MarkStyle {
+  color: string
+  ring: boolean
+  size: number
+}
 
-const STYLE: Record<MarkKind, { color: string; ring: boolean; size: number }> = {
+const STYLE: Record<MarkKind, MarkStyle> = {
   hover: { color: '#F7F3EC', ring: true, size: 16 },
   pick: { color: '#C98A12', ring: false, size: 12 },
   section: { color: '#C7A0E8', ring: false, size: 12 },
@@ -39,8 +44,9 @@ export class SceneMark {
   readonly object: THREE.Points
   private material: THREE.ShaderMaterial
 
-  constructor(kind: MarkKind, pixelRatio: number) {
-    const style = STYLE[kind]
+  /** One of the viewer's own marks, or another person's pointer in their colour. */
+  constructor(kind: MarkKind | MarkStyle, pixelRatio: number) {
+    const style = typeof kind === 'string' ? STYLE[kind] : kind
     const [r, g, b] = rgbOfHex(style.color)
     this.material = new THREE.ShaderMaterial({
       uniforms: { uColor: { value: new THREE.Vector3(r, g, b) }, uRing: { value: style.ring ? 1 : 0 }, uSize: { value: style.size * pixelRatio } },

@@ -100,7 +100,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   await context.close()
 })
 
-it('shows a marker one person places to another within a second, with who is here now', { timeout: 120_000 }, async () => {
+it('shows a marker one person places to another within a second, with who is here now and where their pointer is', { timeout: 120_000 }, async () => {
   const open = async (role: 'measurer' | 'mentor') => {
     const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
     const page = await context.newPage()
@@ -120,6 +120,16 @@ it('shows a marker one person places to another within a second, with who is her
   // Each sees the other here now, named from their sessions.
   await expect.poll(() => mentor.page.getByTestId('here-now-person').getAttribute('title'), { timeout: 5_000 }).toBe('Tomas Reyne')
   await expect.poll(() => measurer.page.getByTestId('here-now-person').getAttribute('title'), { timeout: 5_000 }).toBe('Maren Holt')
+  // The measurer's pointer over the wall shows in the mentor's view, in the measurer's colour.
+  const spot = await measurer.page.evaluate(() => (window as unknown as { __spanmark: { viewer: { project(x: number, y: number, z: number): { x: number; y: number } } } }).__spanmark.viewer.project(1.2, 0, 1.2))
+  const box = (await measurer.page.getByTestId('scene-viewport').boundingBox())!
+  for (let i = 0; i < 4; i++) {
+    await measurer.page.mouse.move(box.x + spot.x + i, box.y + spot.y)
+    await measurer.page.waitForTimeout(150)
+  }
+  type LiveHook = { __spanmark: { live: { people(): { self: boolean; cursor: number[] | null }[]; cursorsDrawn(): number } } }
+  await mentor.page.waitForFunction(() => (window as unknown as LiveHook).__spanmark.live.people().some((p) => !p.self && p.cursor !== null), null, { timeout: 5_000 })
+  await mentor.page.waitForFunction(() => (window as unknown as LiveHook).__spanmark.live.cursorsDrawn() >= 1, null, { timeout: 5_000 })
   const before = await mentor.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
   await measurer.page.keyboard.press('d')
   const pick = (p: [number, number, number]) => measurer.page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.markers.pick(x, y, z), p)
