@@ -1,7 +1,7 @@
-import WebSocket from 'ws'
-import * as Y from 'yjs'
-import { WebsocketProvider } from 'y-websocket'
+import type * as Y from 'yjs'
+import type { WebsocketProvider } from 'y-websocket'
 import { sql } from 'kysely'
+import { liveClient } from '../tests/utils/live'
 import { startBenchServer } from './lib/benchServer'
 import { percentile } from './lib/stats'
 
@@ -41,17 +41,10 @@ export async function runLiveBench(log: (l: string) => void = () => {}): Promise
     const scene = (await api('POST', `/api/projects/${bench.projectId}/scenes`, { name: 'Live bench' })).scene
     const instanceId = (await api('POST', `/api/scenes/${scene.id}/instances`, { scanId: scan.id })).instance.id
 
-    const cookie = bench.headers.cookie!
-    class CookieSocket extends WebSocket {
-      constructor(u: string, protocols?: string | string[]) {
-        super(u, protocols, { headers: { cookie, origin: bench.url } })
-      }
-    }
     const connect = () => {
-      const doc = new Y.Doc()
-      const p = new WebsocketProvider(`${bench.url.replace(/^http/, 'ws')}/collab`, scene.id, doc, { WebSocketPolyfill: CookieSocket as unknown as typeof globalThis.WebSocket, disableBc: true })
-      providers.push(p)
-      return { doc, p, markers: doc.getMap<{ label: string }>('markers') }
+      const c = liveClient(bench.url, bench.headers.cookie!, scene.id)
+      providers.push(c.provider)
+      return { p: c.provider, markers: c.markers as Y.Map<{ label: string }> }
     }
     const CLIENTS = 50, EDITS = 200
     log(`live: ${CLIENTS} readers and a writer on one scene...`)

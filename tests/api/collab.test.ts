@@ -3,15 +3,15 @@
 // compaction and reload, and presence limited to the connection's own client id.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import supertest from 'supertest'
-import WebSocket from 'ws'
 import * as Y from 'yjs'
 import * as awarenessProtocol from 'y-protocols/awareness'
 import * as encoding from 'lib0/encoding'
-import { WebsocketProvider } from 'y-websocket'
+import type { WebsocketProvider } from 'y-websocket'
 import pino from 'pino'
 import { CLOSE_CODES, WORK_MAPS } from '@shared/collab/documents'
 import { Room } from '../../server/collab/room'
 import { countUpdates } from '../../server/repositories/sceneUpdates'
+import { liveClient } from '../utils/live'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
@@ -27,17 +27,9 @@ async function cookieOf(email: string, password: string): Promise<string> {
 }
 
 function client(cookie: string | null, path = sceneId, origin: string | null = null) {
-  const headers: Record<string, string> = { origin: origin ?? t.url }
-  if (cookie) headers.cookie = cookie
-  class CookieSocket extends WebSocket {
-    constructor(url: string, protocols?: string | string[]) {
-      super(url, protocols, { headers })
-    }
-  }
-  const doc = new Y.Doc()
-  const provider = new WebsocketProvider(`${t.url.replace(/^http/, 'ws')}/collab`, path, doc, { WebSocketPolyfill: CookieSocket as unknown as typeof globalThis.WebSocket, disableBc: true })
-  open.push(provider)
-  return { doc, provider, markers: doc.getMap<unknown>(WORK_MAPS.markers) }
+  const c = liveClient(t.url, cookie, path, origin ?? t.url)
+  open.push(c.provider)
+  return c
 }
 
 const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))

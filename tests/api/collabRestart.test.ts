@@ -6,11 +6,10 @@ import os from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import supertest from 'supertest'
-import WebSocket from 'ws'
-import * as Y from 'yjs'
-import { WebsocketProvider } from 'y-websocket'
+import type { WebsocketProvider } from 'y-websocket'
 import { createDb, createPool } from '../../server/db'
 import { createTestDatabase } from '../utils/db'
+import { liveClient } from '../utils/live'
 
 let database: Awaited<ReturnType<typeof createTestDatabase>>
 let child: ChildProcess | null = null
@@ -34,16 +33,10 @@ async function startServer(): Promise<string> {
   })
 }
 
-function liveClient(url: string, cookie: string, sceneId: string) {
-  class CookieSocket extends WebSocket {
-    constructor(u: string, protocols?: string | string[]) {
-      super(u, protocols, { headers: { cookie, origin: url } })
-    }
-  }
-  const doc = new Y.Doc()
-  const provider = new WebsocketProvider(`${url.replace(/^http/, 'ws')}/collab`, sceneId, doc, { WebSocketPolyfill: CookieSocket as unknown as typeof globalThis.WebSocket, disableBc: true })
-  providers.push(provider)
-  return { doc, provider, markers: doc.getMap<unknown>('markers') }
+function connect(url: string, cookie: string, sceneId: string) {
+  const c = liveClient(url, cookie, sceneId)
+  providers.push(c.provider)
+  return c
 }
 
 async function until(check: () => boolean, ms = 10_000): Promise<void> {
@@ -77,7 +70,7 @@ it('keeps every update a client saw when the server is killed with SIGKILL and s
   await db.updateTable('scans').set({ status: 'ready' }).where('id', '=', scan.body.scan.id).execute()
   const instanceId = (await agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scan.body.scan.id }).expect(201)).body.instance.id
 
-  const a = liveClient(url, cookie, sceneId), b = liveClient(url, cookie, sceneId)
+  const a = connect(url, cookie, sceneId), b = connect(url, cookie, sceneId)
   await until(() => a.provider.synced && b.provider.synced)
   const ids = Array.from({ length: 30 }, (_, i) => `7e570000-0000-4000-8000-${String(i).padStart(12, '0')}`)
   for (const [i, id] of ids.entries()) {
@@ -90,7 +83,7 @@ it('keeps every update a client saw when the server is killed with SIGKILL and s
   for (const p of providers.splice(0)) p.destroy()
 
   url = await startServer()
-  const fresh = liveClient(url, cookie, sceneId)
+  const fresh = connect(url, cookie, sceneId)
   await until(() => fresh.provider.synced)
   expect(ids.filter((id) => !fresh.markers.has(id))).toEqual([])
   expect((fresh.markers.get(ids[29]!) as { label: string }).label).toBe('live 29')
