@@ -1,8 +1,9 @@
-import { onBeforeUnmount, onMounted, ref, toValue, watch, type MaybeRefOrGetter } from 'vue'
+import { onBeforeUnmount, onMounted, ref, toValue, watch, type MaybeRefOrGetter, type Ref } from 'vue'
 import { useQueryClient } from '@tanstack/vue-query'
 import * as Y from 'yjs'
 import { WebsocketProvider } from 'y-websocket'
-import { CLOSE_CODES, RECORD_MAPS, WORK_MAPS } from '@shared/collab/documents'
+import { CLOSE_CODES, LiveInstance, LiveMarker, LiveRecord, RECORD_MAPS, WORK_MAPS, markerFromDocuments } from '@shared/collab/documents'
+import type { Marker, Scene } from '@shared/schemas'
 import { queryKeys } from './queryKeys'
 
 export type LiveStatus = 'connecting' | 'online' | 'offline' | 'refused'
@@ -20,41 +21,122 @@ export interface HereNow {
 /** Colours for people here now: Spanmark's own, apart from the marker kinds' and the placements'. */
 const PEOPLE_COLOURS = ['#B5651D', '#3F7F6F', '#7A5C99', '#A23E48', '#4F6D2F', '#2F5D8A', '#8A6D1F', '#6B4E3D']
 
+/** What a page writes into the work document (the server checks and stores it, or puts it back). */
+export interface LiveWriter {
+  /** Both documents have come from the server at least once: the page reads and writes through them. */
+  ready: Ref<boolean>
+  status: Ref<LiveStatus>
+  /** Placement id to its matrix, as the work document holds them. */
+  matrices(): Map<string, number[]>
+  putMarker(markerId: string, entry: LiveMarker): void
+  deleteMarker(markerId: string): void
+}
+
 /**
- * The scene's live documents (y-websocket's provider over /collab): any change in them, by anyone, refreshes
- * the markers and placements the page shows (the API stays the page's reader and writer for now), and their
- * awareness is the "here now" strip. The server names each person from their session.
+ * The scene's live documents (y-websocket's provider over /collab). Once both have synced, they are what the
+ * page shows: every change, by anyone, goes straight into the query cache of the scene's markers (the work
+ * entry with its record entry) and of its placements' matrices, without asking the API again. Edits go into
+ * the work document; while the connection is down they stay in it and merge when it comes back (Yjs), and
+ * the page says it is offline. Awareness is the "here now" strip; the server names each person from their
+ * session.
  */
 export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   const client = useQueryClient()
   const status = ref<LiveStatus>('connecting')
+  const ready = ref(false)
   const people = ref<HereNow[]>([])
   let work: WebsocketProvider | null = null
   let record: WebsocketProvider | null = null
-  let refresh: ReturnType<typeof setTimeout> | null = null
+  let workDoc: Y.Doc | null = null
+  let recordDoc: Y.Doc | null = null
+  let mirror: ReturnType<typeof setTimeout> | null = null
+  /** Markers whose work entry changed after their record entry last did: shown as pending until it moves. */
+  const awaiting = new Set<string>()
 
-  function refreshSoon(id: string): void {
-    if (refresh) return
-    refresh = setTimeout(() => {
-      refresh = null
-      void client.invalidateQueries({ queryKey: queryKeys.markers(id) })
+  function matrices(): Map<string, number[]> {
+    const out = new Map<string, number[]>()
+    workDoc?.getMap<unknown>(WORK_MAPS.instances).forEach((value, id) => {
+      const parsed = LiveInstance.safeParse(value)
+      if (parsed.success) out.set(id, parsed.data.matrix)
+    })
+    return out
+  }
+
+  /** The documents into the query cache: the markers whole, the placements' matrices, visibility and colours. */
+  function mirrorNow(id: string): void {
+    mirror = null
+    if (!workDoc || !recordDoc || !ready.value) return
+    const now = new Date().toISOString()
+    const m = matrices()
+    const records = recordDoc.getMap<unknown>(RECORD_MAPS.markers)
+    const list: Marker[] = []
+    workDoc.getMap<unknown>(WORK_MAPS.markers).forEach((value, markerId) => {
+      const entry = LiveMarker.safeParse(value)
+      if (!entry.success) return
+      const rec = LiveRecord.safeParse(records.get(markerId))
+      list.push(markerFromDocuments(markerId, id, entry.data, rec.success ? rec.data : undefined, m, awaiting.has(markerId), now))
+    })
+    list.sort((a, b) => a.createdAt.localeCompare(b.createdAt) || a.id.localeCompare(b.id))
+    client.setQueryData<Marker[]>(queryKeys.markers(id), list)
+    const instances = workDoc.getMap<unknown>(WORK_MAPS.instances)
+    const scene = client.getQueryData<Scene>(queryKeys.scene(id))
+    if (!scene) return
+    // A placement added or removed needs the API (its scan's name and times); a moved one does not.
+    if (scene.instances.length !== instances.size || scene.instances.some((i) => !instances.has(i.id))) {
       void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
-    }, 30)
+      return
+    }
+    let changed = false
+    const next = scene.instances.map((i) => {
+      const parsed = LiveInstance.safeParse(instances.get(i.id))
+      if (!parsed.success) return i
+      const { matrix, visible, color } = parsed.data
+      if (visible === i.visible && color === i.color && matrix.every((v, k) => v === i.matrix[k])) return i
+      changed = true
+      return { ...i, matrix, visible, color }
+    })
+    if (changed) client.setQueryData<Scene>(queryKeys.scene(id), { ...scene, instances: next })
+  }
+
+  function mirrorSoon(id: string): void {
+    // One mirror per task: a burst of changes (a sync, a drag) is gathered.
+    if (mirror === null) mirror = setTimeout(() => mirrorNow(id), 0)
   }
 
   function stop(): void {
+    if (mirror) clearTimeout(mirror)
+    mirror = null
     work?.destroy()
     record?.destroy()
+    workDoc?.destroy()
+    recordDoc?.destroy()
     work = record = null
+    workDoc = recordDoc = null
+    ready.value = false
+    awaiting.clear()
   }
 
   function start(id: string): void {
     stop()
+    status.value = 'connecting'
     const base = `${location.origin.replace(/^http/, 'ws')}/collab`
-    const workDoc = new Y.Doc(), recordDoc = new Y.Doc()
-    work = new WebsocketProvider(base, id, workDoc, { disableBc: true })
-    record = new WebsocketProvider(base, `${id}/record`, recordDoc, { disableBc: true })
+    const wDoc = new Y.Doc(), rDoc = new Y.Doc()
+    workDoc = wDoc
+    recordDoc = rDoc
+    work = new WebsocketProvider(base, id, wDoc, { disableBc: true })
+    record = new WebsocketProvider(base, `${id}/record`, rDoc, { disableBc: true })
     const provider = work
+    const synced = { work: false, record: false }
+    const onSync = (which: 'work' | 'record') => (isSynced: boolean) => {
+      if (!isSynced || synced[which]) return
+      synced[which] = true
+      if (synced.work && synced.record) {
+        ready.value = true
+        mirrorNow(id)
+      }
+    }
+    work.on('sync', onSync('work'))
+    record.on('sync', onSync('record'))
     provider.on('status', ({ status: s }: { status: string }) => {
       if (status.value === 'refused') return
       status.value = s === 'connected' ? 'online' : s === 'connecting' && status.value === 'connecting' ? 'connecting' : 'offline'
@@ -64,25 +146,41 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       if (code === CLOSE_CODES.forbidden || code === CLOSE_CODES.unauthenticated || code === CLOSE_CODES.badOrigin) {
         status.value = 'refused'
         provider.shouldConnect = false
+        record!.shouldConnect = false
       }
     })
-    workDoc.getMap(WORK_MAPS.markers).observe(() => refreshSoon(id))
-    workDoc.getMap(WORK_MAPS.instances).observe(() => refreshSoon(id))
-    recordDoc.getMap(RECORD_MAPS.markers).observe(() => refreshSoon(id))
+    wDoc.getMap(WORK_MAPS.markers).observe((event) => {
+      if (ready.value) for (const key of event.keysChanged) awaiting.add(key)
+      mirrorSoon(id)
+    })
+    wDoc.getMap(WORK_MAPS.instances).observe((event) => {
+      // Markers on a moved placement are checked again by the server.
+      if (ready.value) {
+        wDoc.getMap<unknown>(WORK_MAPS.markers).forEach((value, markerId) => {
+          const entry = LiveMarker.safeParse(value)
+          if (entry.success && entry.data.anchors.some((a) => event.keysChanged.has(a.instanceId))) awaiting.add(markerId)
+        })
+      }
+      mirrorSoon(id)
+    })
+    rDoc.getMap(RECORD_MAPS.markers).observe((event) => {
+      for (const key of event.keysChanged) awaiting.delete(key)
+      mirrorSoon(id)
+    })
     const awareness = provider.awareness
     awareness.setLocalState({ cursor: null, editing: null })
     awareness.on('change', () => {
       const list: HereNow[] = []
       for (const [clientId, state] of awareness.getStates()) {
         const s = state as { user?: { name?: string }; cursor?: [number, number, number] | null; editing?: string | null }
-        if (!s.user?.name && clientId !== workDoc.clientID) continue
+        if (!s.user?.name && clientId !== wDoc.clientID) continue
         list.push({
           clientId,
           name: s.user?.name ?? 'you',
           colour: PEOPLE_COLOURS[clientId % PEOPLE_COLOURS.length]!,
           cursor: s.cursor ?? null,
           editing: s.editing ?? null,
-          self: clientId === workDoc.clientID,
+          self: clientId === wDoc.clientID,
         })
       }
       people.value = list.sort((a, b) => Number(b.self) - Number(a.self) || a.name.localeCompare(b.name))
@@ -90,20 +188,40 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   }
 
   watch(() => toValue(sceneId), (id) => start(id), { immediate: true })
-  onBeforeUnmount(() => {
-    if (refresh) clearTimeout(refresh)
-    stop()
-  })
+  onBeforeUnmount(stop)
+
+  const writer: LiveWriter = {
+    ready,
+    status,
+    matrices,
+    putMarker(markerId, entry) {
+      workDoc?.transact(() => workDoc!.getMap(WORK_MAPS.markers).set(markerId, entry))
+    },
+    deleteMarker(markerId) {
+      workDoc?.transact(() => workDoc!.getMap(WORK_MAPS.markers).delete(markerId))
+    },
+  }
 
   return {
     status,
+    ready,
     people,
+    writer,
     /** Where this person's pointer is (scene frame), for the others. */
     setCursor(point: [number, number, number] | null): void {
       work?.awareness.setLocalStateField('cursor', point)
     },
     setEditing(markerId: string | null): void {
       work?.awareness.setLocalStateField('editing', markerId)
+    },
+    /** Drops the connections (as a lost network would) and makes them again: for the reconnect test. */
+    disconnect(): void {
+      work?.disconnect()
+      record?.disconnect()
+    },
+    connect(): void {
+      work?.connect()
+      record?.connect()
     },
   }
 }
@@ -112,7 +230,17 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
 export function installLiveTestHook(live: ReturnType<typeof useLiveScene>, cursorsDrawn: () => number): void {
   const w = window as unknown as { __spanmark?: Record<string, unknown> }
   onMounted(() => {
-    w.__spanmark = { ...w.__spanmark, live: { status: () => live.status.value, people: () => live.people.value, cursorsDrawn } }
+    w.__spanmark = {
+      ...w.__spanmark,
+      live: {
+        status: () => live.status.value,
+        ready: () => live.ready.value,
+        people: () => live.people.value,
+        cursorsDrawn,
+        disconnect: () => live.disconnect(),
+        connect: () => live.connect(),
+      },
+    }
   })
   onBeforeUnmount(() => {
     if (w.__spanmark) delete w.__spanmark.live

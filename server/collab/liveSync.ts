@@ -1,4 +1,4 @@
-import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS } from '@shared/collab/documents'
+import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
 import { findMarker, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import * as markers from '../services/markers'
@@ -22,12 +22,12 @@ export function liveInstanceOf(row: InstanceRow): LiveInstance {
   return { scanId: row.scan_id, matrix: row.matrix, visible: row.visible, color: row.color }
 }
 
-function recordOf(row: MarkerWithPeopleRow) {
+function recordOf(row: MarkerWithPeopleRow): LiveRecord {
   return {
     revision: row.revision,
     check: parseStoredCheck(row.check, row.check_state, row.revision),
-    author: row.created_by ? { id: row.created_by, name: row.created_by_name } : null,
-    lastEditor: row.updated_by ? { id: row.updated_by, name: row.updated_by_name } : null,
+    author: row.created_by && row.created_by_name ? { id: row.created_by, name: row.created_by_name } : null,
+    lastEditor: row.updated_by && row.updated_by_name ? { id: row.updated_by, name: row.updated_by_name } : null,
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
   }
@@ -77,6 +77,7 @@ export class LiveDocumentsSync implements LiveSync {
       const parsed = LiveMarker.safeParse(value)
       const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, null) : 'not a marker'
       if (problem !== null) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
+      else await this.checkStored(room.sceneId, id)
     }
     const missing = [...rows.values()].filter((r) => !map.has(r.id))
     if (missing.length) room.transact((doc) => missing.forEach((r) => doc.getMap(WORK_MAPS.markers).set(r.id, liveMarkerOf(r))))
@@ -144,7 +145,9 @@ export class LiveDocumentsSync implements LiveSync {
     }
     const parsed = LiveMarker.safeParse(value)
     const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, markerId, parsed.data, conn.userId) : 'not a marker'
-    if (problem === null) return
+    // The record always has the last word on a live change, even one that changed nothing: clients show a
+    // marker they saw change as pending until its record entry moves.
+    if (problem === null) return this.checkStored(room.sceneId, markerId)
     // Refused: the document goes back to what PostgreSQL holds (or loses the entry).
     s.log.info({ markerId, problem }, 'a live marker change was refused')
     const row = await findMarker(s.db, markerId)
@@ -153,6 +156,7 @@ export class LiveDocumentsSync implements LiveSync {
       if (row && row.scene_id === room.sceneId) m.set(markerId, liveMarkerOf(row))
       else m.delete(markerId)
     })
+    if (row && row.scene_id === room.sceneId) await this.checkStored(room.sceneId, markerId)
   }
 
   private async applyInstance(room: Room, instanceId: string, value: unknown, conn: Connection): Promise<void> {

@@ -152,9 +152,9 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
   await touchScene(s.db, sceneId)
   if (userId) settleLater(s, markerId, userId, row ? 'edited' : 'created')
   else await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, row ? 'edited' : 'created', null)
-  // Checked in the background (latest wins); the result goes to the record document.
+  // Checked in the background (latest wins); the result goes to the record document. The caller writes the
+  // record entry of this revision (pending) at once.
   checker(s).schedule([{ id: markerId, revision }])
-  await s.live.checkStored(sceneId, markerId)
   return null
 }
 

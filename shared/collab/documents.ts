@@ -12,8 +12,9 @@
  */
 
 import { z } from 'zod'
-import { Id } from '../schemas/common'
-import { MARKER_KINDS } from '../schemas/markers'
+import { invertRigid, transformPoint, type Matrix4 } from '../geometry/rigidTransform'
+import { Id, Timestamp } from '../schemas/common'
+import { Check, MARKER_KINDS, PersonRef, blankCheck, type Anchor, type Marker } from '../schemas/markers'
 
 export const DOCUMENT_VERSION = 1
 
@@ -69,3 +70,67 @@ export const LiveInstance = z
   .object({ scanId: Id, matrix: z.array(Finite).length(16), visible: z.boolean(), color: z.string() })
   .strict()
 export type LiveInstance = z.infer<typeof LiveInstance>
+
+/**
+ * A marker's entry in the record document (server-written): the revision the server holds, its check, and
+ * the people and times stamped from the connections, never from a client.
+ */
+export const LiveRecord = z.object({
+  revision: z.number().int(),
+  check: Check,
+  author: PersonRef,
+  lastEditor: PersonRef,
+  createdAt: Timestamp,
+  updatedAt: Timestamp,
+})
+export type LiveRecord = z.infer<typeof LiveRecord>
+
+type Matrices = ReadonlyMap<string, Matrix4>
+
+/** Scene-frame anchors into each placement's own frame, as the work document keeps them. */
+export function anchorsToLive(anchors: readonly Anchor[], matrices: Matrices): LiveMarker['anchors'] {
+  return anchors.map((a) => {
+    const m = matrices.get(a.instanceId)
+    if (!m) return { ...a }
+    const [x, y, z] = transformPoint(invertRigid(m), a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
+}
+
+/**
+ * A marker as the API gives it, from its two live entries. `awaitingCheck` says the work entry changed after
+ * the record's last word on it (the server has not stored or checked that change yet): the last check is kept
+ * for reading, marked pending, as the API does while a re-check runs. No record yet (made offline): pending,
+ * nobody stamped.
+ */
+export function markerFromDocuments(
+  id: string,
+  sceneId: string,
+  entry: LiveMarker,
+  record: LiveRecord | undefined,
+  matrices: Matrices,
+  awaitingCheck: boolean,
+  now: string,
+): Marker {
+  const anchors = entry.anchors.map((a) => {
+    const m = matrices.get(a.instanceId)
+    if (!m) return { ...a }
+    const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
+  const check = record ? (awaitingCheck && record.check.state !== 'pending' ? { ...record.check, state: 'pending' as const } : record.check) : blankCheck('pending', 0)
+  return {
+    id,
+    sceneId,
+    kind: entry.kind,
+    label: entry.label,
+    anchors,
+    params: entry.params,
+    revision: record?.revision ?? 0,
+    check,
+    createdBy: record?.author ?? null,
+    updatedBy: record?.lastEditor ?? null,
+    createdAt: record?.createdAt ?? now,
+    updatedAt: record?.updatedAt ?? now,
+  }
+}

@@ -263,3 +263,94 @@ describe('history', () => {
     expect(revisions.map((r) => [r.action, r.state.label])).toEqual([['created', 'dragging 4']])
   })
 })
+
+describe('roles, forgeries and reconnecting', () => {
+  const anchors = (x: number) => [
+    { instanceId, x, y: 0, z: 0 },
+    { instanceId, x: x + 1, y: 0, z: 0 },
+  ]
+  async function apiMarker(id: string) {
+    const res = await ownerAgent.get(`/api/markers/${id}`)
+    return res.status === 200 ? (res.body.marker as { label: string; check: { state: string; value: number | null }; createdBy: { name: string } | null }) : null
+  }
+
+  // DESIGN section 2's table, at the socket: owners and measurers write the work document, mentors do not.
+  it.each([
+    ['owner', 'stored', true],
+    ['measurer', 'stored', true],
+    ['mentor', 'dropped', false],
+  ] as const)('at the socket, an %s’s live edit is %s', async (role, _word, writes) => {
+    const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: `for the ${role}`, anchors: anchors(2) }).expect(201)).body.marker
+    const c = client(cookies[role]!)
+    await synced(c.provider)
+    await until(() => c.markers.has(made.id))
+    c.markers.set(made.id, { kind: 'distance', label: `renamed by the ${role}`, anchors: anchors(2), params: {} })
+    const deadline = Date.now() + (writes ? 5000 : 800)
+    let label = made.label
+    while (Date.now() < deadline) {
+      label = (await apiMarker(made.id))!.label
+      if (label !== made.label) break
+      await new Promise((r) => setTimeout(r, 50))
+    }
+    expect(label).toBe(writes ? `renamed by the ${role}` : `for the ${role}`)
+  })
+
+  it('lets no forged check, author or sign-off of a measurer reach the API, the record or the history', async () => {
+    const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'honest', anchors: anchors(3) }).expect(201)).body.marker
+    const before = await apiMarker(made.id)
+    const historyBefore = (await ownerAgent.get(`/api/markers/${made.id}/history`).expect(200)).body.revisions
+    const w = client(cookies.measurer!), r = client(cookies.measurer!, `${sceneId}/record`)
+    await Promise.all([synced(w.provider), synced(r.provider)])
+    await until(() => w.markers.has(made.id) && r.doc.getMap('markers').has(made.id))
+    const recordBefore = JSON.stringify(r.doc.getMap('markers').get(made.id))
+    // Into the work document: a check, an author and a review beside the marker's own fields.
+    const forgedCheck = { state: 'checked', value: 9.999, expandedUncertainty: 0 }
+    w.markers.set(made.id, { kind: 'distance', label: 'honest', anchors: anchors(3), params: {}, check: forgedCheck, author: { name: 'Someone Else' }, review: 'signed-off' })
+    // A marker of its own with the same extras.
+    const forgedId = '5e0e0000-0000-4000-8000-0000000000f0'
+    w.markers.set(forgedId, { kind: 'distance', label: 'forged', anchors: anchors(4), params: {}, check: forgedCheck, review: 'signed-off' })
+    // Into the record document directly: a check and a sign-off.
+    r.doc.getMap('markers').set(made.id, { ...JSON.parse(recordBefore), check: { ...forgedCheck }, review: { state: 'signed-off' } })
+    // The work document is put back (the entry as stored; the new one gone).
+    await until(() => !w.markers.has(forgedId) && !('check' in (w.markers.get(made.id) as object)))
+    await new Promise((res) => setTimeout(res, 400))
+    const after = await apiMarker(made.id)
+    expect(after).toEqual(before)
+    expect(await apiMarker(forgedId)).toBeNull()
+    expect((await ownerAgent.get(`/api/markers/${made.id}/history`).expect(200)).body.revisions).toEqual(historyBefore)
+    expect((await ownerAgent.get(`/api/markers/${forgedId}/history`)).status).toBe(404)
+    // The record as stored on the server, and as a fresh reader gets it, holds no forgery.
+    const stored = await Room.load(t.server.services.db, sceneId, 'record', pino({ level: 'silent' }))
+    const entry = stored.doc.getMap('markers').get(made.id) as { check: { value: number | null }; review?: unknown }
+    expect(entry.check.value).not.toBe(9.999)
+    expect(entry.review).toBeUndefined()
+    const fresh = client(cookies.mentor!, `${sceneId}/record`)
+    await synced(fresh.provider)
+    expect(JSON.stringify(fresh.doc.getMap('markers').get(made.id))).not.toMatch(/9\.999|signed-off/)
+  })
+
+  it('merges the edits of a client that was offline for a while with what changed meanwhile', async () => {
+    const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'before the outage', anchors: anchors(5) }).expect(201)).body.marker
+    const w = client(cookies.measurer!)
+    const other = client(cookies.mentor!)
+    await Promise.all([synced(w.provider), synced(other.provider)])
+    await until(() => w.markers.has(made.id))
+    w.provider.disconnect()
+    // Offline: a new marker and a rename, in the document only.
+    const offlineId = '5e0e0000-0000-4000-8000-0000000000a1'
+    w.markers.set(offlineId, { kind: 'distance', label: 'made offline', anchors: anchors(6), params: {} })
+    w.markers.set(made.id, { kind: 'distance', label: 'renamed offline', anchors: anchors(5), params: {} })
+    await new Promise((res) => setTimeout(res, 300))
+    expect(await apiMarker(offlineId)).toBeNull()
+    expect(other.markers.has(offlineId)).toBe(false)
+    // Meanwhile another marker is made through the API.
+    const meanwhile = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'made meanwhile', anchors: anchors(7) }).expect(201)).body.marker
+    w.provider.connect()
+    await until(() => w.markers.has(meanwhile.id) && other.markers.has(offlineId), 10_000)
+    await until(() => (other.markers.get(made.id) as { label: string }).label === 'renamed offline', 10_000)
+    const deadline = Date.now() + 5000
+    while (Date.now() < deadline && ((await apiMarker(offlineId)) === null || (await apiMarker(made.id))!.label !== 'renamed offline')) await new Promise((res) => setTimeout(res, 50))
+    expect(await apiMarker(offlineId)).toMatchObject({ label: 'made offline', createdBy: { name: 'Live Measurer' } })
+    expect((await apiMarker(made.id))!.label).toBe('renamed offline')
+  })
+})

@@ -19,7 +19,7 @@ let projectId: string
 type Hook = {
   __spanmark: {
     viewer: { stats(): { firstFrameMs: number | null; tilesPending: number } }
-    markers: { count(): number; list(): { id: string; kind: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number } | null> }
+    markers: { count(): number; list(): { id: string; kind: string; label: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number } | null> }
   }
 }
 
@@ -100,7 +100,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   await context.close()
 })
 
-it('shows a marker one person places to another within a second, with who is here now and where their pointer is', { timeout: 120_000 }, async () => {
+it('shows a marker one person places to another within a second, with who is here now and where their pointer is, and merges work done offline', { timeout: 150_000 }, async () => {
   const open = async (role: 'measurer' | 'mentor') => {
     const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
     const page = await context.newPage()
@@ -142,6 +142,34 @@ it('shows a marker one person places to another within a second, with who is her
   expect(seenAfterMs).toBeLessThan(1_000)
   await mentor.page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 5_000 })
   await shot(mentor.page, '42-marker-seen-live')
+
+  // The measurer's connection drops: the page says so, and the work goes on in the document.
+  type Reconnect = { __spanmark: { live: { disconnect(): void; connect(): void } } }
+  await measurer.page.evaluate(() => (window as unknown as Reconnect).__spanmark.live.disconnect())
+  await expect.poll(() => measurer.page.getByTestId('live-status').innerText(), { timeout: 5_000 }).toMatch(/offline/)
+  await shot(measurer.page, '43-offline')
+  const whileOffline = await measurer.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
+  await pick([-DOOR.halfWidth, DOOR.wallThickness / 2, 1.2])
+  await pick([-DOOR.halfWidth - 0.5, 0, 1.2])
+  await measurer.page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, whileOffline, { timeout: 5_000 })
+  const offlineMarker = (await measurer.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.list())).at(-1)!
+  expect(offlineMarker.state).toBe('pending')
+  // Meanwhile the owner renames a seeded marker through the API; nobody else has the offline one yet.
+  const owner = t.agent()
+  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const seededId = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers[0].id as string
+  await owner.patch(`/api/markers/${seededId}`).send({ label: 'Head height, checked again' }).expect(200)
+  expect((await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers.some((m: Marker) => m.id === offlineMarker.id)).toBe(false)
+  await mentor.page.waitForFunction((id) => (window as unknown as Hook).__spanmark.markers.list().some((m) => m.id === id && m.label === 'Head height, checked again'), seededId, { timeout: 5_000 })
+  // Back online, both sides merge: the mentor sees the offline marker checked, the measurer the rename.
+  await measurer.page.evaluate(() => (window as unknown as Reconnect).__spanmark.live.connect())
+  await expect.poll(() => measurer.page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
+  await mentor.page.waitForFunction((id) => (window as unknown as Hook).__spanmark.markers.list().some((m) => m.id === id && m.state === 'checked'), offlineMarker.id, { timeout: 10_000 })
+  await measurer.page.waitForFunction((id) => (window as unknown as Hook).__spanmark.markers.list().some((m) => m.id === id && m.label === 'Head height, checked again'), seededId, { timeout: 10_000 })
+  const stored = (await owner.get(`/api/markers/${offlineMarker.id}`).expect(200)).body.marker as Marker
+  expect(stored.kind).toBe('distance')
+  expect(stored.createdBy?.name).toBe('Tomas Reyne')
+  expect(stored.check.state).toBe('checked')
   expect([...measurer.problems, ...mentor.problems]).toEqual([])
   await measurer.context.close()
   await mentor.context.close()
