@@ -279,7 +279,7 @@ describe('roles, forgeries and reconnecting', () => {
     ['owner', 'stored', true],
     ['measurer', 'stored', true],
     ['mentor', 'dropped', false],
-  ] as const)('at the socket, an %s’s live edit is %s', async (role, _word, writes) => {
+  ] as const)('at the socket, a live edit by the %s is %s', async (role, _word, writes) => {
     const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: `for the ${role}`, anchors: anchors(2) }).expect(201)).body.marker
     const c = client(cookies[role]!)
     await synced(c.provider)
