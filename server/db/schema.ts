@@ -203,8 +203,20 @@ export interface MarkerRevisionsTable {
   created_at: Timestamp
 }
 
+export interface SceneCheckpointsTable {
+  id: Generated<string>
+  scene_id: string
+  name: string
+  /** The scene's markers (the API's shape, values and checks included) when the checkpoint was set. */
+  markers: Json<unknown[]>
+  marker_count: number
+  created_by: string | null
+  created_at: Timestamp
+}
+
 export interface Database {
   markers: MarkersTable
+  scene_checkpoints: SceneCheckpointsTable
   marker_revisions: MarkerRevisionsTable
   scene_updates: SceneUpdatesTable
   scene_snapshots: SceneSnapshotsTable

@@ -1,4 +1,5 @@
 import { authRoutes } from './auth'
+import { checkpointRoutes } from './checkpoints'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
@@ -7,4 +8,4 @@ import { sceneRoutes } from './scenes'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes]

@@ -5,6 +5,7 @@ import { HttpError } from '../errors'
 import { findMembership } from '../repositories/memberships'
 import { projectOfScan } from '../repositories/scans'
 import { projectOfInstance, projectOfScene } from '../repositories/scenes'
+import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfMarker } from '../repositories/markers'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
 import type { Membership, RigKey } from '../routes/registry'
@@ -21,6 +22,7 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   sceneId: async (db, id) => (await projectOfScene(db, id))?.project_id ?? null,
   instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,
   markerId: async (db, id) => (await projectOfMarker(db, id))?.project_id ?? null,
+  checkpointId: async (db, id) => (await projectOfCheckpoint(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

@@ -29,6 +29,7 @@ interface Fixture {
   sceneId: string
   instanceId: string
   markerId: string
+  checkpointId: string
 }
 
 /**
@@ -53,10 +54,12 @@ async function freshProject(): Promise<Fixture> {
     .post(`/api/scenes/${scene.body.scene.id}/markers`)
     .send({ kind: 'distance', anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 1, y: 0, z: 0 }] })
     .expect(201)
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id }
+  // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
+  const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005' }
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006' }
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -74,6 +77,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.instanceId
       case 'markerId':
         return f.markerId
+      case 'checkpointId':
+        return f.checkpointId
       case 'nodeKey':
         return 'r'
       case 'userId':

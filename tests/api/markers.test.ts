@@ -331,3 +331,44 @@ describe('bad input', () => {
     await mentor.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] }).expect(403)
   })
 })
+
+describe('checkpoints', () => {
+  async function settled(): Promise<Marker[]> {
+    const deadline = Date.now() + 30_000
+    for (;;) {
+      const list = (await owner.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers as Marker[]
+      if (!list.some((m) => m.check.state === 'pending')) return list
+      if (Date.now() > deadline) throw new Error('markers still pending')
+      await new Promise((r) => setTimeout(r, 100))
+    }
+  }
+
+  it('freezes the markers with their values, keeps them through later edits, and refuses a duplicate name or a pending check', async () => {
+    const m = await post({ kind: 'distance', label: 'issued width', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
+    const now = await settled()
+    const set = await owner.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: '  issued to client  ' }).expect(201)
+    const checkpoint = set.body.checkpoint
+    expect(checkpoint).toMatchObject({ name: 'issued to client', markerCount: now.length, createdBy: { name: 'Marker Owner' } })
+    expect(checkpoint.markers.find((x: Marker) => x.id === m.id).check.value).toBe(m.check.value)
+    // A later edit moves the live value; the checkpoint keeps the issued one.
+    const edited = (await owner.agent.patch(`/api/markers/${m.id}`).send({ anchors: [anchor('wide', -0.7, 0, 1.6), anchor('wide', 1.2, 0, 1.6)] }).expect(200)).body.marker as Marker
+    expect(Math.abs(edited.check.value! - m.check.value!)).toBeGreaterThan(0.3)
+    const read = (await mentor.agent.get(`/api/checkpoints/${checkpoint.id}`).expect(200)).body.checkpoint
+    expect(read.markers.find((x: Marker) => x.id === m.id)).toEqual(checkpoint.markers.find((x: Marker) => x.id === m.id))
+    expect((await mentor.agent.get(`/api/scenes/${sceneId}/checkpoints`).expect(200)).body.checkpoints.map((c: { name: string }) => c.name)).toEqual(['issued to client'])
+    const twice = await owner.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: 'issued to client' }).expect(409)
+    expect(twice.body.error.message).toMatch(/already has a checkpoint named “issued to client”/)
+    const empty = await owner.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: ' ' }).expect(400)
+    expect(empty.body.error.message).toMatch(/^body\.name: must not be empty/)
+    // A marker still being checked (set so by hand: the server's own re-checks finish too fast to catch).
+    await t.server.services.db.updateTable('markers').set({ check_state: 'pending' }).where('id', '=', m.id).execute()
+    const early = await owner.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: 'too early' }).expect(409)
+    expect(early.body.error.message).toMatch(/^1 marker is still being checked \(“issued width”\)/)
+    await t.server.services.db.updateTable('markers').set({ check_state: 'checked' }).where('id', '=', m.id).execute()
+    // Mentors read checkpoints but do not set or remove them; owners remove them.
+    await mentor.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: 'mentor' }).expect(403)
+    await mentor.agent.delete(`/api/checkpoints/${checkpoint.id}`).expect(403)
+    await owner.agent.delete(`/api/checkpoints/${checkpoint.id}`).expect(204)
+    await owner.agent.get(`/api/checkpoints/${checkpoint.id}`).expect(404)
+  })
+})
