@@ -1,4 +1,4 @@
-import { MarkerList, MarkerResponse, type Marker, type MarkerCreateBody, type MarkerUpdateBody } from '@shared/schemas'
+import { MarkerHistory, MarkerList, MarkerResponse, SceneState, type Marker, type MarkerCreateBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
 import { apiPath, http } from './http'
 
 /** The scene's markers with their checks (anchors in the scene frame). */
@@ -21,4 +21,19 @@ export async function updateMarker(markerId: string, body: MarkerUpdateBody): Pr
 
 export function deleteMarker(markerId: string): Promise<void> {
   return http.deleteNoContent(apiPath`/api/markers/${markerId}`)
+}
+
+/** The marker's settled edits, oldest first. */
+export async function markerHistory(markerId: string, signal?: AbortSignal): Promise<MarkerRevision[]> {
+  return (await http.get(apiPath`/api/markers/${markerId}/history`, MarkerHistory, { signal })).revisions
+}
+
+/** An earlier version becomes the current one (a new revision); answers with the marker checked again. */
+export async function restoreMarker(markerId: string, revisionId: string): Promise<Marker> {
+  return (await http.post(apiPath`/api/markers/${markerId}/restore`, { revisionId }, MarkerResponse)).marker
+}
+
+/** The scene's markers as they were at a time: each one's last revision by then. */
+export async function sceneStateAt(sceneId: string, at: string, signal?: AbortSignal): Promise<MarkerRevision[]> {
+  return (await http.get(`${apiPath`/api/scenes/${sceneId}/state`}?at=${encodeURIComponent(at)}`, SceneState, { signal })).revisions
 }

@@ -11,6 +11,12 @@ export const queryKeys = {
   scene: (sceneId: string) => ['scenes', sceneId] as const,
   /** A scene's markers with their checks. */
   markers: (sceneId: string) => ['scenes', sceneId, 'markers'] as const,
+  /** One marker's settled edits. */
+  markerHistory: (markerId: string) => ['markers', markerId, 'history'] as const,
+  /** The scene's markers as they were at a time. */
+  sceneState: (sceneId: string, at: string) => ['scenes', sceneId, 'state', at] as const,
+  checkpoints: (sceneId: string) => ['scenes', sceneId, 'checkpoints'] as const,
+  checkpoint: (checkpointId: string) => ['checkpoints', checkpointId] as const,
   uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,
   devMail: () => ['dev-mail'] as const,
 }

@@ -5,7 +5,8 @@ import { countUsers, insertUser } from '../repositories/users'
 import { insertMembership } from '../repositories/memberships'
 import { insertProject, updateProject } from '../repositories/projects'
 import { insertInstance, insertScene } from '../repositories/scenes'
-import { insertMarker } from '../repositories/markers'
+import { findMarker, insertMarker } from '../repositories/markers'
+import { insertRevision } from '../repositories/markerRevisions'
 import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import { DOOR } from './synth/scene'
 import { acceptUpload } from '../services/scans'
@@ -73,6 +74,8 @@ async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, 
   const markers: { id: string; revision: number }[] = []
   const add = async (v: Omit<Parameters<typeof insertMarker>[1], 'sceneId' | 'userId'>) => {
     const row = await insertMarker(s.db, { ...v, sceneId, userId })
+    // Its first version in the history, as the marker service records one.
+    await insertRevision(s.db, (await findMarker(s.db, row.id))!, 'created', userId)
     markers.push(row)
     return row.id
   }

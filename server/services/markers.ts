@@ -203,7 +203,11 @@ function settleLater(s: Services, markerId: string, userId: string, action: 'cre
 /** The marker's settled edits, oldest first, anchors in the scene frame with today's placements. */
 export async function historyOf(s: Services, markerId: string): Promise<MarkerRevision[]> {
   const rows = await revisions.listRevisions(s.db, markerId)
-  if (rows.length === 0) throw HttpError.notFound('No such marker.')
+  if (rows.length === 0) {
+    // A marker written before versions were recorded has an empty history; one that never was, none.
+    if (await repo.findMarker(s.db, markerId)) return []
+    throw HttpError.notFound('No such marker.')
+  }
   return toRevisions(rows, await placementsOf(s, rows[0]!.scene_id))
 }
 

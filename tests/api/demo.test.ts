@@ -67,4 +67,9 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   const free = by['chest, any turn']!.check.clearance!
   expect(free.outcome).toBe('passes')
   expect(Math.abs(Math.abs(free.rotationDegrees) - 90)).toBeLessThan(3)
+  // Each seeded marker starts its history with one version, by its author.
+  for (const m of markers) {
+    const revisions = (await guest.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions
+    expect(revisions.map((r: { action: string; by: { name: string } | null }) => [r.action, r.by?.name])).toEqual([['created', m.createdBy?.name]])
+  }
 })

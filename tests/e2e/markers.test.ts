@@ -174,3 +174,51 @@ it('shows a marker one person places to another within a second, with who is her
   await measurer.context.close()
   await mentor.context.close()
 })
+
+it('shows a marker’s versions and restores one, sets a checkpoint and reads the scene as it was on the timeline', { timeout: 120_000 }, async () => {
+  const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
+  const page = await context.newPage()
+  const problems = watchConsole(page)
+  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
+  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email)
+  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
+  await page.getByTestId('sign-in-submit').click()
+  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  await page.waitForFunction(() => (window as unknown as { __spanmark?: { live?: { ready(): boolean } } }).__spanmark?.live?.ready() === true, null, { timeout: 30_000 })
+  const owner = t.agent()
+  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const list = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]
+  const head = list.find((m) => m.kind === 'distance')!
+  // A rename through the API makes a second version.
+  await owner.patch(`/api/markers/${head.id}`).send({ label: 'head height, renamed' }).expect(200)
+  const versions = (await owner.get(`/api/markers/${head.id}/history`).expect(200)).body.revisions.length as number
+  expect(versions).toBeGreaterThanOrEqual(2)
+  await page.getByTestId('marker-row-label').filter({ hasText: 'head height, renamed' }).click()
+  await page.getByTestId('marker-history-toggle').click()
+  await expect.poll(() => page.getByTestId('marker-history-row').count(), { timeout: 10_000 }).toBe(versions)
+  await expect(page.getByTestId('marker-history-row').first().innerText()).resolves.toMatch(/changed\s+label “.+” → “head height, renamed”/)
+  await shot(page, '44-marker-history')
+  // Restore the version before the rename: the label comes back, and the history gains a version.
+  await page.getByTestId('marker-history-restore').first().click()
+  await page.getByTestId('confirm-accept').click()
+  await expect.poll(async () => ((await owner.get(`/api/markers/${head.id}`).expect(200)).body.marker as Marker).label, { timeout: 10_000 }).toBe(head.label)
+  await expect.poll(() => page.getByTestId('marker-history-row').count(), { timeout: 10_000 }).toBe(versions + 1)
+  await expect(page.getByTestId('marker-history-row').first().getAttribute('data-action')).resolves.toBe('restored')
+  // The timeline: a checkpoint freezes the values; the slider at its start shows the scene before any marker.
+  await page.getByTestId('timeline-toggle').click()
+  await expect.poll(async () => ((await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]).every((m) => m.check.state !== 'pending'), { timeout: 20_000 }).toBe(true)
+  await page.getByTestId('checkpoint-name').fill('issued for the move')
+  await page.getByTestId('checkpoint-set').click()
+  await expect.poll(() => page.getByTestId('timeline-heading').innerText(), { timeout: 10_000 }).toMatch(/^Checkpoint “issued for the move”/)
+  const count = ((await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]).length
+  await expect.poll(() => page.getByTestId('timeline-row').count()).toBe(count)
+  await shot(page, '45-timeline-checkpoint')
+  await page.getByTestId('timeline-slider').locator('[role="slider"]').focus()
+  await page.keyboard.press('Home')
+  await expect.poll(() => page.getByTestId('timeline-heading').innerText(), { timeout: 10_000 }).toMatch(/^As it was on /)
+  await expect.poll(() => page.getByTestId('timeline-table').innerText(), { timeout: 10_000 }).toMatch(/No markers yet at that time/)
+  await page.getByTestId('timeline-now').click()
+  await expect(page.getByTestId('timeline-heading').count()).resolves.toBe(0)
+  expect(problems).toEqual([])
+  await context.close()
+})

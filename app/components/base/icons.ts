@@ -53,6 +53,10 @@ export const ICONS = {
   kindClearance: ['M2.5 2.5v11M13.5 2.5v11', 'M5.8 5.5h4.4v5H5.8z', 'M3.5 8h1.3M11.2 8h1.3'],
   /** Parts of a value: a stack of unequal bars. */
   parts: ['M2.5 4h11', 'M2.5 8h7', 'M2.5 12h4.5'],
+  /** A marker's versions: a clock face turned back. */
+  history: ['M3.2 8a4.8 4.8 0 1 0 1.4-3.4', 'M2.6 2.6v2.6h2.6', 'M8 5.3V8l1.9 1.3'],
+  /** A checkpoint: a pennant on a staff. */
+  pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
 } as const
 
 export type IconName = keyof typeof ICONS

@@ -1,0 +1,37 @@
+import { formatLength, type LengthUnit } from '@shared/format/units'
+import type { MarkerRevision } from '@shared/schemas'
+
+/** What the screen calls each recorded action. */
+export const ACTION_WORDS: Record<MarkerRevision['action'], string> = {
+  created: 'placed',
+  edited: 'changed',
+  deleted: 'deleted',
+  restored: 'restored an earlier version',
+}
+
+/** The largest distance any anchor moved between two versions (metres), or null when their anchors differ in number. */
+export function largestMove(before: MarkerRevision['state'], after: MarkerRevision['state']): number | null {
+  if (before.anchors.length !== after.anchors.length) return null
+  let most = 0
+  before.anchors.forEach((a, i) => {
+    const b = after.anchors[i]!
+    most = Math.max(most, Math.hypot(b.x - a.x, b.y - a.y, b.z - a.z))
+  })
+  return most
+}
+
+/**
+ * What a version changed against the one before it, in words: the label, how far anchors moved (under a
+ * tenth of a millimetre counts as not moved), and whether the settings (plane, slab, margin...) changed.
+ */
+export function changeSummary(before: MarkerRevision | undefined, after: MarkerRevision, unit: LengthUnit): string {
+  if (!before || after.action === 'created') return `as “${after.state.label}”`
+  if (after.action === 'deleted') return ''
+  const parts: string[] = []
+  if (before.state.label !== after.state.label) parts.push(`label “${before.state.label}” → “${after.state.label}”`)
+  const moved = largestMove(before.state, after.state)
+  if (moved === null) parts.push('anchors replaced')
+  else if (moved >= 1e-4) parts.push(`anchors moved up to ${formatLength(moved, unit)}`)
+  if (JSON.stringify(before.state.params) !== JSON.stringify(after.state.params)) parts.push('settings changed')
+  return parts.length ? parts.join('; ') : 'no change to its geometry or label'
+}
