@@ -141,6 +141,8 @@ it('shows a marker one person places to another within a second, with who is her
   const seenAfterMs = Date.now() - placedAt
   expect(seenAfterMs).toBeLessThan(1_000)
   await mentor.page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 5_000 })
+  // The measurer has the new marker open (the tool selects it): the mentor's table marks its row.
+  await expect.poll(() => mentor.page.getByTestId('marker-row-editor').first().getAttribute('title'), { timeout: 5_000 }).toBe('Tomas Reyne has this marker open')
   await shot(mentor.page, '42-marker-seen-live')
 
   // The measurer's connection drops: the page says so, and the work goes on in the document.
