@@ -48,3 +48,14 @@ export function rotationZ(degrees: number, tx = 0, ty = 0, tz = 0): number[] {
   const s = Math.sin(a)
   return [c, s, 0, 0, -s, c, 0, 0, 0, 0, 1, 0, tx, ty, tz, 1]
 }
+
+/** The product a b of two column-major 4x4 matrices: apply b first, then a (rigid in, rigid out). */
+export function multiplyRigid(a: Matrix4, b: Matrix4): number[] {
+  const out = new Array<number>(16)
+  for (let col = 0; col < 4; col++) {
+    for (let row = 0; row < 4; row++) {
+      out[4 * col + row] = a[row]! * b[4 * col]! + a[4 + row]! * b[4 * col + 1]! + a[8 + row]! * b[4 * col + 2]! + a[12 + row]! * b[4 * col + 3]!
+    }
+  }
+  return out
+}
