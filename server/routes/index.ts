@@ -5,7 +5,8 @@ import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
 import { scanRoutes } from './scans'
 import { sceneRoutes } from './scenes'
+import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes]

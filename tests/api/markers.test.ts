@@ -8,6 +8,7 @@ import type { Marker } from '@shared/schemas'
 import { upload, waitForScan } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid, drumSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
+import { parse } from 'csv-parse/sync'
 
 let t: TestServer
 let owner: Awaited<ReturnType<typeof signUpAgent>>
@@ -370,5 +371,50 @@ describe('checkpoints', () => {
     await mentor.agent.delete(`/api/checkpoints/${checkpoint.id}`).expect(403)
     await owner.agent.delete(`/api/checkpoints/${checkpoint.id}`).expect(204)
     await owner.agent.get(`/api/checkpoints/${checkpoint.id}`).expect(404)
+  })
+})
+
+describe('measurement sheet', () => {
+  it('lists every marker with the API’s values, the scans used and the cautions; its CSV carries the same numbers', async () => {
+    let list: Marker[] = []
+    const deadline = Date.now() + 30_000
+    do {
+      list = (await owner.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers
+      if (!list.some((m) => m.check.state === 'pending')) break
+      await new Promise((r) => setTimeout(r, 100))
+    } while (Date.now() < deadline)
+    const sheet = (await mentor.agent.get(`/api/scenes/${sceneId}/sheet`).expect(200)).body.sheet
+    expect(sheet.markers.map((m: Marker) => [m.id, m.check.value, m.check.expandedUncertainty])).toEqual(list.map((m) => [m.id, m.check.value, m.check.expandedUncertainty]))
+    expect(sheet.scans.length).toBe(Object.keys(placed).length)
+    const wide = sheet.scans.find((x: { scanId: string }) => x.scanId === scanIds.wide)
+    const scan = (await owner.agent.get(`/api/scans/${scanIds.wide}`).expect(200)).body.scan
+    expect(wide).toMatchObject({ pointCount: scan.pointCount, spacing: scan.spacing, pointUncertainty: ENTERED_U })
+    expect(sheet.cautions.join(' ')).toMatch(/licensed surveyor/)
+    expect(sheet.cautions.join(' ')).toMatch(/qualified riggers/)
+    // The CSV, read back by an independent parser (csv-parse, from the npm registry).
+    const csv = await mentor.agent.get(`/api/scenes/${sceneId}/sheet.csv`).expect(200).expect('Content-Type', /text\/csv/)
+    expect(csv.headers['content-disposition']).toMatch(/^attachment; filename=".+\.csv"$/)
+    const rows = parse(csv.text, { columns: true }) as Record<string, string>[]
+    expect(rows.length).toBe(list.length)
+    for (const m of list) {
+      const row = rows.find((r) => r.marker_id === m.id)!
+      expect(row.label).toBe(m.label)
+      expect(row.check_state).toBe(m.check.state)
+      expect(row.value === '' ? null : Number(row.value)).toBe(m.check.value)
+      expect(row.expanded_uncertainty === '' ? null : Number(row.expanded_uncertainty)).toBe(m.check.expandedUncertainty)
+    }
+    // A label a spreadsheet would run as a formula stays text.
+    const risky = await post({ kind: 'distance', label: '=1+2, "quoted"', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
+    const again = parse((await owner.agent.get(`/api/scenes/${sceneId}/sheet.csv`).expect(200)).text, { columns: true }) as Record<string, string>[]
+    expect(again.find((r) => r.marker_id === risky.id)!.label).toBe(`'=1+2, "quoted"`)
+    // As a checkpoint froze it; a checkpoint of another scene or none at all is refused by name.
+    await owner.agent.delete(`/api/markers/${risky.id}`).expect(204)
+    const cp = (await owner.agent.post(`/api/scenes/${sceneId}/checkpoints`).send({ name: 'for the sheet' }).expect(201)).body.checkpoint
+    await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'after the checkpoint', anchors: [anchor('wide', -0.7, 0, 1.2), anchor('wide', 0.7, 0, 1.2)] }).expect(201)
+    const frozen = (await mentor.agent.get(`/api/scenes/${sceneId}/sheet`).query({ checkpoint: cp.id }).expect(200)).body.sheet
+    expect(frozen.checkpoint).toMatchObject({ id: cp.id, name: 'for the sheet' })
+    expect(frozen.markers.map((m: Marker) => m.id)).toEqual(cp.markers.map((m: Marker) => m.id))
+    const bad = await mentor.agent.get(`/api/scenes/${sceneId}/sheet`).query({ checkpoint: '00000000-0000-4000-8000-000000000009' }).expect(400)
+    expect(bad.body.error.message).toMatch(/^query\.checkpoint: no checkpoint/)
   })
 })

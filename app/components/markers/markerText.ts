@@ -23,9 +23,7 @@ export function lookOf(state: AnyState): StateLook {
 }
 
 /** The caution shown beside every clearance result (DESIGN section 11). */
-export const CLEARANCE_CAUTION =
-  'Clearance results are planning aids: moving heavy or valuable objects is planned by qualified riggers with margin; ' +
-  'measurements used for engineering, legal or safety decisions are verified by a licensed surveyor under local codes.'
+export { CLEARANCE_CAUTION } from '@shared/format/cautions'
 
 export type ValueKind = 'length' | 'angle' | 'area'
 

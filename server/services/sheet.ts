@@ -1,0 +1,81 @@
+import { CAUTIONS } from '@shared/format/cautions'
+import type { Marker, Sheet, SheetScan } from '@shared/schemas'
+import { HttpError } from '../errors'
+import { getCheckpoint } from './checkpoints'
+import { getScan } from './scans'
+import { getScene } from './scenes'
+import { markersOf } from './markers'
+import type { Services } from '../types'
+
+/**
+ * The measurement sheet: the scene's markers (now, or as a checkpoint froze them), the scans its placements
+ * use with their counts, spacing, point uncertainty and registration RMS, and the cautions of DESIGN
+ * section 11. The CSV is made from the same object, so its values are the API's.
+ */
+export async function sheetOf(s: Services, sceneId: string, checkpointId?: string): Promise<Sheet> {
+  const scene = await getScene(s, sceneId)
+  const project = await s.db.selectFrom('projects').select(['id', 'name']).where('id', '=', scene.projectId).executeTakeFirstOrThrow()
+  let markers: Marker[]
+  let checkpoint: Sheet['checkpoint'] = null
+  if (checkpointId) {
+    const frozen = await getCheckpoint(s, checkpointId).catch(() => null)
+    if (!frozen || frozen.sceneId !== sceneId) throw new HttpError(400, 'invalid-input', 'query.checkpoint: no checkpoint with this id in the scene.', 'checkpoint')
+    const { markers: m, ...rest } = frozen
+    markers = m
+    checkpoint = rest
+  } else {
+    markers = await markersOf(s, sceneId)
+  }
+  const scans: SheetScan[] = []
+  for (const i of scene.instances) {
+    const scan = await getScan(s, i.scanId)
+    scans.push({ placementId: i.id, scanId: scan.id, name: i.scanName, pointCount: scan.pointCount, spacing: scan.spacing, pointUncertainty: scan.pointUncertainty, registrationRms: null })
+  }
+  return {
+    project,
+    scene: { id: scene.id, name: scene.name },
+    generatedAt: new Date().toISOString(),
+    checkpoint,
+    markers,
+    scans,
+    cautions: [CAUTIONS.clearance, CAUTIONS.engineering, CAUTIONS.laser],
+  }
+}
+
+/** One CSV field (RFC 4180 quoting); text that a spreadsheet would run as a formula is kept as text. */
+function field(value: string | number | null | undefined): string {
+  if (value === null || value === undefined) return ''
+  if (typeof value === 'number') return Number.isFinite(value) ? String(value) : ''
+  const text = /^[=+\-@\t\r]/.test(value) ? `'${value}` : value
+  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text
+}
+
+export const SHEET_CSV_COLUMNS = [
+  'marker_id',
+  'kind',
+  'label',
+  'value',
+  'unit',
+  'expanded_uncertainty',
+  'coverage_factor',
+  'check_state',
+  'clearance_outcome',
+  'author',
+  'last_editor',
+  'updated_at',
+  'checked_at',
+] as const
+
+/** Values in SI (metres, degrees, square metres) at full precision, as the API gives them. */
+export function sheetCsv(sheet: Sheet): string {
+  const lines = [SHEET_CSV_COLUMNS.join(',')]
+  for (const m of sheet.markers) {
+    const c = m.check
+    lines.push(
+      [m.id, m.kind, m.label, c.value, c.unit, c.expandedUncertainty, c.coverageFactor, c.state, c.clearance?.outcome ?? null, m.createdBy?.name, m.updatedBy?.name, m.updatedAt, c.checkedAt]
+        .map(field)
+        .join(','),
+    )
+  }
+  return `${lines.join('\r\n')}\r\n`
+}
