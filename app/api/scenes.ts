@@ -2,11 +2,13 @@ import {
   InstanceResponse,
   SceneList,
   SceneResponse,
+  SheetResponse,
   type Instance,
   type InstanceCreateBody,
   type InstanceUpdateBody,
   type Scene,
   type SceneSummary,
+  type Sheet,
 } from '@shared/schemas'
 import { apiPath, http } from './http'
 
@@ -43,4 +45,14 @@ export async function updateInstance(instanceId: string, body: InstanceUpdateBod
 
 export function deleteInstance(instanceId: string): Promise<void> {
   return http.deleteNoContent(apiPath`/api/instances/${instanceId}`)
+}
+
+/** The measurement sheet: now, or as a checkpoint froze it. */
+export async function getSheet(sceneId: string, checkpointId: string | null, signal?: AbortSignal): Promise<Sheet> {
+  const query = checkpointId ? `?checkpoint=${encodeURIComponent(checkpointId)}` : ''
+  return (await http.get(`${apiPath`/api/scenes/${sceneId}/sheet`}${query}`, SheetResponse, { signal })).sheet
+}
+
+export function sheetCsvPath(sceneId: string, checkpointId: string | null): string {
+  return `${apiPath`/api/scenes/${sceneId}/sheet.csv`}${checkpointId ? `?checkpoint=${encodeURIComponent(checkpointId)}` : ''}`
 }

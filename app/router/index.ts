@@ -60,6 +60,13 @@ const routes: RouteRecordRaw[] = [
     meta: { layout: 'scene', title: 'Scene' },
   },
   {
+    path: '/projects/:projectId/scenes/:sceneId/sheet',
+    name: 'scene-sheet',
+    component: () => import('@/views/SceneSheetView.vue'),
+    props: (route) => ({ projectId: route.params.projectId, sceneId: route.params.sceneId, checkpointId: typeof route.query.checkpoint === 'string' ? route.query.checkpoint : null }),
+    meta: { layout: 'app', title: 'Measurement sheet' },
+  },
+  {
     path: '/account',
     name: 'account',
     component: () => import('@/views/AccountView.vue'),

@@ -224,3 +224,32 @@ it('shows a marker’s versions and restores one, sets a checkpoint and reads th
   expect(problems).toEqual([])
   await context.close()
 })
+
+it('prints the measurement sheet with the API’s values, the scans used and the cautions', { timeout: 90_000 }, async () => {
+  const context = await browser.newContext({ viewport: { width: 1400, height: 900 } })
+  const page = await context.newPage()
+  const problems = watchConsole(page)
+  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
+  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'mentor')!.email)
+  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
+  await page.getByTestId('sign-in-submit').click()
+  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  await page.getByTestId('scene-sheet-link').click()
+  await page.waitForURL(new RegExp(`/scenes/${scene.id}/sheet$`))
+  const owner = t.agent()
+  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const list = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]
+  await expect.poll(() => page.getByTestId('sheet-row').count(), { timeout: 10_000 }).toBe(list.length)
+  for (const m of list) {
+    await expect(page.locator(`[data-testid="sheet-row"][data-marker-id="${m.id}"] [data-testid="sheet-value"]`).innerText()).resolves.toBe(formatWithUncertainty(m.check.value, m.check.expandedUncertainty, m.kind === 'angle' ? 'angle' : 'length', 'm'))
+  }
+  await expect(page.getByTestId('sheet-scans').locator('tbody tr').count()).resolves.toBe(scene.instances.length)
+  await expect(page.getByTestId('sheet-cautions').innerText()).resolves.toMatch(/licensed surveyor[\s\S]*IEC 60825-1/)
+  await shot(page, '46-measurement-sheet')
+  // Printed as the browser prints it (A4), for a person to turn into images and read every page.
+  await page.emulateMedia({ media: 'print' })
+  const pdf = await page.pdf({ path: 'tests/output/measurement-sheet.pdf', format: 'A4', printBackground: true })
+  expect(pdf.subarray(0, 5).toString()).toBe('%PDF-')
+  expect(problems).toEqual([])
+  await context.close()
+})

@@ -55,6 +55,7 @@ export const ICONS = {
   parts: ['M2.5 4h11', 'M2.5 8h7', 'M2.5 12h4.5'],
   /** A marker's versions: a clock face turned back. */
   history: ['M3.2 8a4.8 4.8 0 1 0 1.4-3.4', 'M2.6 2.6v2.6h2.6', 'M8 5.3V8l1.9 1.3'],
+  printer: ['M4.5 6V2.5h7V6', 'M4.5 11.5h-2v-5.5h11v5.5h-2', 'M4.5 9.5h7v4h-7z'],
   /** A checkpoint: a pennant on a staff. */
   pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
 } as const
