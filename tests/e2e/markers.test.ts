@@ -26,20 +26,33 @@ type Hook = {
 beforeAll(async () => {
   ;({ t, browser, scene, projectId } = await startDemoScene())
 }, 150_000)
+
+/** A demo person signed in, on the demo scene's page, with the console watched. */
+async function openScene(role: 'owner' | 'measurer' | 'mentor', width = 1600) {
+  const context = await browser.newContext({ viewport: { width, height: 900 } })
+  const page = await context.newPage()
+  const problems = watchConsole(page)
+  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
+  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === role)!.email)
+  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
+  await page.getByTestId('sign-in-submit').click()
+  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  return { context, page, problems }
+}
+
+/** The demo owner through the API, for setting things up and reading the reference values. */
+async function ownerAgent() {
+  const owner = t.agent()
+  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  return owner
+}
 afterAll(async () => {
   await browser?.close()
   await t?.stop()
 })
 
 it('places a distance, flags an anchor typed off the surface, places a clearance, and shows the values the server computed', { timeout: 120_000 }, async () => {
-  const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
-  const page = await context.newPage()
-  const problems = watchConsole(page)
-  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
-  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email)
-  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
-  await page.getByTestId('sign-in-submit').click()
-  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  const { context, page, problems } = await openScene('measurer')
   await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
   await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
   // The seeded markers are checked once the scans are ready.
@@ -102,14 +115,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
 
 it('shows a marker one person places to another within a second, with who is here now and where their pointer is, and merges work done offline', { timeout: 150_000 }, async () => {
   const open = async (role: 'measurer' | 'mentor') => {
-    const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
-    const page = await context.newPage()
-    const problems = watchConsole(page)
-    await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
-    await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === role)!.email)
-    await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
-    await page.getByTestId('sign-in-submit').click()
-    await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+    const { context, page, problems } = await openScene(role)
     await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
     await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
     await expect.poll(() => page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
@@ -157,8 +163,7 @@ it('shows a marker one person places to another within a second, with who is her
   const offlineMarker = (await measurer.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.list())).at(-1)!
   expect(offlineMarker.state).toBe('pending')
   // Meanwhile the owner renames a seeded marker through the API; nobody else has the offline one yet.
-  const owner = t.agent()
-  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const owner = await ownerAgent()
   const seededId = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers[0].id as string
   await owner.patch(`/api/markers/${seededId}`).send({ label: 'Head height, checked again' }).expect(200)
   expect((await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers.some((m: Marker) => m.id === offlineMarker.id)).toBe(false)
@@ -178,17 +183,9 @@ it('shows a marker one person places to another within a second, with who is her
 })
 
 it('shows a marker’s versions and restores one, sets a checkpoint and reads the scene as it was on the timeline', { timeout: 120_000 }, async () => {
-  const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
-  const page = await context.newPage()
-  const problems = watchConsole(page)
-  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
-  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email)
-  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
-  await page.getByTestId('sign-in-submit').click()
-  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  const { context, page, problems } = await openScene('measurer')
   await page.waitForFunction(() => (window as unknown as { __spanmark?: { live?: { ready(): boolean } } }).__spanmark?.live?.ready() === true, null, { timeout: 30_000 })
-  const owner = t.agent()
-  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const owner = await ownerAgent()
   const list = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]
   const head = list.find((m) => m.kind === 'distance')!
   // A rename through the API makes a second version.
@@ -226,18 +223,10 @@ it('shows a marker’s versions and restores one, sets a checkpoint and reads th
 })
 
 it('prints the measurement sheet with the API’s values, the scans used and the cautions', { timeout: 90_000 }, async () => {
-  const context = await browser.newContext({ viewport: { width: 1400, height: 900 } })
-  const page = await context.newPage()
-  const problems = watchConsole(page)
-  await page.goto(`${t.url}/sign-in?redirect=/projects/${projectId}/scenes/${scene.id}`)
-  await page.getByTestId('sign-in-email').fill(DEMO_ACCOUNTS.find((a) => a.role === 'mentor')!.email)
-  await page.getByTestId('sign-in-password').fill(DEMO_PASSWORD)
-  await page.getByTestId('sign-in-submit').click()
-  await page.waitForURL(new RegExp(`/scenes/${scene.id}$`))
+  const { context, page, problems } = await openScene('mentor', 1400)
   await page.getByTestId('scene-sheet-link').click()
   await page.waitForURL(new RegExp(`/scenes/${scene.id}/sheet$`))
-  const owner = t.agent()
-  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const owner = await ownerAgent()
   const list = (await owner.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]
   await expect.poll(() => page.getByTestId('sheet-row').count(), { timeout: 10_000 }).toBe(list.length)
   for (const m of list) {
