@@ -201,6 +201,8 @@ export interface SpanmarkMarkersHook {
   count(): number
   list(): { id: string; kind: string; label: string; state: string; value: number | null; expandedUncertainty: number | null; outcome: string | null }[]
   selected(): string | null
+  /** When this page first had the marker (epoch ms, the moment its data arrived, before any drawing), or null. */
+  seenAt(id: string): number | null
   /** Clicks where a scene-frame point shows (the pick goes to the active tool, as a click would). */
   pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number; instanceId: string } | null>
 }
@@ -210,6 +212,15 @@ type HookWindow = { __spanmark?: Record<string, unknown> }
 /** Installs `window.__spanmark.markers` while the scene page is mounted. */
 export function useMarkerToolTestHook(viewer: ShallowRef<PointViewer | null>, markers: Ref<Marker[]>, selectedId: Ref<string | null>) {
   const w = window as unknown as HookWindow
+  // Taken synchronously as the list changes: a browser test's own polling delay stays out of the figure.
+  const firstSeen = new Map<string, number>()
+  watch(
+    markers,
+    (list) => {
+      for (const m of list) if (!firstSeen.has(m.id)) firstSeen.set(m.id, Date.now())
+    },
+    { immediate: true, flush: 'sync' },
+  )
   const hook: SpanmarkMarkersHook = {
     count: () => markers.value.length,
     list: () =>
@@ -223,6 +234,7 @@ export function useMarkerToolTestHook(viewer: ShallowRef<PointViewer | null>, ma
         outcome: m.check.clearance?.outcome ?? null,
       })),
     selected: () => selectedId.value,
+    seenAt: (id) => firstSeen.get(id) ?? null,
     pick: async (x, y, z) => {
       const p = await viewer.value?.pickScenePoint([x, y, z])
       return p ? { x: p.point[0], y: p.point[1], z: p.point[2], instanceId: p.instanceId } : null

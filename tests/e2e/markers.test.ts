@@ -19,7 +19,7 @@ let projectId: string
 type Hook = {
   __spanmark: {
     viewer: { stats(): { firstFrameMs: number | null; tilesPending: number } }
-    markers: { count(): number; list(): { id: string; kind: string; label: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number } | null> }
+    markers: { count(): number; seenAt(id: string): number | null; list(): { id: string; kind: string; label: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ x: number; y: number; z: number } | null> }
   }
 }
 
@@ -142,9 +142,12 @@ it('shows a marker one person places to another within a second, with who is her
   await pick([DOOR.halfWidth, DOOR.wallThickness / 2, 1.5])
   await pick([DOOR.halfWidth + 0.5, 0, 1.5])
   await measurer.page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, before, { timeout: 20_000 })
-  const placedAt = Date.now()
-  await mentor.page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.count() > n, before, { timeout: 5_000 })
-  const seenAfterMs = Date.now() - placedAt
+  const placed = (await measurer.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.list())).at(-1)!
+  await mentor.page.waitForFunction((id) => (window as unknown as Hook).__spanmark.markers.list().some((m) => m.id === id), placed.id, { timeout: 5_000 })
+  // Each page notes when the marker's data arrived (same machine, same clock): the placer's page once the
+  // server has answered, the other's once the live document brought it.
+  const seenAt = (p: typeof mentor.page) => p.evaluate((id) => (window as unknown as Hook).__spanmark.markers.seenAt(id), placed.id)
+  const seenAfterMs = (await seenAt(mentor.page))! - (await seenAt(measurer.page))!
   expect(seenAfterMs).toBeLessThan(1_000)
   await mentor.page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 5_000 })
   // The measurer has the new marker open (the tool selects it): the mentor's table marks its row.
