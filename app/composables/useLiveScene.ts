@@ -64,6 +64,8 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       if (code === CLOSE_CODES.forbidden || code === CLOSE_CODES.unauthenticated || code === CLOSE_CODES.badOrigin) {
         status.value = 'refused'
         provider.shouldConnect = false
+        // Refused mid-visit (a revoked viewing pass, a removed member): asking the API again lets the page say why.
+        void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
       }
     })
     workDoc.getMap(WORK_MAPS.markers).observe(() => refreshSoon(id))

@@ -1,4 +1,6 @@
 import { authRoutes } from './auth'
+import { inviteRoutes } from './invites'
+import { passRoutes } from './passes'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
@@ -7,4 +9,4 @@ import { sceneRoutes } from './scenes'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...inviteRoutes, ...passRoutes]
