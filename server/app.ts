@@ -7,6 +7,7 @@ import { scrubUrl } from './logger'
 import { apiNotFound, errorHandler } from './middleware/errors'
 import { originCheck } from './middleware/origin'
 import { createLimiters } from './middleware/rateLimits'
+import { guestMiddleware } from './middleware/guest'
 import { sessionMiddleware } from './middleware/session'
 import { apiRoutes } from './routes'
 import { mountRoutes } from './routes/mount'
@@ -49,6 +50,7 @@ export function createApp(services: Services, routes: RouteDef[] = apiRoutes): e
   const api = express.Router()
   api.use(express.json({ limit: config.jsonLimit }))
   api.use(sessionMiddleware(services.auth))
+  api.use(guestMiddleware(services))
   api.use(originCheck(() => [services.publicOrigin()]))
   mountRoutes(api, routes, services, createLimiters(config.rateLimits))
   api.use(apiNotFound)

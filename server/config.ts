@@ -51,7 +51,8 @@ export interface Config {
   trustProxy: string | boolean
   logLevel: string
   argon2: { memoryCost: number; timeCost: number; parallelism: number }
-  rateLimits: { signIn: RateLimit; passwordReset: RateLimit; signUp: RateLimit }
+  /** invite: invitations and viewing passes sent, per person; tokenUse: e-mailed links looked up, accepted or opened, per address. */
+  rateLimits: { signIn: RateLimit; passwordReset: RateLimit; signUp: RateLimit; invite: RateLimit; tokenUse: RateLimit }
   jsonLimit: string
   passwordResetTtlMs: number
   clientDir: string
@@ -73,6 +74,8 @@ export const PRODUCTION_RATE_LIMITS = {
   signIn: { windowMs: 15 * 60_000, limit: 10 },
   passwordReset: { windowMs: 60 * 60_000, limit: 5 },
   signUp: { windowMs: 60 * 60_000, limit: 20 },
+  invite: { windowMs: 60 * 60_000, limit: 30 },
+  tokenUse: { windowMs: 15 * 60_000, limit: 30 },
 }
 
 export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
@@ -99,7 +102,13 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     logLevel: e.LOG_LEVEL ?? (test ? 'silent' : 'info'),
     argon2: test ? { memoryCost: 1024, timeCost: 1, parallelism: 1 } : PRODUCTION_ARGON2,
     rateLimits: test
-      ? { signIn: { windowMs: 60_000, limit: 10_000 }, passwordReset: { windowMs: 60_000, limit: 10_000 }, signUp: { windowMs: 60_000, limit: 10_000 } }
+      ? {
+          signIn: { windowMs: 60_000, limit: 10_000 },
+          passwordReset: { windowMs: 60_000, limit: 10_000 },
+          signUp: { windowMs: 60_000, limit: 10_000 },
+          invite: { windowMs: 60_000, limit: 10_000 },
+          tokenUse: { windowMs: 60_000, limit: 10_000 },
+        }
       : PRODUCTION_RATE_LIMITS,
     jsonLimit: '256kb',
     passwordResetTtlMs: 60 * 60_000,

@@ -1,6 +1,6 @@
 // The process entry: reads the environment, starts Spanmark, stops it cleanly on SIGINT/SIGTERM.
 import { loadConfig } from './config'
-import { DEMO_ACCOUNTS, DEMO_PASSWORD } from './demo/accounts'
+import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD } from './demo/accounts'
 import { createLogger } from './logger'
 import { SpanmarkServer } from './runtime'
 
@@ -14,7 +14,8 @@ try {
     `  Spanmark is running at ${server.url}`,
     ...(config.devMail ? [`  Dev mailbox (every e-mail the server sends): ${server.url}/dev/mail`] : []),
     ...(config.seedDemo
-      ? ['', `  Demo sign-ins (password for all: ${DEMO_PASSWORD}):`, ...DEMO_ACCOUNTS.map((a) => `    ${a.role.padEnd(9)} ${a.email.padEnd(28)} ${a.name}`)]
+      ? ['', `  Demo sign-ins (password for all: ${DEMO_PASSWORD}):`, ...DEMO_ACCOUNTS.map((a) => `    ${a.role.padEnd(9)} ${a.email.padEnd(28)} ${a.name}`),
+          `    guest     ${DEMO_GUEST.email.padEnd(28)} ${DEMO_GUEST.name}: no account; a viewing pass for them is in the dev mailbox`]
       : []),
     '',
     '  Ctrl-C stops it.',

@@ -11,12 +11,14 @@ export const REDACT = [
   '*.token',
 ]
 
-export function createLogger(level: string, pretty: boolean): pino.Logger {
-  return pino({
+/** `destination`: where lines go instead of stdout (tests read them back). */
+export function createLogger(level: string, pretty: boolean, destination?: pino.DestinationStream): pino.Logger {
+  const options: pino.LoggerOptions = {
     level,
     redact: { paths: REDACT, censor: '[redacted]' },
     ...(pretty ? { transport: { target: 'pino-pretty', options: { translateTime: 'HH:MM:ss', ignore: 'pid,hostname' } } } : {}),
-  })
+  }
+  return destination ? pino(options, destination) : pino(options)
 }
 
 /** A URL with every query value that looks like a credential replaced, for request logs. */

@@ -9,7 +9,7 @@ import { createApp } from './app'
 import type { Config } from './config'
 import { createDb, createPool } from './db'
 import { migrateToLatest } from './db/migrate'
-import { seedDemo } from './demo/seed'
+import { seedDemo, seedDemoGuest } from './demo/seed'
 import { startFakeS3, type FakeS3 } from './fakes/s3'
 import { startFakeSmtp, type FakeSmtp } from './fakes/smtp'
 import { sendIngest, startBoss } from './jobs/queue'
@@ -27,6 +27,7 @@ const NO_LIVE: LiveSync = {
   instanceChanged: async () => {},
   instanceRemoved: async () => {},
   checkStored: async () => {},
+  passEnded: () => {},
 }
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'
@@ -99,7 +100,7 @@ export class SpanmarkServer {
       worker?.start()
       if (worker) started.push({ close: () => worker.stop() })
 
-      if (config.seedDemo) await seedDemo(services)
+      const seeded = config.seedDemo && (await seedDemo(services))
       const server = http.createServer(createApp(services))
       const collab = new CollabServer(services, () => [services.publicOrigin()])
       collab.attach(server)
@@ -112,6 +113,7 @@ export class SpanmarkServer {
       const { port } = server.address() as AddressInfo
       const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`
       origin ||= url
+      if (seeded) await seedDemoGuest(services)
       services.mailer.start()
       const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab)
       app.startSweeper()

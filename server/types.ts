@@ -11,6 +11,18 @@ import type { MarkerChecker } from './markers/checker'
 
 export type AuthUser = User
 
+/** A guest holding an opened viewing pass: no account, one project, read-only. */
+export interface Guest {
+  passId: string
+  projectId: string
+  projectName: string
+  name: string
+  email: string
+  expiresAt: Date
+  /** SHA-256 of the guest session cookie's value. */
+  sessionHash: string
+}
+
 declare global {
   // Express's own extension point for per-request state.
   // eslint-disable-next-line @typescript-eslint/no-namespace
@@ -18,6 +30,8 @@ declare global {
     interface Request {
       user: User | null
       authSession: Session | null
+      /** Set by the guest session middleware when the request carries a live viewing pass's cookie. */
+      guest: Guest | null
     }
   }
 }
@@ -58,6 +72,8 @@ export interface LiveSync {
   instanceChanged(sceneId: string, instanceId: string): Promise<void>
   instanceRemoved(sceneId: string, instanceId: string): Promise<void>
   checkStored(sceneId: string, markerId: string): Promise<void>
+  /** A viewing pass was revoked or its guest left: its open sockets close at once (CLOSE_CODES.forbidden). */
+  passEnded(passId: string): void
 }
 
 export interface SnappedPoint {

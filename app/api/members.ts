@@ -1,13 +1,8 @@
-import { MemberList, MemberResponse, type Member, type MemberAddBody, type MemberUpdateBody } from '@shared/schemas'
+import { MemberList, MemberResponse, type Member, type MemberUpdateBody } from '@shared/schemas'
 import { apiPath, http } from './http'
 
 export async function listMembers(projectId: string, signal?: AbortSignal): Promise<Member[]> {
   return (await http.get(apiPath`/api/projects/${projectId}/members`, MemberList, { signal })).members
-}
-
-/** Adds a person who already has an account (404 with field email otherwise). */
-export async function addMember(projectId: string, body: MemberAddBody): Promise<Member> {
-  return (await http.post(apiPath`/api/projects/${projectId}/members`, body, MemberResponse)).member
 }
 
 /** 409 when the change would leave the project without an owner. */

@@ -18,5 +18,9 @@ export const queryKeys = {
   checkpoints: (sceneId: string) => ['scenes', sceneId, 'checkpoints'] as const,
   checkpoint: (checkpointId: string) => ['checkpoints', checkpointId] as const,
   uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,
+  invites: (projectId: string) => ['projects', projectId, 'invites'] as const,
+  passes: (projectId: string) => ['projects', projectId, 'passes'] as const,
+  /** The invitation the page's link points at (one per tab; the token itself stays out of the key). */
+  inviteLookup: () => ['invite-lookup'] as const,
   devMail: () => ['dev-mail'] as const,
 }

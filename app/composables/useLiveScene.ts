@@ -147,6 +147,8 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
         status.value = 'refused'
         provider.shouldConnect = false
         record!.shouldConnect = false
+        // Refused mid-visit (a revoked viewing pass, a removed member): asking the API again lets the page say why.
+        void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
       }
     })
     wDoc.getMap(WORK_MAPS.markers).observe((event) => {

@@ -39,6 +39,8 @@ export function useMemberActions(projectId: MaybeRefOrGetter<string>) {
   }
 
   async function setRole(member: Member, role: Role): Promise<void> {
+    // The picker offers members' roles only; a guest comes in with a viewing pass.
+    if (role === 'guest') return
     const ok = await run({ userId: member.userId, role }, () => changeRole.mutateAsync({ userId: member.userId, role }))
     if (ok) toast.add({ severity: 'success', summary: 'Role changed', detail: `${member.name} is now ${ROLE_LABELS[role]}.`, life: 3000 })
   }

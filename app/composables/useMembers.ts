@@ -1,7 +1,6 @@
 import { computed, toValue, type MaybeRefOrGetter } from 'vue'
 import { useMutation, useQuery, useQueryClient } from '@tanstack/vue-query'
-import type { Role } from '@shared/auth/roles'
-import type { MemberAddBody } from '@shared/schemas'
+import type { MemberRole } from '@shared/auth/roles'
 import * as membersApi from '@/api/members'
 import { useSessionStore } from '@/stores/session'
 import { queryKeys } from './queryKeys'
@@ -22,20 +21,10 @@ function useRefreshProject(projectId: MaybeRefOrGetter<string>) {
   )
 }
 
-/** Errors show on the add form. */
-export function useAddMember(projectId: MaybeRefOrGetter<string>) {
-  const refresh = useRefreshProject(projectId)
-  return useMutation({
-    mutationFn: (body: MemberAddBody) => membersApi.addMember(toValue(projectId), body),
-    onSuccess: refresh,
-    meta: { inlineErrors: true },
-  })
-}
-
 export function useChangeMemberRole(projectId: MaybeRefOrGetter<string>) {
   const refresh = useRefreshProject(projectId)
   return useMutation({
-    mutationFn: (input: { userId: string; role: Role }) =>
+    mutationFn: (input: { userId: string; role: MemberRole }) =>
       membersApi.updateMember(toValue(projectId), input.userId, { role: input.role }),
     onSuccess: refresh,
     meta: { errorTitle: 'Role not changed' },

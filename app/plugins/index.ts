@@ -14,6 +14,12 @@ export function installPlugins(app: App): void {
 
   setSignedOutHandler(() => {
     const session = useSessionStore(pinia)
+    if (session.isGuest) {
+      // The pass was revoked or has expired: the page says so instead of a sign-in form.
+      session.setGuest(null)
+      void router.replace({ path: '/passes/open', query: { ended: '1' } })
+      return
+    }
     if (!session.signedIn) return
     session.setUser(null)
     const current = router.currentRoute.value

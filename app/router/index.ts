@@ -40,6 +40,20 @@ const routes: RouteRecordRaw[] = [
     meta: { public: true, layout: 'auth', title: 'New password' },
   },
   {
+    // The e-mailed invitation link (`#token=...`); leads through sign-up or sign-in and back, then joins.
+    path: '/invites/accept',
+    name: 'invite-accept',
+    component: () => import('@/views/InviteAcceptView.vue'),
+    meta: { public: true, layout: 'auth', title: 'Invitation' },
+  },
+  {
+    // The e-mailed viewing pass link (`#token=...`): swaps the token for the guest session, then the project.
+    path: '/passes/open',
+    name: 'pass-open',
+    component: () => import('@/views/PassOpenView.vue'),
+    meta: { public: true, layout: 'auth', title: 'Viewing pass' },
+  },
+  {
     path: '/projects',
     name: 'projects',
     component: () => import('@/views/ProjectsView.vue'),
@@ -102,6 +116,8 @@ router.beforeEach(async (to) => {
   }
   if (to.meta.guestOnly && session.signedIn) return { path: '/projects', replace: true }
   if (!to.meta.public && !session.signedIn) {
+    // A guest's viewing pass opens one project (its page and its scenes), nothing else.
+    if (session.guest) return to.params.projectId === session.guest.projectId ? true : { path: session.homePath, replace: true }
     return { path: '/sign-in', query: { redirect: to.fullPath }, replace: true }
   }
   return true

@@ -16,3 +16,9 @@ export function safeRedirect(value: LocationQueryValue | LocationQueryValue[] | 
   if (AUTH_PAGES.includes(path)) return null
   return raw
 }
+
+/** The address an invitation page handed on (vue-router history state, so it never shows in the URL). */
+export function invitedEmail(): string {
+  const email = (window.history.state as { email?: unknown } | null)?.email
+  return typeof email === 'string' ? email : ''
+}

@@ -37,7 +37,13 @@ export class LiveDocumentsSync implements LiveSync {
   constructor(
     private readonly services: Services,
     private readonly room: (sceneId: string, kind: 'work' | 'record') => Promise<Room>,
+    /** Closes the open sockets of a viewing pass (the socket server's). */
+    private readonly closePass: (passId: string) => void = () => {},
   ) {}
+
+  passEnded(passId: string): void {
+    this.closePass(passId)
+  }
 
   /** A document loaded for the first time is filled from PostgreSQL, once (its meta map says so). */
   async seed(room: Room): Promise<void> {

@@ -15,7 +15,10 @@ export const MESSAGE_AWARENESS = 1
 
 export interface Connection {
   socket: WebSocket
-  userId: string
+  /** The member's account; null for a guest holding a viewing pass. */
+  userId: string | null
+  /** The viewing pass of a guest connection. */
+  passId: string | null
   name: string
   /** May this connection change the document? (owners and measurers on the work document) */
   writable: boolean
@@ -167,7 +170,7 @@ export class Room {
       conn.clientId = entry.clientId
     }
     if (entry.clientId !== conn.clientId) return
-    const state = entry.state === null ? null : { ...(entry.state as Record<string, unknown>), user: { id: conn.userId, name: conn.name } }
+    const state = entry.state === null ? null : { ...(entry.state as Record<string, unknown>), user: { id: conn.userId ?? `pass:${conn.passId}`, name: conn.name, ...(conn.passId ? { guest: true } : {}) } }
     const encoder = encoding.createEncoder()
     encoding.writeVarUint(encoder, 1)
     encoding.writeVarUint(encoder, entry.clientId)

@@ -4,7 +4,10 @@ import type pino from 'pino'
 import { WebSocketServer, type WebSocket } from 'ws'
 import { can } from '@shared/auth/roles'
 import { CLOSE_CODES, type DocumentKind } from '@shared/collab/documents'
+import { GUEST_COOKIE, readCookie } from '../auth/guestSessions'
+import { hashSecret } from '../auth/tokens'
 import { findMembership } from '../repositories/memberships'
+import { findPassBySession } from '../repositories/passes'
 import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
 import { LiveDocumentsSync } from './liveSync'
@@ -17,11 +20,15 @@ const PATH = /^\/collab\/([0-9a-f-]{36})(\/record)?$/i
  * `/collab/:sceneId/record` (the record document), speaking y-websocket's protocol. The upgrade is taken,
  * then decided: a bad Origin, no session, no such scene or no membership closes the socket at once with a
  * named code (shared/collab/documents.ts CLOSE_CODES), so a client can tell why. Owners and measurers write
- * the work document; everyone else, and everyone on the record document, is read-only.
+ * the work document; everyone else, and everyone on the record document, is read-only. A guest holding a
+ * viewing pass comes in with its guest session cookie (never a token in the URL), read-only, to its own
+ * project only; revoking the pass, or its expiry, closes its sockets with CLOSE_CODES.forbidden.
  */
 export class CollabServer {
   private readonly wss = new WebSocketServer({ noServer: true, maxPayload: 8 * 1024 * 1024 })
   private readonly rooms = new Map<string, Promise<Room>>()
+  /** Open sockets per viewing pass, so a revoked pass is cut off at once. */
+  private readonly passSockets = new Map<string, Set<WebSocket>>()
   private readonly log: pino.Logger
   /** REST and live as one model. */
   readonly sync: LiveDocumentsSync
@@ -32,7 +39,7 @@ export class CollabServer {
   ) {
     this.log = services.log.child({ part: 'collab' })
     this.allowedOrigins = allowedOrigins
-    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind))
+    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId))
   }
 
   private readonly allowedOrigins: () => string[]
@@ -77,19 +84,32 @@ export class CollabServer {
     const { auth, db } = this.services
     const sessionId = auth.readSessionCookie(req.headers.cookie ?? '')
     const { session, user } = sessionId ? await auth.validateSession(sessionId) : { session: null, user: null }
-    if (!session || !user) return refuse('unauthenticated', 'sign in first')
+    const passCookie = readCookie(req.headers.cookie, GUEST_COOKIE)
+    const pass = passCookie ? await findPassBySession(db, hashSecret(passCookie)) : undefined
+    const member = session && user ? user : null
+    if (!member && !pass) return refuse('unauthenticated', 'sign in first')
     const scene = await projectOfScene(db, sceneId)
-    const membership = scene ? await findMembership(db, scene.project_id, user.id) : undefined
+    const membership = scene && member ? await findMembership(db, scene.project_id, member.id) : undefined
+    // A member's own role decides; otherwise a pass for this scene's project makes a read-only guest.
+    const guest = !membership && scene && pass && pass.project_id === scene.project_id ? pass : null
+    const role = membership?.role ?? (guest ? 'guest' : null)
     // Not a member: the same answer as no such scene, so ids reveal nothing.
-    if (!scene || !membership) return refuse('forbidden', 'not a member of this scene')
-    if (!can(membership.role, 'view')) return refuse('forbidden', 'not allowed')
+    if (!scene || !role) return refuse('forbidden', 'not a member of this scene')
+    if (!can(role, 'view')) return refuse('forbidden', 'not allowed')
     const room = await this.room(sceneId, kind)
     if (ws.readyState !== ws.OPEN) return
+    if (guest) {
+      this.holdPass(ws, guest.id, guest.expires_at)
+      // A revoke between the check above and holding the socket would miss it: look once more.
+      if (!(await findPassBySession(db, guest.session_hash!))) return refuse('forbidden', 'viewing pass revoked')
+      if (ws.readyState !== ws.OPEN) return
+    }
     const conn: Connection = {
       socket: ws,
-      userId: user.id,
-      name: user.name,
-      writable: kind === 'work' && can(membership.role, 'editMarkers'),
+      userId: guest ? null : member!.id,
+      passId: guest?.id ?? null,
+      name: guest ? guest.name : member!.name,
+      writable: kind === 'work' && can(role, 'editMarkers'),
       clientId: null,
       awarenessTimes: [],
     }
@@ -102,6 +122,32 @@ export class CollabServer {
     ws.on('close', () => room.leave(conn))
     room.greet(conn)
     for (const bytes of early.splice(0)) deliver(bytes)
+  }
+
+  /** Keeps a guest socket findable by its pass, and closes it when the pass expires. */
+  private holdPass(ws: WebSocket, passId: string, expiresAt: Date): void {
+    let set = this.passSockets.get(passId)
+    if (!set) this.passSockets.set(passId, (set = new Set()))
+    set.add(ws)
+    // setTimeout holds at most 2^31 - 1 ms (about 24.8 days): a longer pass waits in steps.
+    let timer: NodeJS.Timeout
+    const arm = () => {
+      const left = expiresAt.getTime() - Date.now()
+      if (left <= 0) return ws.close(CLOSE_CODES.forbidden, 'viewing pass expired')
+      timer = setTimeout(arm, Math.min(left, 2 ** 31 - 1))
+      timer.unref()
+    }
+    arm()
+    ws.on('close', () => {
+      clearTimeout(timer)
+      set.delete(ws)
+      if (set.size === 0 && this.passSockets.get(passId) === set) this.passSockets.delete(passId)
+    })
+  }
+
+  /** Closes every open socket of a viewing pass (revoked, or its guest left). */
+  closePass(passId: string): void {
+    for (const ws of this.passSockets.get(passId) ?? []) ws.close(CLOSE_CODES.forbidden, 'viewing pass revoked')
   }
 
   /** The room of a scene's document, loaded once. */

@@ -82,6 +82,38 @@ export interface UploadTokensTable {
   revoked_at: Date | null
 }
 
+export interface InvitesTable {
+  id: Generated<string>
+  project_id: string
+  email: string
+  role: 'measurer' | 'mentor'
+  token_hash: string
+  invited_by: string | null
+  created_at: Timestamp
+  last_sent_at: Timestamp
+  expires_at: RequiredTimestamp
+  accepted_at: Date | null
+  accepted_by: string | null
+  revoked_at: Date | null
+}
+
+/** Viewing passes: a guest without an account sees one project, read-only. */
+export interface GuestLinksTable {
+  id: Generated<string>
+  project_id: string
+  email: string
+  name: string
+  token_hash: string
+  /** SHA-256 of the guest session cookie, set when the one-time token is swapped for it. */
+  session_hash: string | null
+  created_by: string | null
+  created_at: Timestamp
+  expires_at: RequiredTimestamp
+  opened_at: Date | null
+  last_used_at: Date | null
+  revoked_at: Date | null
+}
+
 /** bigint columns come back from pg as strings; the mappers turn them into numbers. */
 type BigInt = ColumnType<string, number | string, number | string>
 type Json<T> = ColumnType<T, string | undefined, string>
@@ -223,6 +255,8 @@ export interface Database {
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
+  invites: InvitesTable
+  guest_links: GuestLinksTable
   scans: ScansTable
   scan_tiles: ScanTilesTable
   users: UsersTable
@@ -246,3 +280,5 @@ export type ScanRow = Selectable<ScansTable>
 export type NewScan = Insertable<ScansTable>
 export type ScanUpdate = Updateable<ScansTable>
 export type UploadTokenRow = Selectable<UploadTokensTable>
+export type InviteRow = Selectable<InvitesTable>
+export type GuestLinkRow = Selectable<GuestLinksTable>

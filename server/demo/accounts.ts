@@ -10,8 +10,13 @@ export const DEMO_ACCOUNTS: readonly { role: Role; email: string; name: string }
   { role: 'owner', email: 'ines@ostrevale-museum.example', name: 'Ines Calloway' },
   { role: 'measurer', email: 'tomas@ostrevale-museum.example', name: 'Tomas Reyne' },
   { role: 'mentor', email: 'maren@ostrevale-museum.example', name: 'Maren Holt' },
-  { role: 'guest', email: 'pieter@ostrevale-museum.example', name: 'Pieter Ovaska' },
 ]
+
+/**
+ * The demo's guest has no account (DESIGN section 2): the owner has sent them a viewing pass, whose e-mail
+ * waits in the dev mailbox. Its link opens once, in one browser.
+ */
+export const DEMO_GUEST = { email: 'pieter@ostrevale-museum.example', name: 'Pieter Ovaska', days: 90 }
 
 export const DEMO_PROJECT = {
   name: 'Chart chest through the west loading door',

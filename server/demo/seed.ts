@@ -12,12 +12,14 @@ import { DOOR } from './synth/scene'
 import { acceptUpload } from '../services/scans'
 import { PLACEMENT_COLOURS } from '../services/scenes'
 import type { Services } from '../types'
-import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT } from './accounts'
+import { createPass } from '../services/passes'
+import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD, DEMO_PROJECT } from './accounts'
 import { DEMO_SCENE, demoScanFiles } from './synth/demoScans'
 
 /**
- * Seeds the demo into an empty database: one account per role, the project, and its synthetic scans,
- * uploaded through the same path as a person's upload (object storage, then the ingest queue).
+ * Seeds the demo into an empty database: one account per member role, the project, and its synthetic scans,
+ * uploaded through the same path as a person's upload (object storage, then the ingest queue). The guest's
+ * viewing pass follows once the server listens (`seedDemoGuest`), since its e-mailed link needs the address.
  * Returns whether it seeded.
  */
 export async function seedDemo(s: Services): Promise<boolean> {
@@ -55,6 +57,23 @@ export async function seedDemo(s: Services): Promise<boolean> {
   await seedDemoMarkers(s, projectId, sceneId, instanceIds, measurerId)
   s.log.info('seeded the demo project, its scene, and queued its scans')
   return true
+}
+
+/**
+ * The demo guest's viewing pass, sent by the owner through the outbox, so its e-mail (and its one-time link)
+ * waits in the dev mailbox. Called once, right after a seeding start has its public address.
+ */
+export async function seedDemoGuest(s: Services): Promise<void> {
+  const owner = DEMO_ACCOUNTS.find((a) => a.role === 'owner')!
+  const project = await s.db
+    .selectFrom('projects as p')
+    .innerJoin('users as u', 'u.id', 'p.created_by')
+    .select(['p.id', 'u.id as owner_id'])
+    .where('u.email', '=', owner.email)
+    .where('p.name', '=', DEMO_PROJECT.name)
+    .executeTakeFirst()
+  if (!project) return
+  await createPass(s, project.id, project.owner_id, DEMO_GUEST)
 }
 
 /**

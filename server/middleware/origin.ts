@@ -1,5 +1,6 @@
 import type { RequestHandler } from 'express'
 import { ErrorCode } from '@shared/schemas/common'
+import { GUEST_COOKIE } from '../auth/guestSessions'
 import { SESSION_COOKIE } from '../auth/lucia'
 import { HttpError } from '../errors'
 
@@ -8,7 +9,7 @@ const SAFE = new Set(['GET', 'HEAD', 'OPTIONS'])
 /**
  * Cross-site request forgery guard for state-changing requests. A browser always sends Origin on such
  * requests; it must name this server. A request without Origin is accepted only when it carries no
- * session cookie (a rig posting with a bearer token, a script), since then there is nothing to forge.
+ * session or guest cookie (a rig posting with a bearer token, a script), since then there is nothing to forge.
  */
 export function originCheck(allowedOrigins: () => string[]): RequestHandler {
   return (req, _res, next) => {
@@ -25,7 +26,8 @@ export function originCheck(allowedOrigins: () => string[]): RequestHandler {
       if (!allowed) return next(new HttpError(403, ErrorCode.badOrigin, `Requests from ${origin} may not change data here.`))
       return next()
     }
-    if ((req.headers.cookie ?? '').includes(`${SESSION_COOKIE}=`)) {
+    const cookies = req.headers.cookie ?? ''
+    if (cookies.includes(`${SESSION_COOKIE}=`) || cookies.includes(`${GUEST_COOKIE}=`)) {
       return next(new HttpError(403, ErrorCode.badOrigin, 'A request that changes data must come from the Spanmark page (it carried no Origin header).'))
     }
     next()

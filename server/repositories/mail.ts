@@ -39,8 +39,9 @@ export function claimDueMail(db: Conn, limit: number) {
     .execute()
 }
 
+/** A sent message keeps its address and subject; its bodies go, since they may hold one-time links (invitations, passes, resets). */
 export function markMailSent(db: Conn, id: string) {
-  return db.updateTable('mail_outbox').set({ sent_at: new Date(), last_error: null }).where('id', '=', id).execute()
+  return db.updateTable('mail_outbox').set({ sent_at: new Date(), last_error: null, text_body: '', html_body: null }).where('id', '=', id).execute()
 }
 
 /** Backs off 10 s, 20 s, 40 s ... up to an hour. */

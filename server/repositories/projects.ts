@@ -26,6 +26,24 @@ export function findProjectForUser(db: Conn, projectId: string, userId: string) 
   return projectWithRole(db).where('p.id', '=', projectId).where('m.user_id', '=', userId).executeTakeFirst()
 }
 
+/** A project with its member count, without anyone's role (a guest's view is decided by its pass). */
+export function findProjectWithCount(db: Conn, projectId: string) {
+  return db
+    .selectFrom('projects as p')
+    .select((eb) => [
+      'p.id',
+      'p.name',
+      'p.description',
+      'p.anchor_tolerance',
+      'p.required_margin',
+      'p.created_at',
+      'p.updated_at',
+      eb.selectFrom('memberships as c').whereRef('c.project_id', '=', 'p.id').select((e) => e.fn.countAll<string>().as('n')).as('member_count'),
+    ])
+    .where('p.id', '=', projectId)
+    .executeTakeFirst()
+}
+
 export function insertProject(db: Conn, values: { name: string; description: string; createdBy: string }) {
   return db
     .insertInto('projects')

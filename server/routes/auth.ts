@@ -1,6 +1,8 @@
 import { ChangePasswordBody, ResetConfirmBody, ResetRequestBody, SignInBody, SignUpBody, UpdateMeBody } from '@shared/schemas'
+import { GUEST_COOKIE } from '../auth/guestSessions'
 import * as accounts from '../services/accounts'
 import { toUser } from '../services/mappers'
+import { guestSessionOf, leavePass } from '../services/passes'
 import { defineRoute, type RouteDef } from './registry'
 
 export const authRoutes: RouteDef[] = [
@@ -24,8 +26,10 @@ export const authRoutes: RouteDef[] = [
     method: 'post',
     path: '/auth/sign-out',
     access: { kind: 'public' },
-    handler: async ({ services, res, req }) => {
+    // Ends a viewing pass's guest session as well: signing out leaves this browser with nothing.
+    handler: async ({ services, res, req, guest }) => {
       await accounts.signOut(services, res, req.authSession?.id)
+      if (guest || req.headers.cookie?.includes(`${GUEST_COOKIE}=`)) await leavePass(services, res, guest)
     },
   }),
   defineRoute({
@@ -46,6 +50,12 @@ export const authRoutes: RouteDef[] = [
     limiter: 'passwordReset',
     body: ResetConfirmBody,
     handler: async ({ services, res, body }) => ({ body: { user: await accounts.confirmPasswordReset(services, res, body) } }),
+  }),
+  defineRoute({
+    method: 'get',
+    path: '/session',
+    access: { kind: 'public' },
+    handler: ({ user, guest }) => ({ body: { user: user ? toUser(user) : null, guest: guest ? guestSessionOf(guest) : null } }),
   }),
   defineRoute({
     method: 'get',

@@ -1,5 +1,7 @@
 import { authRoutes } from './auth'
 import { checkpointRoutes } from './checkpoints'
+import { inviteRoutes } from './invites'
+import { passRoutes } from './passes'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
@@ -9,4 +11,4 @@ import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes, ...inviteRoutes, ...passRoutes]

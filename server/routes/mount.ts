@@ -69,14 +69,15 @@ export function mountRoutes(router: Router, routes: RouteDef[], services: Servic
     handlers.push(async (req: Request, res: Response, next: NextFunction) => {
       const access = def.access
       const token = access.kind === 'project' && access.rigKey && !req.user ? bearer(req) : null
-      if ((access.kind === 'user' || access.kind === 'project') && !req.user && !token) throw HttpError.unauthenticated()
+      if (access.kind === 'user' && !req.user && req.guest) throw HttpError.forbidden('A viewing pass only shows its project: this needs a Spanmark account.')
+      if ((access.kind === 'user' || access.kind === 'project') && !req.user && !req.guest && !token) throw HttpError.unauthenticated()
       const params = parse(def.params, req.params, 'params')
       let gate: Gate = { params, membership: null, rigKey: null }
       if (access.kind === 'project') {
         if (token) {
           const { membership, rigKey } = await authorizeRigKey(services.db, token, params as Record<string, unknown>, access.right)
           gate = { params, membership, rigKey }
-        } else gate.membership = await authorize(services.db, req.user!.id, params as Record<string, unknown>, access.right)
+        } else gate.membership = await authorize(services.db, { userId: req.user?.id ?? null, guest: req.guest }, params as Record<string, unknown>, access.right)
       }
       res.locals.gate = gate
       next()
@@ -90,7 +91,7 @@ export function mountRoutes(router: Router, routes: RouteDef[], services: Servic
       try {
         const body = parse(def.body, req.body, 'body')
         const query = parse(def.query, req.query, 'query')
-        const reply = await def.handler({ params: gate.params, body, query, user: req.user, rigKey: gate.rigKey, membership: gate.membership, file, services, req, res })
+        const reply = await def.handler({ params: gate.params, body, query, user: req.user, guest: req.guest, rigKey: gate.rigKey, membership: gate.membership, file, services, req, res })
         if (res.headersSent) return
         if (!reply || reply.body === undefined) res.status(reply?.status ?? 204).end()
         else res.status(reply.status ?? 200).json(reply.body)

@@ -21,7 +21,7 @@ export const projectRoutes: RouteDef[] = [
     path: '/projects/:projectId',
     access: { kind: 'project', right: 'view' },
     params: ProjectParams,
-    handler: async ({ services, user, params }) => ({ body: { project: await projects.getProject(services.db, params.projectId, user!.id) } }),
+    handler: async ({ services, params, membership }) => ({ body: { project: await projects.getProjectAs(services.db, params.projectId, membership!.role) } }),
   }),
   defineRoute({
     method: 'patch',

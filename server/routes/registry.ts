@@ -1,7 +1,7 @@
 import type { Request, Response } from 'express'
 import type { z } from 'zod'
 import type { Right, Role } from '@shared/auth/roles'
-import type { AuthUser, Services } from '../types'
+import type { AuthUser, Guest, Services } from '../types'
 
 /**
  * Who may call a route. Project routes name the right they need (shared/auth/roles.ts); the project is
@@ -10,6 +10,7 @@ import type { AuthUser, Services } from '../types'
  */
 export type Access =
   | { kind: 'public' }
+  /** A signed-in person; a guest holding only a viewing pass gets 403 (a pass changes nothing and has no account). */
   | { kind: 'user' }
   /** `rigKey`: a per-project upload token (`Authorization: Bearer ...`) may stand in for a session. */
   | { kind: 'project'; right: Right; rigKey?: boolean }
@@ -31,6 +32,8 @@ export interface RouteContext<P, B, Q> {
   body: B
   query: Q
   user: AuthUser | null
+  /** A guest holding a viewing pass (no account); on project routes only for that pass's project. */
+  guest: Guest | null
   /** Set when an upload token, not a session, authorised the request. */
   rigKey: RigKey | null
   membership: Membership | null
@@ -46,7 +49,7 @@ export interface Reply {
   body?: unknown
 }
 
-export type LimiterName = 'signIn' | 'passwordReset' | 'signUp'
+export type LimiterName = 'signIn' | 'passwordReset' | 'signUp' | 'invite' | 'tokenUse'
 
 export interface RouteDef<P = any, B = any, Q = any> {
   method: 'get' | 'post' | 'patch' | 'put' | 'delete'

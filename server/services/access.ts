@@ -8,7 +8,10 @@ import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfMarker } from '../repositories/markers'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
+import { projectOfInvite } from '../repositories/invites'
+import { projectOfPass } from '../repositories/passes'
 import type { Membership, RigKey } from '../routes/registry'
+import type { Guest } from '../types'
 
 /**
  * The one place that decides whether a caller may do something in a project. Routes whose path names
@@ -23,6 +26,8 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,
   markerId: async (db, id) => (await projectOfMarker(db, id))?.project_id ?? null,
   checkpointId: async (db, id) => (await projectOfCheckpoint(db, id))?.project_id ?? null,
+  inviteId: async (db, id) => (await projectOfInvite(db, id))?.project_id ?? null,
+  passId: async (db, id) => (await projectOfPass(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)
@@ -37,15 +42,28 @@ export async function projectIdFromParams(db: Conn, params: Record<string, unkno
 
 const NOT_FOUND = 'No such project, or you are not a member of it.'
 
-export async function authorize(db: Conn, userId: string, params: Record<string, unknown>, right: Right): Promise<Membership> {
+/** Who asks: a signed-in person, a guest holding a viewing pass, or (a member who opened a pass) both. */
+export interface Caller {
+  userId: string | null
+  guest: Guest | null
+}
+
+/**
+ * Membership decides first; a caller who is not a member but holds a viewing pass for this very project
+ * acts as its guest. Anything else is 404, the same answer as a project that does not exist.
+ */
+export async function authorize(db: Conn, caller: Caller, params: Record<string, unknown>, right: Right): Promise<Membership> {
   const projectId = await projectIdFromParams(db, params)
-  const membership = projectId ? await findMembership(db, projectId, userId) : undefined
+  const membership = projectId && caller.userId ? await findMembership(db, projectId, caller.userId) : undefined
+  const role = membership?.role ?? (projectId && caller.guest?.projectId === projectId ? 'guest' : null)
   // Not a member: the same answer as a project that does not exist, so ids reveal nothing.
-  if (!projectId || !membership) throw HttpError.notFound(NOT_FOUND)
-  if (!can(membership.role, right)) {
-    throw HttpError.forbidden(`Your role in this project (${membership.role}) does not allow this.`)
+  if (!projectId || !role) throw HttpError.notFound(NOT_FOUND)
+  if (!can(role, right)) {
+    throw HttpError.forbidden(
+      membership ? `Your role in this project (${role}) does not allow this.` : 'A viewing pass only shows this project; it changes nothing.',
+    )
   }
-  return { projectId, role: membership.role }
+  return { projectId, role }
 }
 
 /** Rig keys act as a measurer of their own project, for the routes that accept them (uploads). */

@@ -1,4 +1,6 @@
-import type { Instance, Marker, Member, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
+import type { GuestSession, Instance, Invite, Marker, Member, Pass, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
+import type { InviteWithPeopleRow } from '../repositories/invites'
+import type { PassWithPeopleRow } from '../repositories/passes'
 import type { AuthUser } from '../types'
 import type { UserRow } from '../db/schema'
 import type { MemberRow } from '../repositories/memberships'
@@ -134,4 +136,39 @@ export function parseStoredCheck(stored: unknown, state: string, revision: numbe
   const pending = blankCheck('pending', revision)
   // While a re-check runs, the last result is kept for reading, marked pending.
   return parsed.success ? { ...parsed.data, state: 'pending', basedOn: parsed.data.basedOn } : pending
+}
+
+export function toInvite(row: InviteWithPeopleRow): Invite {
+  return {
+    id: row.id,
+    projectId: row.project_id,
+    email: row.email,
+    role: row.role,
+    status: row.expires_at > new Date() ? 'pending' : 'expired',
+    invitedBy: row.inviter_name,
+    createdAt: row.created_at.toISOString(),
+    lastSentAt: row.last_sent_at.toISOString(),
+    expiresAt: row.expires_at.toISOString(),
+  }
+}
+
+export function toPass(row: PassWithPeopleRow): Pass {
+  const state = row.revoked_at ? 'revoked' : row.expires_at <= new Date() ? 'expired' : row.opened_at ? 'open' : 'not-opened'
+  return {
+    id: row.id,
+    projectId: row.project_id,
+    email: row.email,
+    name: row.name,
+    state,
+    createdBy: row.creator_name,
+    createdAt: row.created_at.toISOString(),
+    expiresAt: row.expires_at.toISOString(),
+    openedAt: row.opened_at?.toISOString() ?? null,
+    lastUsedAt: row.last_used_at?.toISOString() ?? null,
+    revokedAt: row.revoked_at?.toISOString() ?? null,
+  }
+}
+
+export function toGuestSession(row: PassWithPeopleRow): GuestSession {
+  return { passId: row.id, projectId: row.project_id, projectName: row.project_name, name: row.name, expiresAt: row.expires_at.toISOString() }
 }

@@ -3,7 +3,7 @@ import type { Role } from '@shared/auth/roles'
 import { HttpError } from '../errors'
 import type { Conn } from '../db'
 import { countOwners, deleteMembership, findMember, insertMembership, listMembers, updateMembershipRole } from '../repositories/memberships'
-import { deleteProject, findProjectForUser, insertProject, listProjectsForUser, lockProject, updateProject } from '../repositories/projects'
+import { deleteProject, findProjectForUser, findProjectWithCount, insertProject, listProjectsForUser, lockProject, updateProject } from '../repositories/projects'
 import { findUserByEmail } from '../repositories/users'
 import type { Services } from '../types'
 import { toMember, toProject } from './mappers'
@@ -17,6 +17,13 @@ export async function getProject(db: Conn, projectId: string, userId: string): P
   const row = await findProjectForUser(db, projectId, userId)
   if (!row) throw HttpError.notFound('No such project, or you are not a member of it.')
   return toProject(row)
+}
+
+/** The project as a caller with `role` sees it (the route has decided the role: a member's, or a pass's guest). */
+export async function getProjectAs(db: Conn, projectId: string, role: Role): Promise<Project> {
+  const row = await findProjectWithCount(db, projectId)
+  if (!row) throw HttpError.notFound('No such project, or you are not a member of it.')
+  return toProject({ ...row, role })
 }
 
 /** The person who creates a project owns it. */

@@ -65,7 +65,7 @@ export async function editInstance(s: Services, instanceId: string, body: Instan
 }
 
 /** A placement as a writer left it in the work document: a rigid matrix, visibility, colour. */
-export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, _userId: string): Promise<boolean> {
+export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, _userId: string | null): Promise<boolean> {
   if (rigidProblem(entry.matrix) !== null || !/^#[0-9a-fA-F]{6}$/.test(entry.color)) return false
   const before = await repo.findInstance(s.db, instanceId)
   if (!before) return false

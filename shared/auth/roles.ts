@@ -5,6 +5,10 @@
 export const ROLES = ['owner', 'measurer', 'mentor', 'guest'] as const
 export type Role = (typeof ROLES)[number]
 
+/** Roles a person with an account holds; a guest has no account, only a viewing pass (DESIGN section 2). */
+export const MEMBER_ROLES = ['owner', 'measurer', 'mentor'] as const satisfies readonly Role[]
+export type MemberRole = (typeof MEMBER_ROLES)[number]
+
 export const RIGHTS = [
   'view', // scenes, markers, values, history, the measurement sheet
   'editScans', // upload scans, place and move scans in a scene, align stations
@@ -43,5 +47,5 @@ export const ROLE_DESCRIPTIONS: Record<Role, string> = {
   owner: 'Runs the project: everything a measurer and a mentor do, plus people, passes and deletion.',
   measurer: 'Brings scans in, places them, and measures.',
   mentor: 'Reviews: comments, asks for changes and signs measurements off.',
-  guest: 'Sees scenes, values and the measurement sheet; changes nothing.',
+  guest: 'Holds a viewing pass, no account: sees scenes, values and the measurement sheet; changes nothing.',
 }

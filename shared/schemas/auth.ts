@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { Email, Id, Password, PersonName, Timestamp } from './common'
+import { GuestSession } from './passes'
 
 export const SignUpBody = z.object({ email: Email, password: Password, name: PersonName })
 export type SignUpBody = z.infer<typeof SignUpBody>
@@ -39,3 +40,10 @@ export type User = z.infer<typeof User>
 
 export const MeResponse = z.object({ user: User })
 export type MeResponse = z.infer<typeof MeResponse>
+
+/**
+ * Who is calling (GET /api/session): a signed-in person, a guest holding a viewing pass, both (a member who
+ * opened a pass to another project), or neither. Always 200, so a page can ask it before anything else.
+ */
+export const SessionInfo = z.object({ user: User.nullable(), guest: GuestSession.nullable() })
+export type SessionInfo = z.infer<typeof SessionInfo>

@@ -47,6 +47,8 @@ export const ErrorCode = {
   badOrigin: 'bad-origin',
   invalidCredentials: 'invalid-credentials',
   invalidToken: 'invalid-token',
+  /** An invitation addressed to another e-mail than the signed-in account's. */
+  wrongAccount: 'wrong-account',
   internal: 'internal',
   unavailable: 'unavailable',
 } as const

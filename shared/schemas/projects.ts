@@ -1,9 +1,11 @@
 import { z } from 'zod'
-import { ROLES } from '../auth/roles'
+import { MEMBER_ROLES, ROLES } from '../auth/roles'
 import { Email, Id, Timestamp } from './common'
 import { MARGIN_LIMITS, MarkerSettings, TOLERANCE_LIMITS } from './markers'
 
 export const RoleSchema = z.enum(ROLES, { error: `must be one of ${ROLES.join(', ')}` })
+/** The roles an owner can give a member; guests come in with a viewing pass instead. */
+export const MemberRoleSchema = z.enum(MEMBER_ROLES, { error: `must be one of ${MEMBER_ROLES.join(', ')} (guests get a viewing pass)` })
 
 const ProjectName = z
   .string({ error: 'must be text' })
@@ -61,7 +63,7 @@ export const MemberList = z.object({ members: z.array(Member) })
 export const MemberResponse = z.object({ member: Member })
 
 /** Adds a person who already has an account; people without one are invited by e-mail. */
-export const MemberAddBody = z.object({ email: Email, role: RoleSchema })
+export const MemberAddBody = z.object({ email: Email, role: MemberRoleSchema })
 export type MemberAddBody = z.infer<typeof MemberAddBody>
-export const MemberUpdateBody = z.object({ role: RoleSchema })
+export const MemberUpdateBody = z.object({ role: MemberRoleSchema })
 export type MemberUpdateBody = z.infer<typeof MemberUpdateBody>

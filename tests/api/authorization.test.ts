@@ -1,20 +1,25 @@
 // Generated from the route registry (server/routes/index.ts): every API route, every role of DESIGN
-// section 2, a signed-in non-member and an anonymous caller. A route added to the registry is walked
-// here without anyone writing a test for it; a route whose access or path parameters are unknown to
-// this walker fails the test rather than slipping through.
+// section 2 (the guest a real one: no account, a viewing pass opened through its e-mailed link), a
+// signed-in non-member, a guest of another project and an anonymous caller. A route added to the registry
+// is walked here without anyone writing a test for it; a route whose access or path parameters are
+// unknown to this walker fails the test rather than slipping through.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { can, ROLES, type Role } from '@shared/auth/roles'
+import { can, MEMBER_ROLES, ROLES, type MemberRole } from '@shared/auth/roles'
 import { apiRoutes } from '../../server/routes'
 import type { RouteDef } from '../../server/routes/registry'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 type Agent = Awaited<ReturnType<typeof signUpAgent>>
-const people = {} as Record<Role | 'outsider', Agent>
+const people = {} as Record<MemberRole | 'outsider', Agent>
+/** A guest holding a pass to a project of its own, to walk every route from outside. */
+let strangerGuest: ReturnType<TestServer['agent']>
 
 beforeAll(async () => {
   t = await startTestServer()
-  for (const who of [...ROLES, 'outsider'] as const) people[who] = await signUpAgent(t, `The ${who}`)
+  for (const who of [...MEMBER_ROLES, 'outsider'] as const) people[who] = await signUpAgent(t, `The ${who}`)
+  const elsewhere = await people.outsider.agent.post('/api/projects').send({ name: 'Elsewhere' }).expect(201)
+  strangerGuest = (await guestAgent(t, people.outsider.agent, elsewhere.body.project.id)).agent
 })
 afterAll(async () => {
   await t?.stop()
@@ -30,16 +35,23 @@ interface Fixture {
   instanceId: string
   markerId: string
   checkpointId: string
+  inviteId: string
+  passId: string
+  /** With `withGuest`: an agent holding an opened viewing pass of this project. */
+  guest: ReturnType<TestServer['agent']> | null
 }
 
+let invited = 0
+
 /**
- * A project with one member per role, a scan (uploaded, left queued: no worker runs here) and a rig key;
- * made afresh for each call, since some routes delete things.
+ * A project with one member per member role, a scan (uploaded, left queued: no worker runs here), a rig
+ * key, a pending invitation and a viewing pass (opened by a guest's agent when `withGuest`); made afresh
+ * for each call, since some routes delete things.
  */
-async function freshProject(): Promise<Fixture> {
+async function freshProject(withGuest = false): Promise<Fixture> {
   const res = await people.owner.agent.post('/api/projects').send({ name: 'Matrix' }).expect(201)
   const projectId = res.body.project.id as string
-  for (const role of ROLES.filter((r) => r !== 'owner')) {
+  for (const role of MEMBER_ROLES.filter((r) => r !== 'owner')) {
     await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
   }
   const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
@@ -54,12 +66,46 @@ async function freshProject(): Promise<Fixture> {
     .post(`/api/scenes/${scene.body.scene.id}/markers`)
     .send({ kind: 'distance', anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 1, y: 0, z: 0 }] })
     .expect(201)
+  const invite = await people.owner.agent.post(`/api/projects/${projectId}/invites`).send({ email: `invitee${++invited}@spanmark.example`, role: 'mentor' }).expect(201)
   // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
   const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id }
+  let passId: string
+  let guest: Fixture['guest'] = null
+  if (withGuest) {
+    const opened = await guestAgent(t, people.owner.agent, projectId)
+    ;({ agent: guest } = opened)
+    passId = opened.pass.id
+  } else {
+    passId = (await people.owner.agent.post(`/api/projects/${projectId}/passes`).send({ email: 'unopened@spanmark.example', name: 'Not Opened' }).expect(201)).body.pass.id
+  }
+  return {
+    projectId,
+    scanId: scan.body.scan.id,
+    tokenId: token.body.token.id,
+    secret: token.body.secret,
+    sceneId: scene.body.scene.id,
+    instanceId,
+    markerId: marker.body.marker.id,
+    checkpointId: checkpoint.id,
+    inviteId: invite.body.invite.id,
+    passId,
+    guest,
+  }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006' }
+const NOWHERE: Fixture = {
+  projectId: '00000000-0000-4000-8000-000000000000',
+  scanId: '00000000-0000-4000-8000-000000000001',
+  tokenId: '00000000-0000-4000-8000-000000000002',
+  secret: 'smk_none',
+  sceneId: '00000000-0000-4000-8000-000000000003',
+  instanceId: '00000000-0000-4000-8000-000000000004',
+  markerId: '00000000-0000-4000-8000-000000000005',
+  inviteId: '00000000-0000-4000-8000-000000000006',
+  passId: '00000000-0000-4000-8000-000000000007',
+  checkpointId: '00000000-0000-4000-8000-000000000008',
+  guest: null,
+}
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -79,10 +125,14 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.markerId
       case 'checkpointId':
         return f.checkpointId
+      case 'inviteId':
+        return f.inviteId
+      case 'passId':
+        return f.passId
       case 'nodeKey':
         return 'r'
       case 'userId':
-        return people.guest.user.id
+        return people.mentor.user.id
       default:
         throw new Error(`the authorization walk does not know path parameter :${name} of ${route.method.toUpperCase()} ${route.path}`)
     }
@@ -111,9 +161,13 @@ describe('authorization matrix', () => {
       const outsider = await call(people.outsider.agent, route, path)
       expect(outsider.status, 'non-member').toBe(404)
       expect(outsider.body.error.message).not.toMatch(/role/)
+      const foreignGuest = await call(strangerGuest, route, path)
+      expect(foreignGuest.status, 'guest of another project').toBe(404)
+      expect(foreignGuest.body).toEqual(outsider.body)
       for (const role of ROLES) {
         // A project of its own for each role: an allowed call may delete the project or a member.
-        const res = await call(people[role].agent, route, fillPath(route, await freshProject()))
+        const f = await freshProject(role === 'guest')
+        const res = await call(role === 'guest' ? f.guest! : people[role].agent, route, fillPath(route, f))
         if (can(role, right)) expect([401, 403, 404], `${role} is allowed`).not.toContain(res.status)
         else {
           expect(res.status, `${role} lacks ${right}`).toBe(403)
@@ -141,11 +195,15 @@ describe('authorization matrix', () => {
     })
   }
 
+  // Routes for an account: none without a session (401), and a viewing pass is no account (403).
   for (const route of apiRoutes.filter((r) => r.access.kind === 'user')) {
     it(`${routeName(route)} (signed in)`, async () => {
       const anon = await call(t.agent(), route, fillPath(route, NOWHERE))
       expect(anon.status).toBe(401)
       expect(anon.body.error.code).toBe('unauthenticated')
+      const guest = await call(strangerGuest, route, fillPath(route, NOWHERE))
+      expect(guest.status, 'guest with a pass').toBe(403)
+      expect(guest.body.error.code).toBe('forbidden')
     })
   }
 
@@ -155,6 +213,12 @@ describe('authorization matrix', () => {
       expect([401, 403]).not.toContain(anon.status)
     })
   }
+
+  it('has every write refused to a guest: no route that changes data is open to the guest role', () => {
+    for (const r of apiRoutes.filter((x) => x.access.kind === 'project' && x.method !== 'get')) {
+      expect(can('guest', (r.access as { right: Parameters<typeof can>[1] }).right), routeName(r)).toBe(false)
+    }
+  })
 
   it('answers 404 to an unknown project id as to a project one is not in', async () => {
     const res = await people.outsider.agent.get('/api/projects/00000000-0000-4000-8000-000000000000').expect(404)

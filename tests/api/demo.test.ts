@@ -1,10 +1,10 @@
 // The demo's synthetic scans go through the real upload and ingest path when the demo is seeded.
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Marker, Scan } from '@shared/schemas'
-import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
+import { DEMO_ACCOUNTS, DEMO_GUEST } from '../../server/demo/accounts'
 import { CHEST, DOOR } from '../../server/demo/synth/scene'
 import { waitForScan } from '../utils/scans'
-import { startTestServer, type TestServer } from '../utils/server'
+import { startTestServer, tokenOf, type TestServer } from '../utils/server'
 
 let t: TestServer
 beforeAll(async () => {
@@ -14,10 +14,23 @@ afterAll(async () => {
   await t?.stop()
 })
 
+it('seeds one account per member role and, for the guest, no account but a viewing pass waiting in the dev mailbox', async () => {
+  const emails = (await t.server.services.db.selectFrom('users').select('email').execute()).map((u) => u.email).sort()
+  expect(emails).toEqual(DEMO_ACCOUNTS.map((a) => a.email).sort())
+  expect(emails).not.toContain(DEMO_GUEST.email)
+  const mail = await t.waitForMail(DEMO_GUEST.email)
+  expect(mail.subject).toMatch(/^A viewing pass for /)
+  // The link points at the server's own address (the pass is made once the server listens).
+  const link = mail.links.find((l) => l.includes('/passes/open#token='))!
+  expect(new URL(link).origin).toBe(t.url)
+})
+
 it('seeds the demo project with its three scans, processed to ready', { timeout: 120_000 }, async () => {
+  // Seen as the demo's guest: the viewing pass from the dev mailbox, opened.
   const guest = t.agent()
-  await guest.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'guest')!.email, password: DEMO_PASSWORD }).expect(200)
-  const [project] = (await guest.get('/api/projects').expect(200)).body.projects
+  const link = (await t.waitForMail(DEMO_GUEST.email)).links.find((l) => l.includes('/passes/open#token='))!
+  const { guest: session } = (await guest.post('/api/passes/open').send({ token: tokenOf(link) }).expect(200)).body
+  const project = (await guest.get(`/api/projects/${session.projectId}`).expect(200)).body.project
   expect(project.role).toBe('guest')
   const listed = (await guest.get(`/api/projects/${project.id}/scans`).expect(200)).body.scans as Scan[]
   expect(listed).toHaveLength(3)

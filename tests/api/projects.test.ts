@@ -73,9 +73,9 @@ describe('members and roles', () => {
 
   it('says when no account uses an e-mail, and when the person is already a member', async () => {
     const { owner, projectId } = await projectWithPeople()
-    const none = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: 'nobody@spanmark.example', role: 'guest' }).expect(404)
+    const none = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: 'nobody@spanmark.example', role: 'mentor' }).expect(404)
     expect(none.body.error).toMatchObject({ field: 'email' })
-    const dup = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: owner.email, role: 'guest' }).expect(409)
+    const dup = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: owner.email, role: 'mentor' }).expect(409)
     expect(dup.body.error.message).toMatch(/already a member/)
   })
 
@@ -84,7 +84,10 @@ describe('members and roles', () => {
     const other = await signUpAgent(t)
     const res = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: other.email, role: 'boss' }).expect(400)
     expect(res.body.error.field).toBe('role')
-    expect(res.body.error.message).toMatch(/owner, measurer, mentor, guest/)
+    expect(res.body.error.message).toMatch(/owner, measurer, mentor \(guests get a viewing pass\)/)
+    // A guest has no account (DESIGN section 2): that role comes with a viewing pass, never a membership.
+    const guest = await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: other.email, role: 'guest' }).expect(400)
+    expect(guest.body.error.field).toBe('role')
   })
 
   it('never leaves a project without an owner', async () => {
@@ -96,8 +99,8 @@ describe('members and roles', () => {
     await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: second.email, role: 'owner' }).expect(201)
     // Two owners demoting each other at the same moment: one of them must stay owner.
     const results = await Promise.all([
-      owner.agent.patch(`/api/projects/${projectId}/members/${second.user.id}`).send({ role: 'guest' }),
-      second.agent.patch(`/api/projects/${projectId}/members/${owner.user.id}`).send({ role: 'guest' }),
+      owner.agent.patch(`/api/projects/${projectId}/members/${second.user.id}`).send({ role: 'measurer' }),
+      second.agent.patch(`/api/projects/${projectId}/members/${owner.user.id}`).send({ role: 'measurer' }),
     ])
     const owners = await t.server.services.db.selectFrom('memberships').select('user_id').where('project_id', '=', projectId).where('role', '=', 'owner').execute()
     expect(owners.length).toBe(1)

@@ -76,7 +76,7 @@ describe('settings', () => {
 
 describe('rate limits', () => {
   it('limits sign-in attempts with a 429 in the error shape', async () => {
-    const limited = await startTestServer({ rateLimits: { signIn: { windowMs: 60_000, limit: 3 }, passwordReset: { windowMs: 60_000, limit: 2 }, signUp: { windowMs: 60_000, limit: 100 } } })
+    const limited = await startTestServer({ rateLimits: { ...t.config.rateLimits, signIn: { windowMs: 60_000, limit: 3 }, passwordReset: { windowMs: 60_000, limit: 2 }, signUp: { windowMs: 60_000, limit: 100 } } })
     try {
       for (let i = 0; i < 3; i++) await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(401)
       const res = await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(429)

@@ -5,10 +5,10 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { DEMO_ACCOUNTS, DEMO_PASSWORD, DEMO_PROJECT } from '../../server/demo/accounts'
+import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD, DEMO_PROJECT } from '../../server/demo/accounts'
 import { writeBinaryPly } from '../../server/points/writers/plyWriter'
 import { launchBrowser, shot, watchConsole } from '../utils/browser'
-import { startTestServer, type TestServer } from '../utils/server'
+import { startTestServer, tokenOf, type TestServer } from '../utils/server'
 
 let t: TestServer
 let browser: Browser
@@ -91,7 +91,14 @@ it('uploads one file of each format from the page and shows each one ready with 
 })
 
 it('hides upload controls from a guest', async () => {
-  const { page } = await openDemoAs('guest')
+  // The demo's guest has no account: the viewing pass e-mailed at seeding, opened in the browser.
+  const link = (await t.waitForMail(DEMO_GUEST.email)).links.find((l) => l.includes('/passes/open#token='))!
+  expect(tokenOf(link)).toBeTruthy()
+  const context = await browser.newContext({ viewport: { width: 1440, height: 900 } })
+  const page = await context.newPage()
+  await page.goto(link)
+  await page.waitForURL(/\/projects\/[0-9a-f-]{36}$/)
+  await page.getByTestId('guest-badge').waitFor()
   await expect.poll(() => page.getByTestId('scan-row').count()).toBeGreaterThan(0)
   expect(await page.getByTestId('scan-upload-input').count()).toBe(0)
   expect(await page.getByTestId('scan-delete').count()).toBe(0)

@@ -19,8 +19,11 @@ export interface TestServer {
   stop(): Promise<void>
 }
 
-/** The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. */
-export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}): Promise<TestServer> {
+/**
+ * The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. `log`: a logger
+ * of the test's own (to read what the server logs); silent otherwise.
+ */
+export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}, log: pino.Logger = pino({ level: 'silent' })): Promise<TestServer> {
   const database = await createTestDatabase()
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
   const config = {
@@ -39,7 +42,7 @@ export async function startTestServer(overrides: Partial<Config> = {}, env: Node
     }),
     ...overrides,
   }
-  const server = await SpanmarkServer.start(config, pino({ level: 'silent' }))
+  const server = await SpanmarkServer.start(config, log)
   const url = server.url
   return {
     server,
@@ -74,4 +77,28 @@ export async function signUpAgent(t: TestServer, name = 'Test Person') {
   const res = await agent.post('/api/auth/sign-up').send({ email, password, name })
   if (res.status !== 201) throw new Error(`sign-up failed: ${res.status} ${JSON.stringify(res.body)}`)
   return { agent, email, password, user: res.body.user as { id: string; email: string; name: string } }
+}
+
+/** The one-time token of an e-mailed link: it rides in the URL fragment (`#token=...`). */
+export function tokenOf(link: string): string {
+  const token = new URLSearchParams(new URL(link).hash.slice(1)).get('token')
+  if (!token) throw new Error(`no #token= in ${link}`)
+  return token
+}
+
+/**
+ * Sends a viewing pass from `owner` to `email` and opens it as a guest's browser would (the token from
+ * the e-mail swapped for the guest session cookie). Returns the guest's agent and the pass.
+ */
+export async function guestAgent(t: TestServer, owner: ReturnType<TestServer['agent']>, projectId: string, email = `guest${++counter}-${process.pid}@spanmark.example`) {
+  const since = new Date()
+  const created = await owner.post(`/api/projects/${projectId}/passes`).send({ email, name: 'Gale Guest' })
+  if (created.status !== 201) throw new Error(`pass not issued: ${created.status} ${JSON.stringify(created.body)}`)
+  const mail = await t.waitForMail(email, since)
+  const link = mail.links.find((l) => l.includes('/passes/open#token='))
+  if (!link) throw new Error(`no pass link in: ${mail.text}`)
+  const agent = t.agent()
+  const opened = await agent.post('/api/passes/open').send({ token: tokenOf(link) })
+  if (opened.status !== 200) throw new Error(`pass not opened: ${opened.status} ${JSON.stringify(opened.body)}`)
+  return { agent, pass: created.body.pass as { id: string; projectId: string }, token: tokenOf(link), cookie: String(opened.headers['set-cookie']![0]).split(';')[0]! }
 }
