@@ -151,20 +151,14 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
         void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
       }
     })
+    // Only this page's own edits wait for their record entry: the server answers each with one. Another
+    // person's edit reaches here on the work document and its record entry on the record document, in either
+    // order, so the record alone speaks for those (the server writes "pending" as soon as it has the edit).
     wDoc.getMap(WORK_MAPS.markers).observe((event) => {
-      if (ready.value) for (const key of event.keysChanged) awaiting.add(key)
+      if (ready.value && event.transaction.local) for (const key of event.keysChanged) awaiting.add(key)
       mirrorSoon(id)
     })
-    wDoc.getMap(WORK_MAPS.instances).observe((event) => {
-      // Markers on a moved placement are checked again by the server.
-      if (ready.value) {
-        wDoc.getMap<unknown>(WORK_MAPS.markers).forEach((value, markerId) => {
-          const entry = LiveMarker.safeParse(value)
-          if (entry.success && entry.data.anchors.some((a) => event.keysChanged.has(a.instanceId))) awaiting.add(markerId)
-        })
-      }
-      mirrorSoon(id)
-    })
+    wDoc.getMap(WORK_MAPS.instances).observe(() => mirrorSoon(id))
     rDoc.getMap(RECORD_MAPS.markers).observe((event) => {
       for (const key of event.keysChanged) awaiting.delete(key)
       mirrorSoon(id)

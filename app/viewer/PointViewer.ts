@@ -294,7 +294,7 @@ export class PointViewer {
   }
 
   /** Other people's pointers (scene frame), each a ring in their colour; an empty list clears them. */
-  setPeopleCursors(cursors: readonly { id: number; colour: string; point: Vec3 }[]): void {
+  setPeopleCursors(cursors: readonly { id: number; colour: string; name: string; point: Vec3 }[]): void {
     const keep = new Set(cursors.map((c) => c.id))
     for (const [id, mark] of this.peopleCursors) {
       if (keep.has(id)) continue
@@ -311,6 +311,7 @@ export class PointViewer {
       }
       mark.place(this.origin ? this.sceneToRender(c.point) : null)
     }
+    this.markerLayer.setPeopleNames(cursors.map((c) => ({ id: c.id, name: c.name, colour: c.colour, at: this.origin ? this.sceneToRender(c.point) : null })))
     this.needsRender = true
   }
 

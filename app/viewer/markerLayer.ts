@@ -187,6 +187,8 @@ export class MarkerLayer {
   private ready = false
   private lineMaterials = new Set<LineMaterial>()
   private resolution = new THREE.Vector2(1, 1)
+  /** Other people's names beside their pointers, by awareness client id. */
+  private people = new Map<number, CSS2DObject>()
   /** A label that changes size (its font arrives, its text changes) needs the overlaps worked out again. */
   private labelSizes: ResizeObserver
 
@@ -239,6 +241,37 @@ export class MarkerLayer {
 
   get selected(): string | null {
     return this.selectedId
+  }
+
+  /**
+   * Names of the other people here now, beside their pointers (render frame, or null while a pointer is off
+   * the points), on their "here now" colour. They never take clicks and are not moved by the decluttering.
+   */
+  setPeopleNames(people: readonly { id: number; name: string; colour: string; at: THREE.Vector3 | null }[]): void {
+    const keep = new Set(people.map((p) => p.id))
+    for (const [id, label] of this.people) {
+      if (keep.has(id)) continue
+      this.labels.remove(label)
+      label.element.remove()
+      this.people.delete(id)
+    }
+    for (const p of people) {
+      let label = this.people.get(p.id)
+      if (!label) {
+        const el = document.createElement('span')
+        el.className = 'sm-person-label'
+        el.dataset.testid = 'person-label'
+        label = new CSS2DObject(el)
+        // Just right of the ring, vertically centred on it.
+        label.center.set(-0.2, 0.5)
+        this.labels.add(label)
+        this.people.set(p.id, label)
+      }
+      label.element.textContent = p.name
+      label.element.style.background = p.colour
+      label.visible = p.at !== null
+      if (p.at) label.position.copy(p.at)
+    }
   }
 
   /** CSS pixels of the viewport. */

@@ -59,6 +59,15 @@ function checker(s: Services): MarkerChecker {
   return s.markerChecks
 }
 
+/**
+ * Markers set back to pending (a section they go through changed, their placement moved): checked again in
+ * the background, and their record entries say "pending" at once, so every open page shows them checking.
+ */
+async function recheck(s: Services, sceneId: string, markers: { id: string; revision: number }[]): Promise<void> {
+  checker(s).schedule(markers)
+  for (const m of markers) await s.live.checkStored(sceneId, m.id)
+}
+
 async function present(s: Services, markerId: string): Promise<Marker> {
   const row = await repo.findMarker(s.db, markerId)
   if (!row) throw HttpError.notFound('No such marker.')
@@ -110,7 +119,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
   await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, options.action ?? 'edited', userId)
   if (geometry) {
     await checker(s).checkNow(markerId)
-    if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+    if (row.kind === 'section') await recheck(s, row.scene_id, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
   }
   await s.live.markerChanged(row.scene_id, markerId)
   return present(s, markerId)
@@ -145,7 +154,7 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
     const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(parsed.data.params)
     const updated = await repo.updateMarker(s.db, markerId, { label: entry.label, anchors: geometry ? entry.anchors : undefined, params: geometry ? parsed.data.params : undefined, userId })
     revision = updated?.revision ?? row.revision
-    if (geometry && row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]))
+    if (geometry && row.kind === 'section') await recheck(s, sceneId, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]))
   } else {
     revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
   }
@@ -164,13 +173,13 @@ export async function removeMarker(s: Services, markerId: string, options: { fro
   await revisions.insertRevision(s.db, row, 'deleted', options.userId ?? null)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
-  if (row.kind === 'section') checker(s).schedule(await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+  if (row.kind === 'section') await recheck(s, row.scene_id, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
   if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 
 /** A placement moved, was hidden or removed: its markers go back to pending and are checked again. */
 export async function placementChanged(s: Services, sceneId: string, instanceId: string): Promise<void> {
-  checker(s).schedule(await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId))
+  await recheck(s, sceneId, await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId))
 }
 
 /** The project's tolerance or margin changed: every marker is checked again. */

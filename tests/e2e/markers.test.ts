@@ -136,6 +136,8 @@ it('shows a marker one person places to another within a second, with who is her
   type LiveHook = { __spanmark: { live: { people(): { self: boolean; cursor: number[] | null }[]; cursorsDrawn(): number } } }
   await mentor.page.waitForFunction(() => (window as unknown as LiveHook).__spanmark.live.people().some((p) => !p.self && p.cursor !== null), null, { timeout: 5_000 })
   await mentor.page.waitForFunction(() => (window as unknown as LiveHook).__spanmark.live.cursorsDrawn() >= 1, null, { timeout: 5_000 })
+  // With the measurer's name beside it.
+  await expect.poll(() => mentor.page.getByTestId('person-label').first().innerText(), { timeout: 5_000 }).toBe('Tomas Reyne')
   const before = await mentor.page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
   await measurer.page.keyboard.press('d')
   const pick = (p: [number, number, number]) => measurer.page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.markers.pick(x, y, z), p)
