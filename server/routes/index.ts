@@ -1,5 +1,6 @@
 import { authRoutes } from './auth'
 import { checkpointRoutes } from './checkpoints'
+import { commentRoutes } from './comments'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
@@ -8,4 +9,4 @@ import { sceneRoutes } from './scenes'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes]

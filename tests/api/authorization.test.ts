@@ -30,6 +30,8 @@ interface Fixture {
   instanceId: string
   markerId: string
   checkpointId: string
+  /** A comment thread's first comment on the marker. */
+  commentId: string
 }
 
 /**
@@ -55,11 +57,12 @@ async function freshProject(): Promise<Fixture> {
     .send({ kind: 'distance', anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 1, y: 0, z: 0 }] })
     .expect(201)
   // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
+  const comment = await people.owner.agent.post(`/api/markers/${marker.body.marker.id}/comments`).send({ body: 'A thread to resolve.' }).expect(201)
   const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id }
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id, commentId: comment.body.comment.id }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006' }
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006', commentId: '00000000-0000-4000-8000-000000000007' }
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -79,6 +82,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.markerId
       case 'checkpointId':
         return f.checkpointId
+      case 'commentId':
+        return f.commentId
       case 'nodeKey':
         return 'r'
       case 'userId':
