@@ -66,6 +66,11 @@ export interface Config {
   ingestStaleMs: number
   /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
   liveSettleMs: number
+  /**
+   * E-mail to a marker's author about others' comments: one message per person gathers what arrived within
+   * `gapMs` of the first waiting comment (5 min; short in tests); the job looks every `sweepMs`.
+   */
+  commentMail: { gapMs: number; sweepMs: number }
 }
 
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */
@@ -127,5 +132,6 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     worker: e.WORKER,
     ingestStaleMs: test ? 3000 : 30_000,
     liveSettleMs: test ? 300 : 2000,
+    commentMail: test ? { gapMs: 1500, sweepMs: 200 } : { gapMs: 5 * 60_000, sweepMs: 15_000 },
   }
 }

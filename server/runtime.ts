@@ -14,6 +14,7 @@ import { startFakeS3, type FakeS3 } from './fakes/s3'
 import { startFakeSmtp, type FakeSmtp } from './fakes/smtp'
 import { sendIngest, startBoss } from './jobs/queue'
 import { WorkerSupervisor } from './jobs/supervisor'
+import { CommentNoticeSender } from './mail/commentNotices'
 import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
 import { MarkerChecker } from './markers/checker'
@@ -51,6 +52,8 @@ export class SpanmarkServer {
     readonly workerConfig: Config,
     /** The live documents' WebSocket endpoint. */
     readonly collab: CollabServer,
+    /** Mails markers' authors what others commented (server/mail/commentNotices.ts). */
+    readonly commentNotices: CommentNoticeSender,
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
@@ -115,7 +118,9 @@ export class SpanmarkServer {
       origin ||= url
       if (seeded) await seedDemoGuest(services)
       services.mailer.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab)
+      const commentNotices = new CommentNoticeSender(db, services.mailer, { ...config.commentMail, origin: () => services.publicOrigin() }, log)
+      commentNotices.start()
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab, commentNotices)
       app.startSweeper()
       const resumed = await services.markerChecks.resumePending()
       if (resumed) log.info({ markers: resumed }, 'checking markers left pending')
@@ -153,6 +158,7 @@ export class SpanmarkServer {
     await this.worker?.stop()
     this.services.markerChecks.stop()
     await this.services.markerChecks.idle()
+    await this.commentNotices.stop()
     await this.services.mailer.stop()
     await this.services.boss.stop({ graceful: false, wait: true }).catch(() => {})
     this.services.objects.destroy()

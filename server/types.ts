@@ -71,6 +71,7 @@ export interface LiveSync {
   markerRemoved(sceneId: string, markerId: string): Promise<void>
   instanceChanged(sceneId: string, instanceId: string): Promise<void>
   instanceRemoved(sceneId: string, instanceId: string): Promise<void>
+  /** Writes the marker's record-document entry (its check, review and comments summary) from PostgreSQL. */
   checkStored(sceneId: string, markerId: string): Promise<void>
   /** A viewing pass was revoked or its guest left: its open sockets close at once (CLOSE_CODES.forbidden). */
   passEnded(passId: string): void

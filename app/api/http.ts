@@ -24,7 +24,7 @@ export function isApiError(value: unknown): value is ApiError {
   return value instanceof ApiError
 }
 
-type Method = 'GET' | 'POST' | 'PATCH' | 'DELETE'
+type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE'
 
 interface RequestOptions {
   body?: unknown
@@ -107,6 +107,7 @@ export async function sendNoContent(method: Method, path: string, options?: Requ
 export const http = {
   get: <S extends z.ZodType>(path: string, schema: S, options?: Omit<RequestOptions, 'body'>) => send('GET', path, schema, options),
   post: <S extends z.ZodType>(path: string, body: unknown, schema: S) => send('POST', path, schema, { body }),
+  put: <S extends z.ZodType>(path: string, body: unknown, schema: S) => send('PUT', path, schema, { body }),
   patch: <S extends z.ZodType>(path: string, body: unknown, schema: S) => send('PATCH', path, schema, { body }),
   postNoContent: (path: string, body?: unknown) => sendNoContent('POST', path, { body }),
   deleteNoContent: (path: string) => sendNoContent('DELETE', path),

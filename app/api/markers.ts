@@ -1,4 +1,4 @@
-import { MarkerHistory, MarkerList, MarkerResponse, SceneState, type Marker, type MarkerCreateBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
+import { MarkerHistory, MarkerList, MarkerResponse, SceneState, type Marker, type MarkerCreateBody, type MarkerReviewBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
 import { apiPath, http } from './http'
 
 /** The scene's markers with their checks (anchors in the scene frame). */
@@ -36,4 +36,9 @@ export async function restoreMarker(markerId: string, revisionId: string): Promi
 /** The scene's markers as they were at a time: each one's last revision by then. */
 export async function sceneStateAt(sceneId: string, at: string, signal?: AbortSignal): Promise<MarkerRevision[]> {
   return (await http.get(`${apiPath`/api/scenes/${sceneId}/state`}?at=${encodeURIComponent(at)}`, SceneState, { signal })).revisions
+}
+
+/** Sets the marker's review (mentors and owners, never on their own marker); answers with the marker. */
+export async function reviewMarker(markerId: string, body: MarkerReviewBody): Promise<Marker> {
+  return (await http.put(apiPath`/api/markers/${markerId}/review`, body, MarkerResponse)).marker
 }

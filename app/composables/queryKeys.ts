@@ -13,6 +13,8 @@ export const queryKeys = {
   markers: (sceneId: string) => ['scenes', sceneId, 'markers'] as const,
   /** One marker's settled edits. */
   markerHistory: (markerId: string) => ['markers', markerId, 'history'] as const,
+  /** One marker's comment threads. */
+  markerComments: (markerId: string) => ['markers', markerId, 'comments'] as const,
   /** The scene's markers as they were at a time. */
   sceneState: (sceneId: string, at: string) => ['scenes', sceneId, 'state', at] as const,
   checkpoints: (sceneId: string) => ['scenes', sceneId, 'checkpoints'] as const,

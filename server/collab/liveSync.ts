@@ -3,7 +3,7 @@ import { findMarker, listMarkers, type MarkerWithPeopleRow } from '../repositori
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import * as markers from '../services/markers'
 import { editInstanceMatrixFromLive } from '../services/scenes'
-import { parseStoredCheck } from '../services/mappers'
+import { commentSummaryOf, parseStoredCheck, reviewOf } from '../services/mappers'
 import type { LiveSync, Services } from '../types'
 import type { Connection, Room } from './room'
 
@@ -30,6 +30,8 @@ function recordOf(row: MarkerWithPeopleRow): LiveRecord {
     lastEditor: row.updated_by && row.updated_by_name ? { id: row.updated_by, name: row.updated_by_name } : null,
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
+    review: reviewOf(row),
+    comments: commentSummaryOf(row),
   }
 }
 
@@ -111,6 +113,7 @@ export class LiveDocumentsSync implements LiveSync {
     ;(await this.room(sceneId, 'work')).transact((doc) => doc.getMap(WORK_MAPS.instances).delete(instanceId))
   }
 
+  /** Writes the marker's record entry as PostgreSQL holds it: a stored check, a review, a comment. */
   async checkStored(sceneId: string, markerId: string): Promise<void> {
     const row = await findMarker(this.services.db, markerId)
     if (!row) return

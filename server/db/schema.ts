@@ -204,6 +204,10 @@ export interface MarkersTable {
   updated_by: string | null
   created_at: Timestamp
   updated_at: Timestamp
+  review_state: Generated<'open' | 'changes-asked' | 'signed-off'>
+  review_by: string | null
+  review_at: Date | null
+  review_note: string | null
 }
 
 export interface SceneUpdatesTable {
@@ -229,10 +233,36 @@ export interface MarkerRevisionsTable {
   marker_id: string
   scene_id: string
   revision: number
-  action: 'created' | 'edited' | 'deleted' | 'restored'
+  action: 'created' | 'edited' | 'deleted' | 'restored' | 'reviewed' | 'reopened'
   state: Json<{ kind: string; label: string; anchors: unknown[]; params: Record<string, unknown> }>
   user_id: string | null
   created_at: Timestamp
+  /** Review revisions: the state set ('reviewed') or returned to ('reopened': open). */
+  review_state: 'open' | 'changes-asked' | 'signed-off' | null
+  /** The reviewer's note, or why the server returned a signed-off marker to open. */
+  note: string | null
+}
+
+export interface CommentsTable {
+  id: Generated<string>
+  marker_id: string
+  scene_id: string
+  /** Null for a thread's first comment. */
+  thread_id: string | null
+  author_id: string | null
+  body: string
+  created_at: Timestamp
+  /** First comments only: the thread's resolution. */
+  resolved_at: Date | null
+  resolved_by: string | null
+}
+
+export interface CommentNoticesTable {
+  id: Generated<string>
+  comment_id: string
+  recipient_id: string
+  created_at: Timestamp
+  mailed_at: Date | null
 }
 
 export interface SceneCheckpointsTable {
@@ -248,6 +278,8 @@ export interface SceneCheckpointsTable {
 
 export interface Database {
   markers: MarkersTable
+  comments: CommentsTable
+  comment_notices: CommentNoticesTable
   scene_checkpoints: SceneCheckpointsTable
   marker_revisions: MarkerRevisionsTable
   scene_updates: SceneUpdatesTable

@@ -61,3 +61,61 @@ export function passMail(to: string, v: { name: string; sender: string; projectN
     html: html(lines, { href: v.link, label: 'Open the viewing pass' }),
   }
 }
+
+/** One comment in a digest to a marker's author. */
+export interface CommentDigestItem {
+  authorName: string | null
+  body: string
+  at: Date
+  reply: boolean
+  marker: { id: string; label: string }
+  scene: { id: string; name: string }
+  project: { id: string; name: string }
+}
+
+/** "2 Dec 2026, 10:04 UTC": the mail cannot know the reader's time zone. */
+function mailTime(d: Date): string {
+  const month = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', 'Oct', 'Nov', 'Dec'][d.getUTCMonth()]
+  return `${d.getUTCDate()} ${month} ${d.getUTCFullYear()}, ${String(d.getUTCHours()).padStart(2, '0')}:${String(d.getUTCMinutes()).padStart(2, '0')} UTC`
+}
+
+/**
+ * Everything others wrote on a person's markers since the last message: grouped by marker, each with who,
+ * when, the text, and a link that opens the scene with that marker selected.
+ */
+export function commentDigestMail(to: string, name: string, items: readonly CommentDigestItem[], origin: string): OutgoingMail {
+  const groups = new Map<string, { item: CommentDigestItem; comments: CommentDigestItem[] }>()
+  for (const item of items) {
+    const group = groups.get(item.marker.id) ?? { item, comments: [] }
+    group.comments.push(item)
+    groups.set(item.marker.id, group)
+  }
+  const link = (i: CommentDigestItem) => `${origin}/projects/${i.project.id}/scenes/${i.scene.id}?marker=${i.marker.id}`
+  const n = items.length
+  const people = [...new Set(items.map((i) => i.authorName ?? 'a former member'))]
+  const first = items[0]!
+  const subject =
+    groups.size === 1
+      ? `${people.join(' and ')} commented on “${first.marker.label}”`
+      : `${n} new comments on ${groups.size} of your markers`
+  const intro = `Hello ${name},\n\n${n === 1 ? 'a comment arrived' : `${n} comments arrived`} on ${groups.size === 1 ? 'a marker' : 'markers'} you placed:`
+  const blocks = [...groups.values()].map(({ item, comments }) => {
+    const lines = comments.map((c) => `  ${c.authorName ?? 'A former member'}${c.reply ? ' replied' : ''}, ${mailTime(c.at)}:\n${c.body.split('\n').map((l) => `    ${l}`).join('\n')}`)
+    return `“${item.marker.label}” in the scene “${item.scene.name}” (${item.project.name})\n${lines.join('\n\n')}\n  Open it: ${link(item)}`
+  })
+  const text = `${intro}\n\n${blocks.join('\n\n')}\n\nReply in the marker's card. You get at most one such message every few minutes; comments that arrive meanwhile wait for the next.\n\nSpanmark`
+  const htmlBlocks = [...groups.values()]
+    .map(({ item, comments }) => {
+      const list = comments
+        .map(
+          (c) =>
+            `<p style="margin:8px 0 0"><strong>${escape(c.authorName ?? 'A former member')}</strong>${c.reply ? ' replied' : ''} <span style="color:#6F675E">${escape(mailTime(c.at))}</span></p>` +
+            `<p style="margin:2px 0 0;white-space:pre-wrap">${escape(c.body)}</p>`,
+        )
+        .join('')
+      return `<div style="margin:16px 0;padding:10px 14px;border-left:3px solid #C98A12;background:#F7F3EC"><p style="margin:0"><strong>“${escape(item.marker.label)}”</strong> in the scene “${escape(item.scene.name)}” <span style="color:#6F675E">(${escape(item.project.name)})</span></p>${list}<p style="margin:10px 0 0"><a href="${escape(link(item))}" style="color:#8F5E0A">Open the marker</a></p></div>`
+    })
+    .join('')
+  const html = `<div style="font-family:'Work Sans',Arial,sans-serif;font-size:14px;color:#2A2622"><p>${escape(`Hello ${name},`)}</p><p>${escape(intro.split('\n\n')[1]!)}</p>${htmlBlocks}<p style="color:#6F675E">Reply in the marker's card. You get at most one such message every few minutes; comments that arrive meanwhile wait for the next.</p><p style="color:#6F675E">Spanmark</p></div>`
+  return { to, subject, text, html }
+}

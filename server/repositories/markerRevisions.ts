@@ -1,9 +1,21 @@
 import type { Conn } from '../db'
 import type { MarkerWithPeopleRow } from './markers'
 
-export type RevisionAction = 'created' | 'edited' | 'deleted' | 'restored'
+export type RevisionAction = 'created' | 'edited' | 'deleted' | 'restored' | 'reviewed' | 'reopened'
 
-export function insertRevision(db: Conn, row: Pick<MarkerWithPeopleRow, 'id' | 'scene_id' | 'revision' | 'kind' | 'label' | 'anchors' | 'params'>, action: RevisionAction, userId: string | null) {
+/** Review revisions carry the state set (or returned to) and the note. */
+export interface RevisionReview {
+  reviewState: 'open' | 'changes-asked' | 'signed-off'
+  note: string | null
+}
+
+export function insertRevision(
+  db: Conn,
+  row: Pick<MarkerWithPeopleRow, 'id' | 'scene_id' | 'revision' | 'kind' | 'label' | 'anchors' | 'params'>,
+  action: RevisionAction,
+  userId: string | null,
+  review: RevisionReview | null = null,
+) {
   return db
     .insertInto('marker_revisions')
     .values({
@@ -13,6 +25,8 @@ export function insertRevision(db: Conn, row: Pick<MarkerWithPeopleRow, 'id' | '
       action,
       state: JSON.stringify({ kind: row.kind, label: row.label, anchors: row.anchors, params: row.params }),
       user_id: userId,
+      review_state: review?.reviewState ?? null,
+      note: review?.note ?? null,
     })
     .returning('id')
     .executeTakeFirstOrThrow()

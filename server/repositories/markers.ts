@@ -10,13 +10,27 @@ export interface StoredAnchor {
   z: number
 }
 
+/** A marker with the names of its author, last editor and reviewer, and a count of its comment threads. */
 const markerRows = (db: Conn) =>
   db
     .selectFrom('markers as m')
     .leftJoin('users as c', 'c.id', 'm.created_by')
     .leftJoin('users as u', 'u.id', 'm.updated_by')
+    .leftJoin('users as r', 'r.id', 'm.review_by')
     .selectAll('m')
-    .select(['c.name as created_by_name', 'u.name as updated_by_name'])
+    .select(['c.name as created_by_name', 'u.name as updated_by_name', 'r.name as review_by_name'])
+    .select((eb) => [
+      eb.selectFrom('comments as k').whereRef('k.marker_id', '=', 'm.id').where('k.thread_id', 'is', null).select((e) => e.fn.countAll<string>().as('n')).as('comment_threads'),
+      eb
+        .selectFrom('comments as k')
+        .whereRef('k.marker_id', '=', 'm.id')
+        .where('k.thread_id', 'is', null)
+        .where('k.resolved_at', 'is', null)
+        .select((e) => e.fn.countAll<string>().as('n'))
+        .as('comment_open'),
+      eb.selectFrom('comments as k').whereRef('k.marker_id', '=', 'm.id').select((e) => e.fn.countAll<string>().as('n')).as('comment_count'),
+      eb.selectFrom('comments as k').whereRef('k.marker_id', '=', 'm.id').select((e) => e.fn.max('k.created_at').as('t')).as('comment_last_at'),
+    ])
 
 export type MarkerWithPeopleRow = NonNullable<Awaited<ReturnType<typeof findMarker>>>
 
@@ -26,6 +40,11 @@ export function listMarkers(db: Conn, sceneId: string) {
 
 export function findMarker(db: Conn, markerId: string) {
   return markerRows(db).where('m.id', '=', markerId).executeTakeFirst()
+}
+
+/** The scene and project of a marker (for links in e-mails and access). */
+export function placeOfMarker(db: Conn, markerId: string) {
+  return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select(['m.id', 'm.scene_id', 's.project_id', 's.name as scene_name']).where('m.id', '=', markerId).executeTakeFirst()
 }
 
 export function projectOfMarker(db: Conn, markerId: string) {
@@ -145,4 +164,31 @@ export function invalidateMarkersOfProject(db: Conn, projectId: string) {
 
 export function pendingMarkers(db: Conn) {
   return db.selectFrom('markers').select(['id', 'revision']).where('check_state', '=', 'pending').execute()
+}
+
+export type ReviewState = 'open' | 'changes-asked' | 'signed-off'
+
+/**
+ * Sets a marker's review. A sign-off is stored only while the marker's check is not pending (a conditional
+ * update, so a check started meanwhile cannot slip under it); returns the updated row's id, or nothing.
+ */
+export function setReview(db: Conn, markerId: string, v: { state: ReviewState; userId: string | null; note: string | null }) {
+  let q = db
+    .updateTable('markers')
+    .set({ review_state: v.state, review_by: v.userId, review_at: new Date(), review_note: v.note })
+    .where('id', '=', markerId)
+  if (v.state === 'signed-off') q = q.where('check_state', '<>', 'pending')
+  return q.returning(['id']).executeTakeFirst()
+}
+
+/** Signed-off markers among these go back to open, with the reason as the note; returns those that did. */
+export async function reopenSignedOff(db: Conn, markerIds: readonly string[], note: string, userId: string | null): Promise<{ id: string }[]> {
+  if (markerIds.length === 0) return []
+  return db
+    .updateTable('markers')
+    .set({ review_state: 'open', review_by: userId, review_at: new Date(), review_note: note })
+    .where('id', 'in', [...markerIds])
+    .where('review_state', '=', 'signed-off')
+    .returning(['id'])
+    .execute()
 }

@@ -2,6 +2,7 @@ import { authRoutes } from './auth'
 import { checkpointRoutes } from './checkpoints'
 import { inviteRoutes } from './invites'
 import { passRoutes } from './passes'
+import { commentRoutes } from './comments'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
 import type { RouteDef } from './registry'
@@ -11,4 +12,4 @@ import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes, ...inviteRoutes, ...passRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...inviteRoutes, ...passRoutes]

@@ -1,4 +1,4 @@
-import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerUpdateBody, SceneParams, SceneStateQuery } from '@shared/schemas'
+import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerReviewBody, MarkerUpdateBody, SceneParams, SceneStateQuery } from '@shared/schemas'
 import * as markers from '../services/markers'
 import { defineRoute, type RouteDef } from './registry'
 
@@ -64,5 +64,14 @@ export const markerRoutes: RouteDef[] = [
     params: MarkerParams,
     body: MarkerRestoreBody,
     handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.restoreMarker(services, params.markerId, body.revisionId, user?.id ?? null) } }),
+  }),
+  defineRoute({
+    method: 'put',
+    path: '/markers/:markerId/review',
+    // Mentors and owners; never on their own marker (the service answers 403).
+    access: { kind: 'project', right: 'review' },
+    params: MarkerParams,
+    body: MarkerReviewBody,
+    handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.reviewMarker(services, params.markerId, body, user?.id ?? null) } }),
   }),
 ]

@@ -56,15 +56,15 @@ export const sceneRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'editScans' },
     params: InstanceParams,
     body: InstanceUpdateBody,
-    handler: async ({ services, params, body }) => ({ body: { instance: await scenes.editInstance(services, params.instanceId, body) } }),
+    handler: async ({ services, params, body, user }) => ({ body: { instance: await scenes.editInstance(services, params.instanceId, body, user?.id ?? null) } }),
   }),
   defineRoute({
     method: 'delete',
     path: '/instances/:instanceId',
     access: { kind: 'project', right: 'editScans' },
     params: InstanceParams,
-    handler: async ({ services, params }) => {
-      await scenes.removeInstance(services, params.instanceId)
+    handler: async ({ services, params, user }) => {
+      await scenes.removeInstance(services, params.instanceId, user?.id ?? null)
     },
   }),
 ]

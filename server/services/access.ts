@@ -6,6 +6,7 @@ import { findMembership } from '../repositories/memberships'
 import { projectOfScan } from '../repositories/scans'
 import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfCheckpoint } from '../repositories/checkpoints'
+import { projectOfComment } from '../repositories/comments'
 import { projectOfMarker } from '../repositories/markers'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
@@ -28,6 +29,7 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   checkpointId: async (db, id) => (await projectOfCheckpoint(db, id))?.project_id ?? null,
   inviteId: async (db, id) => (await projectOfInvite(db, id))?.project_id ?? null,
   passId: async (db, id) => (await projectOfPass(db, id))?.project_id ?? null,
+  commentId: async (db, id) => (await projectOfComment(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

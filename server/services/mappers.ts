@@ -1,4 +1,4 @@
-import type { GuestSession, Instance, Invite, Marker, Member, Pass, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
+import type { CommentSummary, GuestSession, Instance, Invite, Marker, MarkerReview, Member, Pass, Project, Scan, SceneSummary, UploadToken, User } from '@shared/schemas'
 import type { InviteWithPeopleRow } from '../repositories/invites'
 import type { PassWithPeopleRow } from '../repositories/passes'
 import type { AuthUser } from '../types'
@@ -126,6 +126,27 @@ export function toMarker(row: MarkerWithPeopleRow, placements: ReadonlyMap<strin
     updatedBy: row.updated_by && row.updated_by_name ? { id: row.updated_by, name: row.updated_by_name } : null,
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
+    review: reviewOf(row),
+    comments: commentSummaryOf(row),
+  }
+}
+
+export function reviewOf(row: MarkerWithPeopleRow): MarkerReview {
+  return {
+    state: row.review_state,
+    by: row.review_by && row.review_by_name ? { id: row.review_by, name: row.review_by_name } : null,
+    at: row.review_at?.toISOString() ?? null,
+    note: row.review_note,
+  }
+}
+
+export function commentSummaryOf(row: MarkerWithPeopleRow): CommentSummary {
+  const last = row.comment_last_at as Date | string | null
+  return {
+    threads: Number(row.comment_threads ?? 0),
+    open: Number(row.comment_open ?? 0),
+    count: Number(row.comment_count ?? 0),
+    lastAt: last === null ? null : new Date(last).toISOString(),
   }
 }
 

@@ -1,6 +1,7 @@
 import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import type { LiveMarker } from '@shared/collab/documents'
-import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
+import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerReviewBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
+import { CHECK_STATE_LOOK } from '@shared/collab/states'
 import { ErrorCode } from '@shared/schemas/common'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
@@ -49,6 +50,11 @@ function toLocal(anchors: Anchor[], placements: Placements): repo.StoredAnchor[]
     const [x, y, z] = transformPoint(invertRigid(placements.get(a.instanceId)!), a.x, a.y, a.z)
     return { instanceId: a.instanceId, x, y, z }
   })
+}
+
+/** Same anchors within a nanometre (placement frame): an edit that moved nothing. */
+function sameAnchors(a: readonly repo.StoredAnchor[], b: readonly repo.StoredAnchor[]): boolean {
+  return a.length === b.length && a.every((p, i) => p.instanceId === b[i]!.instanceId && Math.hypot(p.x - b[i]!.x, p.y - b[i]!.y, p.z - b[i]!.z) < 1e-9)
 }
 
 function defaultLabel(kind: MarkerKind, n: number): string {
@@ -109,19 +115,75 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
   }
   const geometry = body.anchors !== undefined || body.params !== undefined
   if (geometry) await validateReferences(s, row.scene_id, merged.data, placements, markerId)
-  await repo.updateMarker(s.db, markerId, {
-    label: body.label,
-    anchors: body.anchors !== undefined ? toLocal(merged.data.anchors, placements) : undefined,
-    params: body.params !== undefined ? merged.data.params : undefined,
-    userId,
-  })
+  const anchors = body.anchors !== undefined ? toLocal(merged.data.anchors, placements) : undefined
+  const params = body.params !== undefined ? merged.data.params : undefined
+  // Anchors come back through the placement's transform: a round trip may differ in the last bits.
+  const moved = (anchors !== undefined && !sameAnchors(anchors, row.anchors as repo.StoredAnchor[])) || (params !== undefined && JSON.stringify(params) !== JSON.stringify(row.params))
+  await repo.updateMarker(s.db, markerId, { label: body.label, anchors, params, userId })
   await touchScene(s.db, row.scene_id)
   await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, options.action ?? 'edited', userId)
   if (geometry) {
+    if (moved) await reopenSignedOff(s, row.scene_id, [markerId], options.action === 'restored' ? REOPEN_NOTES.restored : REOPEN_NOTES.geometry, userId, { live: false })
     await checker(s).checkNow(markerId)
-    if (row.kind === 'section') await recheck(s, row.scene_id, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+    if (row.kind === 'section') await sectionChanged(s, row.scene_id, merged.data.label ?? row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'changed')
   }
   await s.live.markerChanged(row.scene_id, markerId)
+  return present(s, markerId)
+}
+
+/** Why the server returned a signed-off marker to open (the note of its 'reopened' revision). */
+const REOPEN_NOTES = {
+  geometry: 'Its anchors or settings changed after the sign-off.',
+  restored: 'An earlier version of its anchors or settings was restored after the sign-off.',
+  placementMoved: (name: string) => `The placement “${name}” it is measured on was moved after the sign-off.`,
+  placementRemoved: (name: string) => `The placement “${name}” it is measured on was removed from the scene.`,
+  sectionChanged: (label: string) => `The section “${label}” it is measured through changed after the sign-off.`,
+  sectionDeleted: (label: string) => `The section “${label}” it was measured through was deleted.`,
+}
+
+/**
+ * DESIGN section 6: a signed-off marker whose geometry or placement changes returns to open, with a revision
+ * saying why (`userId`: whose change it was). `live: false` when the caller writes the record entry itself.
+ */
+async function reopenSignedOff(s: Services, sceneId: string, markerIds: readonly string[], note: string, userId: string | null, options: { live: boolean }): Promise<void> {
+  for (const { id } of await repo.reopenSignedOff(s.db, markerIds, note, userId)) {
+    const row = await repo.findMarker(s.db, id)
+    if (!row) continue
+    await revisions.insertRevision(s.db, row, 'reopened', userId, { reviewState: 'open', note })
+    if (options.live) await s.live.checkStored(sceneId, id)
+  }
+}
+
+/** Clearances through a section that changed or went are checked again, and signed-off ones reopened. */
+async function sectionChanged(s: Services, sceneId: string, label: string, clearances: { id: string; revision: number }[], userId: string | null, how: 'changed' | 'deleted'): Promise<void> {
+  const note = how === 'changed' ? REOPEN_NOTES.sectionChanged(label) : REOPEN_NOTES.sectionDeleted(label)
+  await reopenSignedOff(s, sceneId, clearances.map((c) => c.id), note, userId, { live: true })
+  await recheck(s, sceneId, clearances)
+}
+
+/**
+ * A mentor or owner sets the marker's review: open, changes-asked (with a note) or signed-off. Never on their
+ * own marker; a sign-off waits for the check (it vouches for the value the server computed). Each change is a
+ * revision ('reviewed') and goes into the record document.
+ */
+export async function reviewMarker(s: Services, markerId: string, body: MarkerReviewBody, userId: string | null): Promise<Marker> {
+  const row = await repo.findMarker(s.db, markerId)
+  if (!row) throw HttpError.notFound('No such marker.')
+  if (row.created_by !== null && row.created_by === userId) {
+    throw HttpError.forbidden('You placed this marker, so you cannot review it: another mentor or the project’s owner signs it off or asks for changes.')
+  }
+  const note = body.note ?? null
+  if (row.review_state === body.state && row.review_note === note) return present(s, markerId)
+  const pending = () =>
+    HttpError.conflict(
+      `“${row.label}” is still being checked (${CHECK_STATE_LOOK.pending.word}): sign it off once the server has checked it against the points, so that the sign-off covers the value it computed.`,
+      'state',
+    )
+  if (body.state === 'signed-off' && row.check_state === 'pending') throw pending()
+  // Conditional on the check not being pending at this instant (an edit may have started one meanwhile).
+  if (!(await repo.setReview(s.db, markerId, { state: body.state, userId, note }))) throw pending()
+  await revisions.insertRevision(s.db, (await repo.findMarker(s.db, markerId))!, 'reviewed', userId, { reviewState: body.state, note })
+  await s.live.checkStored(row.scene_id, markerId)
   return present(s, markerId)
 }
 
@@ -154,7 +216,9 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
     const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(parsed.data.params)
     const updated = await repo.updateMarker(s.db, markerId, { label: entry.label, anchors: geometry ? entry.anchors : undefined, params: geometry ? parsed.data.params : undefined, userId })
     revision = updated?.revision ?? row.revision
-    if (geometry && row.kind === 'section') await recheck(s, sceneId, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]))
+    // The caller writes this marker's record entry next (with its review back to open).
+    if (geometry) await reopenSignedOff(s, sceneId, [markerId], REOPEN_NOTES.geometry, userId, { live: false })
+    if (geometry && row.kind === 'section') await sectionChanged(s, sceneId, row.label, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]), userId, 'changed')
   } else {
     revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
   }
@@ -173,13 +237,19 @@ export async function removeMarker(s: Services, markerId: string, options: { fro
   await revisions.insertRevision(s.db, row, 'deleted', options.userId ?? null)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
-  if (row.kind === 'section') await recheck(s, row.scene_id, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]))
+  if (row.kind === 'section') await sectionChanged(s, row.scene_id, row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), options.userId ?? null, 'deleted')
   if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 
-/** A placement moved, was hidden or removed: its markers go back to pending and are checked again. */
-export async function placementChanged(s: Services, sceneId: string, instanceId: string): Promise<void> {
-  await recheck(s, sceneId, await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId))
+/**
+ * A placement moved or was removed: the markers that depend on it go back to pending and are checked again,
+ * and the signed-off ones among them return to open, saying which placement did what.
+ */
+export async function placementChanged(s: Services, sceneId: string, instanceId: string, change: { how: 'moved' | 'removed'; name: string; userId: string | null }): Promise<void> {
+  const invalidated = await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId)
+  const note = change.how === 'moved' ? REOPEN_NOTES.placementMoved(change.name) : REOPEN_NOTES.placementRemoved(change.name)
+  await reopenSignedOff(s, sceneId, invalidated.map((m) => m.id), note, change.userId, { live: true })
+  await recheck(s, sceneId, invalidated)
 }
 
 /** The project's tolerance or margin changed: every marker is checked again. */
@@ -236,6 +306,8 @@ function toRevisions(rows: Awaited<ReturnType<typeof revisions.listRevisions>>, 
       state: { ...state, anchors: state.anchors.map((a) => toScene(a, placements)) },
       by: r.user_id && r.user_name ? { id: r.user_id, name: r.user_name } : null,
       at: r.created_at.toISOString(),
+      reviewState: r.review_state,
+      note: r.note,
     }
   })
 }

@@ -53,34 +53,36 @@ export async function addInstance(s: Services, sceneId: string, projectId: strin
   return toInstance((await repo.findInstance(s.db, id))!)
 }
 
-export async function editInstance(s: Services, instanceId: string, body: InstanceUpdateBody): Promise<Instance> {
+export async function editInstance(s: Services, instanceId: string, body: InstanceUpdateBody, userId: string | null = null): Promise<Instance> {
+  const before = await repo.findInstance(s.db, instanceId)
   await repo.updateInstance(s.db, instanceId, body)
   const row = await repo.findInstance(s.db, instanceId)
   if (!row) throw HttpError.notFound('No such placement.')
   await repo.touchScene(s.db, row.scene_id)
   // Visibility and colour change nothing measured; a new transform moves the markers with it.
-  if (body.matrix !== undefined) await placementChanged(s, row.scene_id, instanceId)
+  const moved = body.matrix !== undefined && (!before || before.matrix.some((v, i) => Number(v) !== body.matrix![i]))
+  if (moved) await placementChanged(s, row.scene_id, instanceId, { how: 'moved', name: row.scan_name, userId })
   await s.live.instanceChanged(row.scene_id, instanceId)
   return toInstance(row)
 }
 
 /** A placement as a writer left it in the work document: a rigid matrix, visibility, colour. */
-export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, _userId: string | null): Promise<boolean> {
+export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, userId: string | null): Promise<boolean> {
   if (rigidProblem(entry.matrix) !== null || !/^#[0-9a-fA-F]{6}$/.test(entry.color)) return false
   const before = await repo.findInstance(s.db, instanceId)
   if (!before) return false
   await repo.updateInstance(s.db, instanceId, { matrix: entry.matrix, visible: entry.visible, color: entry.color })
   await repo.touchScene(s.db, before.scene_id)
-  if (before.matrix.some((v, i) => v !== entry.matrix[i])) await placementChanged(s, before.scene_id, instanceId)
+  if (before.matrix.some((v, i) => v !== entry.matrix[i])) await placementChanged(s, before.scene_id, instanceId, { how: 'moved', name: before.scan_name, userId })
   return true
 }
 
-export async function removeInstance(s: Services, instanceId: string): Promise<void> {
+export async function removeInstance(s: Services, instanceId: string, userId: string | null = null): Promise<void> {
   const row = await repo.findInstance(s.db, instanceId)
   await repo.deleteInstance(s.db, instanceId)
   if (row) {
     await repo.touchScene(s.db, row.scene_id)
-    await placementChanged(s, row.scene_id, instanceId)
+    await placementChanged(s, row.scene_id, instanceId, { how: 'removed', name: row.scan_name, userId })
     await s.live.instanceRemoved(row.scene_id, instanceId)
   }
 }

@@ -5,7 +5,7 @@
  *   {kind, label, anchors in each placement's own frame, params}) and map `instances` (placement id to
  *   {scanId, matrix, visible, colour}).
  * - The record document (`scene:<id>:record`), written only by the server: map `markers` (marker id to its
- *   check, authorship and, later, comments and review).
+ *   check, authorship, review and a summary of its comments).
  *
  * A client that may write a Yjs document may write all of it, hence two documents; the server drops every
  * update a read-only connection sends.
@@ -14,7 +14,7 @@
 import { z } from 'zod'
 import { invertRigid, transformPoint, type Matrix4 } from '../geometry/rigidTransform'
 import { Id, Timestamp } from '../schemas/common'
-import { Check, MARKER_KINDS, PersonRef, blankCheck, type Anchor, type Marker } from '../schemas/markers'
+import { Check, CommentSummary, MARKER_KINDS, MarkerReview, PersonRef, blankCheck, noComments, openReview, type Anchor, type Marker } from '../schemas/markers'
 
 export const DOCUMENT_VERSION = 1
 
@@ -72,8 +72,10 @@ export const LiveInstance = z
 export type LiveInstance = z.infer<typeof LiveInstance>
 
 /**
- * A marker's entry in the record document (server-written): the revision the server holds, its check, and
- * the people and times stamped from the connections, never from a client.
+ * A marker's entry in the record document (server-written): the revision the server holds, its check, the
+ * people and times stamped from the connections, never from a client, its review, and a summary of its
+ * comments (a client refetches the marker's threads when it moves). The defaults read entries written before
+ * reviews and comments existed.
  */
 export const LiveRecord = z.object({
   revision: z.number().int(),
@@ -82,6 +84,8 @@ export const LiveRecord = z.object({
   lastEditor: PersonRef,
   createdAt: Timestamp,
   updatedAt: Timestamp,
+  review: MarkerReview.default(openReview),
+  comments: CommentSummary.default(noComments),
 })
 export type LiveRecord = z.infer<typeof LiveRecord>
 
@@ -132,5 +136,7 @@ export function markerFromDocuments(
     updatedBy: record?.lastEditor ?? null,
     createdAt: record?.createdAt ?? now,
     updatedAt: record?.updatedAt ?? now,
+    review: record?.review ?? openReview(),
+    comments: record?.comments ?? noComments(),
   }
 }

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { CHECK_STATES, CLEARANCE_OUTCOMES } from '../collab/states'
+import { CHECK_STATES, CLEARANCE_OUTCOMES, REVIEW_STATES } from '../collab/states'
 import { Id, Timestamp } from './common'
 
 /**
@@ -232,6 +232,49 @@ export function blankCheck(state: Check['state'], basedOn: number, reason: strin
 
 export const PersonRef = z.object({ id: Id, name: z.string() }).nullable()
 
+/**
+ * A marker's review (DESIGN sections 2 and 3.5): open, changes-asked or signed-off, who set it and when, and
+ * the note (the reviewer's, or why the server returned a signed-off marker to open). Never reviewed: open,
+ * nobody, no time.
+ */
+export const MarkerReview = z.object({
+  state: z.enum(REVIEW_STATES),
+  by: PersonRef,
+  at: Timestamp.nullable(),
+  note: z.string().nullable(),
+})
+export type MarkerReview = z.infer<typeof MarkerReview>
+export const openReview = (): MarkerReview => ({ state: 'open', by: null, at: null, note: null })
+
+/** How many comment threads a marker has, how many are still open, and when the last comment came. */
+export const CommentSummary = z.object({
+  threads: z.number().int(),
+  open: z.number().int(),
+  count: z.number().int(),
+  lastAt: Timestamp.nullable(),
+})
+export type CommentSummary = z.infer<typeof CommentSummary>
+export const noComments = (): CommentSummary => ({ threads: 0, open: 0, count: 0, lastAt: null })
+
+/** Notes are short: a reason, not a report. */
+export const REVIEW_NOTE_MAX = 2000
+
+export const MarkerReviewBody = z
+  .object({
+    state: z.enum(REVIEW_STATES, { error: `must be one of ${REVIEW_STATES.join(', ')}` }),
+    note: z
+      .string({ error: 'must be text' })
+      .trim()
+      .max(REVIEW_NOTE_MAX, { error: `must be at most ${REVIEW_NOTE_MAX} characters` })
+      .transform((v) => (v === '' ? undefined : v))
+      .optional(),
+  })
+  .strict()
+  .superRefine((v, ctx) => {
+    if (v.state === 'changes-asked' && !v.note) ctx.addIssue({ code: 'custom', path: ['note'], message: 'say what should change: a note is required when asking for changes' })
+  })
+export type MarkerReviewBody = z.infer<typeof MarkerReviewBody>
+
 export const Marker = z.object({
   id: Id,
   sceneId: Id,
@@ -246,6 +289,9 @@ export const Marker = z.object({
   updatedBy: PersonRef,
   createdAt: Timestamp,
   updatedAt: Timestamp,
+  /** Defaults keep markers frozen in checkpoints before reviews existed readable. */
+  review: MarkerReview.default(openReview),
+  comments: CommentSummary.default(noComments),
 })
 export type Marker = z.infer<typeof Marker>
 
@@ -260,7 +306,9 @@ export const MarkerSettings = z.object({
 })
 export type MarkerSettings = z.infer<typeof MarkerSettings>
 
-export const REVISION_ACTIONS = ['created', 'edited', 'deleted', 'restored'] as const
+/** 'reviewed': a reviewer set the review state; 'reopened': the server returned a signed-off marker to open. */
+export const REVISION_ACTIONS = ['created', 'edited', 'deleted', 'restored', 'reviewed', 'reopened'] as const
+export type RevisionAction = (typeof REVISION_ACTIONS)[number]
 
 /** One settled edit of a marker: who, when, what, and the whole state (anchors in the scene frame). */
 export const MarkerRevision = z.object({
@@ -271,6 +319,10 @@ export const MarkerRevision = z.object({
   state: z.object({ kind: z.enum(MARKER_KINDS), label: z.string(), anchors: z.array(Anchor), params: z.record(z.string(), z.unknown()) }),
   by: PersonRef,
   at: Timestamp,
+  /** Review revisions: the state set, or returned to. */
+  reviewState: z.enum(REVIEW_STATES).nullable(),
+  /** The reviewer's note, or why the marker returned to open. */
+  note: z.string().nullable(),
 })
 export type MarkerRevision = z.infer<typeof MarkerRevision>
 export const MarkerHistory = z.object({ revisions: z.array(MarkerRevision) })

@@ -39,6 +39,8 @@ interface Fixture {
   passId: string
   /** With `withGuest`: an agent holding an opened viewing pass of this project. */
   guest: ReturnType<TestServer['agent']> | null
+  /** A comment thread's first comment on the marker. */
+  commentId: string
 }
 
 let invited = 0
@@ -68,6 +70,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .expect(201)
   const invite = await people.owner.agent.post(`/api/projects/${projectId}/invites`).send({ email: `invitee${++invited}@spanmark.example`, role: 'mentor' }).expect(201)
   // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
+  const comment = await people.owner.agent.post(`/api/markers/${marker.body.marker.id}/comments`).send({ body: 'A thread to resolve.' }).expect(201)
   const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
@@ -87,6 +90,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     instanceId,
     markerId: marker.body.marker.id,
     checkpointId: checkpoint.id,
+    commentId: comment.body.comment.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -104,6 +108,7 @@ const NOWHERE: Fixture = {
   inviteId: '00000000-0000-4000-8000-000000000006',
   passId: '00000000-0000-4000-8000-000000000007',
   checkpointId: '00000000-0000-4000-8000-000000000008',
+  commentId: '00000000-0000-4000-8000-000000000009',
   guest: null,
 }
 
@@ -129,6 +134,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.inviteId
       case 'passId':
         return f.passId
+      case 'commentId':
+        return f.commentId
       case 'nodeKey':
         return 'r'
       case 'userId':

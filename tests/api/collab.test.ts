@@ -271,7 +271,7 @@ describe('roles, forgeries and reconnecting', () => {
   ]
   async function apiMarker(id: string) {
     const res = await ownerAgent.get(`/api/markers/${id}`)
-    return res.status === 200 ? (res.body.marker as { label: string; check: { state: string; value: number | null }; createdBy: { name: string } | null }) : null
+    return res.status === 200 ? (res.body.marker as { label: string; check: { state: string; value: number | null }; createdBy: { id: string; name: string } | null; review: { state: string } }) : null
   }
 
   // DESIGN section 2's table, at the socket: owners and measurers write the work document, mentors do not.
@@ -309,24 +309,30 @@ describe('roles, forgeries and reconnecting', () => {
     // A marker of its own with the same extras.
     const forgedId = '5e0e0000-0000-4000-8000-0000000000f0'
     w.markers.set(forgedId, { kind: 'distance', label: 'forged', anchors: anchors(4), params: {}, check: forgedCheck, review: 'signed-off' })
-    // Into the record document directly: a check and a sign-off.
-    r.doc.getMap('markers').set(made.id, { ...JSON.parse(recordBefore), check: { ...forgedCheck }, review: { state: 'signed-off' } })
+    // Into the record document directly: a check and a sign-off, whole and well formed, as the server writes one.
+    const forgedReview = { state: 'signed-off', by: { id: before!.createdBy!.id, name: 'Live Mentor' }, at: new Date().toISOString(), note: 'forged' }
+    r.doc.getMap('markers').set(made.id, { ...JSON.parse(recordBefore), check: { ...forgedCheck }, review: forgedReview })
     // The work document is put back (the entry as stored; the new one gone).
     await until(() => !w.markers.has(forgedId) && !('check' in (w.markers.get(made.id) as object)))
     await new Promise((res) => setTimeout(res, 400))
     const after = await apiMarker(made.id)
     expect(after).toEqual(before)
+    expect(after!.review).toEqual({ state: 'open', by: null, at: null, note: null })
     expect(await apiMarker(forgedId)).toBeNull()
     expect((await ownerAgent.get(`/api/markers/${made.id}/history`).expect(200)).body.revisions).toEqual(historyBefore)
     expect((await ownerAgent.get(`/api/markers/${forgedId}/history`)).status).toBe(404)
     // The record as stored on the server, and as a fresh reader gets it, holds no forgery.
     const stored = await Room.load(t.server.services.db, sceneId, 'record', pino({ level: 'silent' }))
-    const entry = stored.doc.getMap('markers').get(made.id) as { check: { value: number | null }; review?: unknown }
+    const entry = stored.doc.getMap('markers').get(made.id) as { check: { value: number | null }; review?: { state: string } }
     expect(entry.check.value).not.toBe(9.999)
-    expect(entry.review).toBeUndefined()
+    expect(entry.review).toEqual({ state: 'open', by: null, at: null, note: null })
     const fresh = client(cookies.mentor!, `${sceneId}/record`)
     await synced(fresh.provider)
-    expect(JSON.stringify(fresh.doc.getMap('markers').get(made.id))).not.toMatch(/9\.999|signed-off/)
+    expect(JSON.stringify(fresh.doc.getMap('markers').get(made.id))).not.toMatch(/9\.999|signed-off|forged/)
+    // A later honest change (a rename) brings no forged sign-off back with it.
+    await ownerAgent.patch(`/api/markers/${made.id}`).send({ label: 'honest, renamed' }).expect(200)
+    expect((await apiMarker(made.id))!.review.state).toBe('open')
+    expect((await ownerAgent.get(`/api/markers/${made.id}/history`).expect(200)).body.revisions.some((x: { action: string }) => x.action === 'reviewed')).toBe(false)
   })
 
   it('merges the edits of a client that was offline for a while with what changed meanwhile', async () => {

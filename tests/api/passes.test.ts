@@ -135,6 +135,7 @@ describe('viewing passes', () => {
       inviteId: (await owner.agent.post(`/api/projects/${projectId}/invites`).send({ email: `i-${process.pid}@spanmark.example`, role: 'mentor' }).expect(201)).body.invite.id,
       passId: (await owner.agent.post(`/api/projects/${projectId}/passes`).send({ email: `p-${process.pid}@spanmark.example`, name: 'Other Guest' }).expect(201)).body.pass.id,
       checkpointId: (await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: sceneId, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()).id,
+      commentId: (await owner.agent.post(`/api/markers/${markerId}/comments`).send({ body: 'For the walk.' }).expect(201)).body.comment.id,
       userId: owner.user.id,
       nodeKey: 'r',
     }

@@ -56,6 +56,10 @@ export const ICONS = {
   /** A marker's versions: a clock face turned back. */
   history: ['M3.2 8a4.8 4.8 0 1 0 1.4-3.4', 'M2.6 2.6v2.6h2.6', 'M8 5.3V8l1.9 1.3'],
   printer: ['M4.5 6V2.5h7V6', 'M4.5 11.5h-2v-5.5h11v5.5h-2', 'M4.5 9.5h7v4h-7z'],
+  /** Comments: a speech balloon with two lines of text. */
+  comment: ['M2.5 3h11v7.5H7.2L4.3 13v-2.5H2.5z', 'M5 5.6h6M5 7.9h4'],
+  /** Review: a seal with a tick. */
+  review: ['M8 1.8l1.5 1.1 1.8-.1.6 1.7 1.5 1-.5 1.8.5 1.8-1.5 1-.6 1.7-1.8-.1L8 13l-1.5-1.1-1.8.1-.6-1.7-1.5-1 .5-1.8-.5-1.8 1.5-1 .6-1.7 1.8.1z', 'M5.7 7.5l1.5 1.5 3.1-3.1'],
   /** A checkpoint: a pennant on a staff. */
   pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
 } as const

@@ -1,12 +1,33 @@
 import { formatLength, type LengthUnit } from '@shared/format/units'
+import type { ReviewState } from '@shared/collab/states'
 import type { MarkerRevision } from '@shared/schemas'
 
-/** What the screen calls each recorded action. */
+/** What the screen calls each recorded action (a review's own words by state: actionText). */
 export const ACTION_WORDS: Record<MarkerRevision['action'], string> = {
   created: 'placed',
   edited: 'changed',
   deleted: 'deleted',
   restored: 'restored an earlier version',
+  reviewed: 'reviewed',
+  reopened: 'reopened its review with a change',
+}
+
+/** A reviewer's action in the words of BRAND.md's review states. */
+const REVIEW_WORDS: Record<ReviewState, string> = {
+  'signed-off': 'signed it off',
+  'changes-asked': 'asked for changes',
+  open: 'set its review back to open',
+}
+
+/** What a version's person did, in words: "placed", "signed it off", "asked for changes". */
+export function actionText(r: Pick<MarkerRevision, 'action' | 'reviewState'>): string {
+  if (r.action === 'reviewed' && r.reviewState) return REVIEW_WORDS[r.reviewState]
+  return ACTION_WORDS[r.action]
+}
+
+/** Review versions change no geometry: they may not be restored, and say their note instead of a change. */
+export function isReviewAction(action: MarkerRevision['action']): boolean {
+  return action === 'reviewed' || action === 'reopened'
 }
 
 /** The largest distance any anchor moved between two versions (metres), or null when their anchors differ in number. */
@@ -25,6 +46,8 @@ export function largestMove(before: MarkerRevision['state'], after: MarkerRevisi
  * tenth of a millimetre counts as not moved), and whether the settings (plane, slab, margin...) changed.
  */
 export function changeSummary(before: MarkerRevision | undefined, after: MarkerRevision, unit: LengthUnit): string {
+  if (after.action === 'reviewed') return after.note ? `“${after.note}”` : ''
+  if (after.action === 'reopened') return after.note ?? ''
   if (!before || after.action === 'created') return `as “${after.state.label}”`
   if (after.action === 'deleted') return ''
   const parts: string[] = []

@@ -3,7 +3,7 @@
  * reader's unit, table rows and filters. Values come from the API in metres, degrees or square metres
  * (check.unit); uncertainties in parts are standard (k = 1), check.expandedUncertainty is k = 2.
  */
-import { CHECK_STATE_LOOK, CHECK_STATES, CLEARANCE_LOOK, REVIEW_LOOK, type CheckState, type ClearanceOutcome, type ReviewState, type StateLook } from '@shared/collab/states'
+import { CHECK_STATE_LOOK, CHECK_STATES, CLEARANCE_LOOK, REVIEW_LOOK, REVIEW_STATES, type CheckState, type ClearanceOutcome, type ReviewState, type StateLook } from '@shared/collab/states'
 import { formatArea, formatDegrees, formatLength, formatUncertainty, formatWithUncertainty, type LengthUnit } from '@shared/format/units'
 import { MARKER_KINDS, type Instance, type Marker, type MarkerKind, type Vec3 } from '@shared/schemas'
 import type { IconName } from '@/components/base/icons'
@@ -107,6 +107,11 @@ export interface MarkerRow {
   stateOrder: number
   outcome: ClearanceOutcome | null
   author: string
+  review: ReviewState
+  /** Sort key: the review states' order in REVIEW_STATES. */
+  reviewOrder: number
+  /** Comment threads still open (0: none, or all resolved). */
+  openThreads: number
 }
 
 export function markerRow(marker: Marker, unit: LengthUnit): MarkerRow {
@@ -124,6 +129,9 @@ export function markerRow(marker: Marker, unit: LengthUnit): MarkerRow {
     stateOrder: CHECK_STATES.indexOf(c.state),
     outcome,
     author: marker.createdBy?.name ?? 'former member',
+    review: marker.review.state,
+    reviewOrder: REVIEW_STATES.indexOf(marker.review.state),
+    openThreads: marker.comments.open,
   }
 }
 
@@ -132,14 +140,24 @@ export interface MarkerFilter {
   kinds: readonly MarkerKind[]
   /** Empty: every state. */
   states: readonly CheckState[]
+  /** Empty (or left out): every review state. */
+  reviews?: readonly ReviewState[]
 }
 
+/** The markers that match every filter given (an empty list lets all through). */
 export function filterMarkers(markers: readonly Marker[], filter: MarkerFilter): Marker[] {
-  return markers.filter((m) => (filter.kinds.length === 0 || filter.kinds.includes(m.kind)) && (filter.states.length === 0 || filter.states.includes(m.check.state)))
+  const reviews = filter.reviews ?? []
+  return markers.filter(
+    (m) =>
+      (filter.kinds.length === 0 || filter.kinds.includes(m.kind)) &&
+      (filter.states.length === 0 || filter.states.includes(m.check.state)) &&
+      (reviews.length === 0 || reviews.includes(m.review.state)),
+  )
 }
 
 export const KIND_OPTIONS = MARKER_KINDS.map((k) => ({ value: k, label: KIND_WORDS[k] }))
 export const STATE_OPTIONS = CHECK_STATES.map((s) => ({ value: s, label: CHECK_STATE_LOOK[s].word }))
+export const REVIEW_OPTIONS = REVIEW_STATES.map((s) => ({ value: s, label: REVIEW_LOOK[s].word }))
 
 /** One anchor's residual against its tolerance: "1.2 mm ≤ 5.0 mm" (the word on/off the points goes beside it). */
 export function residualText(residual: number | null, tolerance: number, unit: LengthUnit): string {
