@@ -16,12 +16,14 @@ import { startFakeSmtp } from '../../server/fakes/smtp'
 import { listDevMail } from '../../server/repositories/mail'
 import { liveClient } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid } from '../utils/solids'
 
 type Person = Awaited<ReturnType<typeof signUpAgent>>
 let t: TestServer
-let owner: Person, measurer: Person, mentor: Person, guest: Person, outsider: Person
+let owner: Person, measurer: Person, mentor: Person, outsider: Person
+/** A viewing pass's holder: no account, only the pass's cookie. */
+let guest: { agent: Person['agent']; cookie: string }
 let projectId: string
 let sceneId: string
 let boxPlacement: string
@@ -40,8 +42,8 @@ async function post(body: object, who: Person = measurer): Promise<Marker> {
 const topDistance = (who: Person = measurer, label = 'top edge') => post({ kind: 'distance', label, anchors: [onTop(-0.4), onTop(0.4)] }, who)
 const getMarker = async (id: string): Promise<Marker> => (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker
 const history = async (id: string): Promise<MarkerRevision[]> => (await owner.agent.get(`/api/markers/${id}/history`).expect(200)).body.revisions
-const review = (who: Person, id: string, body: object) => who.agent.put(`/api/markers/${id}/review`).send(body)
-const comment = (who: Person, id: string, body: object) => who.agent.post(`/api/markers/${id}/comments`).send(body)
+const review = (who: { agent: Person['agent'] }, id: string, body: object) => who.agent.put(`/api/markers/${id}/review`).send(body)
+const comment = (who: { agent: Person['agent'] }, id: string, body: object) => who.agent.post(`/api/markers/${id}/comments`).send(body)
 
 async function until<T>(probe: () => Promise<T | undefined | null | false> | T | undefined | null | false, ms = 10_000, what = 'condition'): Promise<T> {
   const end = Date.now() + ms
@@ -53,12 +55,13 @@ async function until<T>(probe: () => Promise<T | undefined | null | false> | T |
   }
 }
 
-async function cookieOf(p: Person): Promise<string> {
+async function cookieOf(p: Person | { cookie: string }): Promise<string> {
+  if ('cookie' in p) return p.cookie
   const res = await supertest(t.url).post('/api/auth/sign-in').set('Origin', t.url).send({ email: p.email, password: p.password }).expect(200)
   return String(res.headers['set-cookie']![0]).split(';')[0]!
 }
 const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
-async function live(p: Person, path: string) {
+async function live(p: Person | { cookie: string }, path: string) {
   const c = liveClient(t.url, await cookieOf(p), path)
   open.push(c.provider)
   await synced(c.provider)
@@ -78,12 +81,13 @@ beforeAll(async () => {
   owner = await signUpAgent(t, 'Rhea Owner')
   measurer = await signUpAgent(t, 'Milo Measurer')
   mentor = await signUpAgent(t, 'Nadia Mentor')
-  guest = await signUpAgent(t, 'Gus Guest')
   outsider = await signUpAgent(t, 'Olga Outsider')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Review' }).expect(201)).body.project.id
-  for (const [p, role] of [[measurer, 'measurer'], [mentor, 'mentor'], [guest, 'guest']] as const) {
+  for (const [p, role] of [[measurer, 'measurer'], [mentor, 'mentor']] as const) {
     await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: p.email, role }).expect(201)
   }
+  const pass = await guestAgent(t, owner.agent, projectId)
+  guest = { agent: pass.agent, cookie: pass.cookie }
   const scanId = (await upload(owner.agent, projectId, boxSolid(1.0, 0.6, 0.8).ply(), 'box.ply').expect(202)).body.scan.id
   expect((await waitForScan(owner.agent, scanId, undefined, 120_000)).scan.status).toBe('ready')
   const blank = await t.server.services.db
@@ -345,7 +349,8 @@ describe('review', () => {
     expect(res.body.error.message).toMatch(/You placed this marker, so you cannot review it/)
     await review(owner, own.id, { state: 'changes-asked', note: 'hm' }).expect(403)
     const theirs = await checked(await topDistance())
-    for (const p of [measurer, guest]) expect((await review(p, theirs.id, { state: 'signed-off' }).expect(403)).body.error.message).toMatch(/role/)
+    expect((await review(measurer, theirs.id, { state: 'signed-off' }).expect(403)).body.error.message).toMatch(/role/)
+    expect((await review(guest, theirs.id, { state: 'signed-off' }).expect(403)).body.error.message).toMatch(/viewing pass .* changes nothing/)
     expect((await review(outsider, theirs.id, { state: 'signed-off' })).status).toBe(404)
     expect((await getMarker(own.id)).review.state).toBe('open')
     expect((await review(mentor, own.id, { state: 'signed-off' }).expect(200)).body.marker.review.state).toBe('signed-off')
