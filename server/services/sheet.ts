@@ -60,6 +60,10 @@ export const SHEET_CSV_COLUMNS = [
   'coverage_factor',
   'check_state',
   'clearance_outcome',
+  'review_state',
+  'reviewer',
+  'reviewed_at',
+  'open_threads',
   'author',
   'last_editor',
   'updated_at',
@@ -72,7 +76,25 @@ export function sheetCsv(sheet: Sheet): string {
   for (const m of sheet.markers) {
     const c = m.check
     lines.push(
-      [m.id, m.kind, m.label, c.value, c.unit, c.expandedUncertainty, c.coverageFactor, c.state, c.clearance?.outcome ?? null, m.createdBy?.name, m.updatedBy?.name, m.updatedAt, c.checkedAt]
+      [
+        m.id,
+        m.kind,
+        m.label,
+        c.value,
+        c.unit,
+        c.expandedUncertainty,
+        c.coverageFactor,
+        c.state,
+        c.clearance?.outcome ?? null,
+        m.review.state,
+        m.review.by?.name,
+        m.review.at,
+        m.comments.open,
+        m.createdBy?.name,
+        m.updatedBy?.name,
+        m.updatedAt,
+        c.checkedAt,
+      ]
         .map(field)
         .join(','),
     )

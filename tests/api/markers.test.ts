@@ -383,6 +383,11 @@ describe('measurement sheet', () => {
       if (!list.some((m) => m.check.state === 'pending')) break
       await new Promise((r) => setTimeout(r, 100))
     } while (Date.now() < deadline)
+    // One marker signed off by the mentor, so the sheet has a reviewer to show.
+    const signed = list.find((m) => m.check.state === 'checked')!
+    await mentor.agent.put(`/api/markers/${signed.id}/review`).send({ state: 'signed-off', note: 'Checked against the drawing.' }).expect(200)
+    list = (await owner.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers
+    expect(list.find((m) => m.id === signed.id)!.review).toMatchObject({ state: 'signed-off', by: { name: 'Marker Mentor' } })
     const sheet = (await mentor.agent.get(`/api/scenes/${sceneId}/sheet`).expect(200)).body.sheet
     expect(sheet.markers.map((m: Marker) => [m.id, m.check.value, m.check.expandedUncertainty])).toEqual(list.map((m) => [m.id, m.check.value, m.check.expandedUncertainty]))
     expect(sheet.scans.length).toBe(Object.keys(placed).length)
@@ -400,6 +405,8 @@ describe('measurement sheet', () => {
       const row = rows.find((r) => r.marker_id === m.id)!
       expect(row.label).toBe(m.label)
       expect(row.check_state).toBe(m.check.state)
+      expect(row.review_state).toBe(m.review.state)
+      expect(row.reviewer).toBe(m.review.by?.name ?? '')
       expect(row.value === '' ? null : Number(row.value)).toBe(m.check.value)
       expect(row.expanded_uncertainty === '' ? null : Number(row.expanded_uncertainty)).toBe(m.check.expandedUncertainty)
     }
