@@ -2,6 +2,7 @@ import { authRoutes } from './auth'
 import { checkpointRoutes } from './checkpoints'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
+import { registrationRoutes } from './registrations'
 import type { RouteDef } from './registry'
 import { scanRoutes } from './scans'
 import { sceneRoutes } from './scenes'
@@ -9,4 +10,4 @@ import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes]

@@ -7,6 +7,7 @@ import { projectOfScan } from '../repositories/scans'
 import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfMarker } from '../repositories/markers'
+import { projectOfRegistration } from '../repositories/registrations'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
 import type { Membership, RigKey } from '../routes/registry'
 
@@ -23,6 +24,7 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,
   markerId: async (db, id) => (await projectOfMarker(db, id))?.project_id ?? null,
   checkpointId: async (db, id) => (await projectOfCheckpoint(db, id))?.project_id ?? null,
+  registrationId: async (db, id) => (await projectOfRegistration(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

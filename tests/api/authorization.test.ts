@@ -30,6 +30,7 @@ interface Fixture {
   instanceId: string
   markerId: string
   checkpointId: string
+  registrationId: string
 }
 
 /**
@@ -56,10 +57,16 @@ async function freshProject(): Promise<Fixture> {
     .expect(201)
   // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
   const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
-  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id }
+  // A draft registration of the placement (no fit: no scan is processed here), written straight to the table.
+  const registration = await t.server.services.db
+    .insertInto('registrations')
+    .values({ scene_id: scene.body.scene.id, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'placed.xyz', held_name: 'none', matrix_before: instance.body.instance.matrix })
+    .returning('id')
+    .executeTakeFirstOrThrow()
+  return { projectId, scanId: scan.body.scan.id, tokenId: token.body.token.id, secret: token.body.secret, sceneId: scene.body.scene.id, instanceId, markerId: marker.body.marker.id, checkpointId: checkpoint.id, registrationId: registration.id }
 }
 
-const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006' }
+const NOWHERE: Fixture = { projectId: '00000000-0000-4000-8000-000000000000', scanId: '00000000-0000-4000-8000-000000000001', tokenId: '00000000-0000-4000-8000-000000000002', secret: 'smk_none', sceneId: '00000000-0000-4000-8000-000000000003', instanceId: '00000000-0000-4000-8000-000000000004', markerId: '00000000-0000-4000-8000-000000000005', checkpointId: '00000000-0000-4000-8000-000000000006', registrationId: '00000000-0000-4000-8000-000000000007' }
 
 /** Values for path parameters; a parameter missing here fails the walk (add it when adding a route). */
 function fillPath(route: RouteDef, f: Fixture): string {
@@ -79,6 +86,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.markerId
       case 'checkpointId':
         return f.checkpointId
+      case 'registrationId':
+        return f.registrationId
       case 'nodeKey':
         return 'r'
       case 'userId':

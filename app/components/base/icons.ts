@@ -56,6 +56,8 @@ export const ICONS = {
   /** A marker's versions: a clock face turned back. */
   history: ['M3.2 8a4.8 4.8 0 1 0 1.4-3.4', 'M2.6 2.6v2.6h2.6', 'M8 5.3V8l1.9 1.3'],
   printer: ['M4.5 6V2.5h7V6', 'M4.5 11.5h-2v-5.5h11v5.5h-2', 'M4.5 9.5h7v4h-7z'],
+  /** Aligning stations: two tie points joined across, between the corners of two frames. */
+  align: ['M6.5 11.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M13.5 4.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M6 10l4-4', 'M2 6.5V2h4.5', 'M14 9.5V14H9.5'],
   /** A checkpoint: a pennant on a staff. */
   pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
 } as const
