@@ -5,7 +5,7 @@ import { formatLiveBench, runLiveBench } from './live'
 import { formatMarkerBench, runMarkerBench } from './markers'
 import { runOctreeBench } from './octree'
 import { formatParseBench, runParseBench } from './parse'
-import { formatRegistrationBench, runRegistrationBench } from './registration'
+import { formatRegistrationBench, formatRegistrationServiceBench, runRegistrationBench, runRegistrationServiceBench } from './registration'
 import { formatViewerBench, runViewerBench } from './viewer'
 
 function sizes(argv: string[]): number[] {
@@ -37,7 +37,12 @@ if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binar
 if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
 if (wanted('live')) section('Live documents (targets: an edit seen by 50 clients p99 < 50 ms; state at any of 10 k revisions < 100 ms)', formatLiveBench(await runLiveBench(log)))
-if (wanted('registration')) section('Registration (closed form on 1 000 pairs; ICP of two 1 M-point scans in a few seconds on 2 cores)', formatRegistrationBench(await runRegistrationBench(log)))
+if (wanted('registration')) {
+  section(
+    'Registration (closed form on 1 000 pairs; ICP of two 1 M-point scans in a few seconds on 2 cores)',
+    `${formatRegistrationBench(await runRegistrationBench(log))}\n${formatRegistrationServiceBench(await runRegistrationServiceBench(log))}`,
+  )
+}
 
 // Every section has printed: leave now rather than wait on handles a bench left open (the live bench's run
 // did not end by itself once, after its figures were out; see the closing note of the live issue).

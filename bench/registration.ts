@@ -7,9 +7,19 @@
  * timed apart, since a run fits only the normals it pairs with), the ICP run, iterations, final RMS,
  * overlap, and how far the result is from the known transform at the room's corners.
  *
+ * End to end through the server (`runRegistrationServiceBench`, needs the bench database): the same two
+ * scans written as binary PLY, ingested, placed (the moving one at the identity, 2 degrees and 5 cm off),
+ * refined by POST /api/scenes/:sceneId/registrations/refine and polled until done (reading both scans'
+ * points from PostgreSQL through the scan indexes, building the target, ICP), then accepted.
+ *
  * Run: npx tsx bench/index.ts --only registration   (or npx tsx bench/registration.ts [points])
  */
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
 import { pathToFileURL } from 'node:url'
+import { writeBinaryPly } from '../server/points/writers/plyWriter'
+import { startBenchServer } from './lib/benchServer'
 import { invertRigid, multiplyRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import { composeTransform, fitRigid, type TiePair } from '@shared/measure/registration'
 import { buildIcpTarget, refineIcp } from '../server/registration/icp'
@@ -132,6 +142,98 @@ export function formatRegistrationBench(r: RegistrationBench): string {
     `  ${r.converged ? 'converged' : 'not converged'} (${r.reason}); point-to-plane RMS ${r.finalRmsMm.toFixed(2)} mm (point-to-point ${r.pointRmsMm.toFixed(2)} mm), overlap ${(r.overlap * 100).toFixed(1)} %; ` +
       `largest error at the room's corners against the known transform ${r.cornerErrorMm.toFixed(3)} mm`,
   ].join('\n')
+}
+
+export interface RegistrationServiceBench {
+  points: number
+  /** From the refine request to the poll that saw it done, ms (points read, target built, ICP). */
+  refineMs: number
+  /** ICP's own seconds as the job measured them. */
+  jobMs: number
+  iterations: number
+  converged: boolean
+  finalRmsMm: number
+  overlap: number
+  cornerErrorMm: number
+  /** POST accept: the placement set through the scene service, its markers scheduled, the record written. */
+  acceptMs: number
+  /** The poll's answer time while the job ran, p50 and max (the event loop stays free), ms. */
+  pollMs: [number, number]
+}
+
+export async function runRegistrationServiceBench(log: (line: string) => void = () => {}, points = 1_000_000): Promise<RegistrationServiceBench> {
+  const bench = await startBenchServer()
+  const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-registration-bench-'))
+  const json = { ...bench.headers, 'content-type': 'application/json' }
+  const api = async (method: string, url: string, body?: unknown) => {
+    const res = await fetch(`${bench.url}${url}`, { method, headers: json, body: body === undefined ? undefined : JSON.stringify(body) })
+    if (!res.ok) throw new Error(`${method} ${url}: ${res.status} ${await res.text()}`)
+    return res.json() as Promise<any>
+  }
+  const worker = await bench.startWorker()
+  try {
+    const truth = composeTransform({ translation: [0.03, -0.04, 0.01], rotationDegrees: { x: 0.4, y: -0.3, z: 2 } })
+    const held = syntheticScan(points, 11)
+    const movingScan = syntheticScan(points, 12)
+    const inverse = invertRigid(truth)
+    const moving = new Float64Array(movingScan.count * 3)
+    for (let i = 0; i < movingScan.count; i++) moving.set(transformPoint(inverse, movingScan.positions[3 * i]!, movingScan.positions[3 * i + 1]!, movingScan.positions[3 * i + 2]!), 3 * i)
+    const heldFile = path.join(folder, 'held.ply'), movingFile = path.join(folder, 'moving.ply')
+    fs.writeFileSync(heldFile, writeBinaryPly({ count: held.count, positions: held.positions.slice(0, held.count * 3) }, ['bench held']))
+    fs.writeFileSync(movingFile, writeBinaryPly({ count: movingScan.count, positions: moving }, ['bench moving']))
+    log(`registration: ingesting two ${points / 1e6} M-point scans...`)
+    const a = await bench.ingest(heldFile)
+    const b = await bench.ingest(movingFile)
+    const { scene } = await api('POST', `/api/projects/${bench.projectId}/scenes`, { name: 'Registration bench' })
+    const heldId = (await api('POST', `/api/scenes/${scene.id}/instances`, { scanId: a.scanId })).instance.id
+    const movingId = (await api('POST', `/api/scenes/${scene.id}/instances`, { scanId: b.scanId })).instance.id
+    log('registration: refining through the server...')
+    const t0 = performance.now()
+    const started = await api('POST', `/api/scenes/${scene.id}/registrations/refine`, { movingInstanceId: movingId, heldInstanceId: heldId, maxDistance: 0.15 })
+    const polls: number[] = []
+    let r = started.registration
+    while (r.refine.status === 'running') {
+      await new Promise((res) => setTimeout(res, 50))
+      const p0 = performance.now()
+      r = (await api('GET', `/api/registrations/${r.id}`)).registration
+      polls.push(performance.now() - p0)
+    }
+    const refineMs = performance.now() - t0
+    if (r.refine.status !== 'done') throw new Error(`refinement ${r.refine.status}: ${r.refine.reason}`)
+    const residual = multiplyRigid(invertRigid(r.matrixAfter), truth)
+    let cornerError = 0
+    for (const c of ROOM_CORNERS) {
+      const p = transformPoint(residual, ...c)
+      cornerError = Math.max(cornerError, Math.hypot(p[0] - c[0], p[1] - c[1], p[2] - c[2]))
+    }
+    const t1 = performance.now()
+    await api('POST', `/api/registrations/${r.id}/accept`)
+    const acceptMs = performance.now() - t1
+    return {
+      points,
+      refineMs,
+      jobMs: r.refine.seconds * 1000,
+      iterations: r.refine.iterations.length - 1,
+      converged: r.refine.converged,
+      finalRmsMm: r.refine.finalRms * 1000,
+      overlap: r.refine.overlap,
+      cornerErrorMm: cornerError * 1000,
+      acceptMs,
+      pollMs: [percentile(polls, 50), Math.max(...polls)],
+    }
+  } finally {
+    worker.kill()
+    await bench.stop()
+    fs.rmSync(folder, { recursive: true, force: true })
+  }
+}
+
+export function formatRegistrationServiceBench(r: RegistrationServiceBench): string {
+  return (
+    `through the server, two ${r.points / 1e6} M-point scans: refine request to done ${(r.refineMs / 1000).toFixed(2)} s (the job ${(r.jobMs / 1000).toFixed(2)} s: points from PostgreSQL, target, ICP), ` +
+    `${r.iterations} iterations, ${r.converged ? 'converged' : 'not converged'}, RMS ${r.finalRmsMm.toFixed(2)} mm, overlap ${(r.overlap * 100).toFixed(1)} %, corner error ${r.cornerErrorMm.toFixed(3)} mm; ` +
+    `polls while it ran p50 ${r.pollMs[0].toFixed(1)} ms, max ${r.pollMs[1].toFixed(1)} ms; accept ${r.acceptMs.toFixed(0)} ms`
+  )
 }
 
 if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) {

@@ -18,6 +18,8 @@ import { CommentNoticeSender } from './mail/commentNotices'
 import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
 import { MarkerChecker } from './markers/checker'
+import { RegistrationJobs } from './registration/jobs'
+import { failOrphanedRefinements } from './services/registration'
 import { CollabServer } from './collab/socketServer'
 import type { LiveSync } from './types'
 
@@ -93,6 +95,7 @@ export class SpanmarkServer {
         boss,
         scanIndexes,
         markerChecks: new MarkerChecker(db, scanIndexes, log),
+        registrationJobs: new RegistrationJobs(log),
         live: NO_LIVE,
         log,
         publicOrigin: () => origin,
@@ -122,6 +125,8 @@ export class SpanmarkServer {
       commentNotices.start()
       const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab, commentNotices)
       app.startSweeper()
+      const orphaned = await failOrphanedRefinements(services)
+      if (orphaned) log.info({ registrations: orphaned }, 'refinements left running by an earlier server marked failed')
       const resumed = await services.markerChecks.resumePending()
       if (resumed) log.info({ markers: resumed }, 'checking markers left pending')
       return app
@@ -156,6 +161,7 @@ export class SpanmarkServer {
       setTimeout(() => this.http.closeAllConnections(), 5000).unref()
     })
     await this.worker?.stop()
+    await this.services.registrationJobs.stop()
     this.services.markerChecks.stop()
     await this.services.markerChecks.idle()
     await this.commentNotices.stop()

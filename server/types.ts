@@ -8,6 +8,7 @@ import type PgBoss from 'pg-boss'
 import type { Mailer } from './mail/mailer'
 import type { ObjectStore } from './storage/objects'
 import type { MarkerChecker } from './markers/checker'
+import type { RegistrationJobs } from './registration/jobs'
 
 export type AuthUser = User
 
@@ -48,6 +49,8 @@ export interface Services {
   scanIndexes: ScanIndexes
   /** Marker checks, latest wins (server/markers/checker.ts). */
   markerChecks: MarkerChecker
+  /** ICP refinements of registrations, one per scene, latest wins (server/registration/jobs.ts). */
+  registrationJobs: RegistrationJobs
   /** The live documents, told of every change made through the API (server/collab/liveSync.ts). */
   live: LiveSync
   log: pino.Logger

@@ -17,6 +17,10 @@ export const queryKeys = {
   markerComments: (markerId: string) => ['markers', markerId, 'comments'] as const,
   /** The scene's markers as they were at a time. */
   sceneState: (sceneId: string, at: string) => ['scenes', sceneId, 'state', at] as const,
+  /** The scene's registration report (placements and their registrations). */
+  registrations: (sceneId: string) => ['scenes', sceneId, 'registrations'] as const,
+  /** One registration (a draft polled while it refines). */
+  registration: (registrationId: string) => ['registrations', registrationId] as const,
   checkpoints: (sceneId: string) => ['scenes', sceneId, 'checkpoints'] as const,
   checkpoint: (checkpointId: string) => ['checkpoints', checkpointId] as const,
   uploadTokens: (projectId: string) => ['projects', projectId, 'upload-tokens'] as const,

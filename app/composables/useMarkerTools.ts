@@ -20,6 +20,7 @@ import {
   type SectionClicks,
 } from '@/components/viewer/markerPlacing'
 import { MARKER_TOOL_KIND, isMarkerTool, type MarkerTool, type ViewerTool } from '@/components/viewer/viewerTools'
+import type { MarkerView } from '@/viewer/markerLayer'
 import type { PointViewer } from '@/viewer/PointViewer'
 import type { PickResult, Vec3 } from '@/viewer/types'
 
@@ -179,10 +180,17 @@ export function useMarkerTools(options: MarkerToolsOptions) {
  * The scene's markers in the viewport: drawn in the reader's unit, the selected one highlighted, and a click
  * on a label selects its marker.
  */
-export function useMarkerToolDrawing(viewer: ShallowRef<PointViewer | null>, markers: Ref<Marker[]>, unit: Readonly<Ref<LengthUnit>>, selectedId: Ref<string | null>) {
+export function useMarkerToolDrawing(
+  viewer: ShallowRef<PointViewer | null>,
+  markers: Ref<Marker[]>,
+  unit: Readonly<Ref<LengthUnit>>,
+  selectedId: Ref<string | null>,
+  /** Other shapes drawn with the markers (the align tool's tie pairs); their ids start with '__'. */
+  extra: Readonly<Ref<MarkerView[]>> = ref([]),
+) {
   watch(
-    [viewer, markers, unit],
-    ([v, list, u]) => v?.setMarkers(list.map((m) => markerView(m, u))),
+    [viewer, markers, unit, extra],
+    ([v, list, u, more]) => v?.setMarkers([...list.map((m) => markerView(m, u)), ...more]),
     { immediate: true },
   )
   watch([viewer, selectedId], ([v, id]) => v?.setSelectedMarker(id), { immediate: true })
@@ -190,7 +198,7 @@ export function useMarkerToolDrawing(viewer: ShallowRef<PointViewer | null>, mar
     viewer,
     (v, _old, onCleanup) => {
       if (!v) return
-      onCleanup(v.on('marker-select', (id) => (selectedId.value = id)))
+      onCleanup(v.on('marker-select', (id) => !id.startsWith('__') && (selectedId.value = id)))
     },
     { immediate: true },
   )

@@ -85,6 +85,11 @@ export function usePlacements(scene: MaybeRefOrGetter<Scene | undefined>, canEdi
     moveLive(id: string, matrix: number[]): void {
       setOverride(id, { matrix })
     },
+    /** Shows a placement at a matrix without saving it (the align tool's "as aligned"), or back (null). */
+    preview(id: string, matrix: number[] | null): void {
+      if (matrix) setOverride(id, { matrix })
+      else clearOverride(id, ['matrix'])
+    },
     /** The gizmo was released: one PATCH per drag. */
     saveDrag(id: string, matrix: number[]): void {
       void save(id, { matrix }, false).catch(() => undefined)

@@ -123,6 +123,8 @@ export class PointViewer {
   private colorMode: ColorMode
   private detailPx: number
   private clickMode: 'pick' | 'none' = 'pick'
+  /** Picks and the hover ring only on this placement (the align tool's side being clicked), or on all. */
+  private pickOnly: string | null = null
   private slab: SectionSlab | null = null
   private planes: [THREE.Plane, THREE.Plane] = [new THREE.Plane(), new THREE.Plane()]
   private pixelRatio: number
@@ -285,6 +287,13 @@ export class PointViewer {
   setClickMode(mode: 'pick' | 'none'): void {
     this.clickMode = mode
     if (mode === 'none') this.showHover(null)
+  }
+
+  /** Picks (and the hover ring) land only on this placement's points, or (null) on any drawn placement. */
+  setPickOnly(instanceId: string | null): void {
+    if (instanceId === this.pickOnly) return
+    this.pickOnly = instanceId
+    this.showHover(null)
   }
 
   /** Shows a mark at a scene-frame point (the section's first click), or hides it. */
@@ -853,7 +862,7 @@ export class PointViewer {
     const n = new THREE.Vector3(...this.slab.normal)
     const centre = this.sceneToRender(this.slab.point)
     const half = this.slab.thickness / 2
-    const targets = this.pickTargets()
+    const targets = this.pickTargets(false)
     const total = targets.reduce((sum, t) => sum + t.entry.count, 0)
     const stride = Math.max(1, Math.floor(total / 400_000))
     const p = new THREE.Vector3()
@@ -938,11 +947,12 @@ export class PointViewer {
 
   // ---------------------------------------------------------------- picking and pointer
 
-  private pickTargets(): PickTarget[] {
+  private pickTargets(onlyPickable = true): PickTarget[] {
     const targets: PickTarget[] = []
     this.content.updateMatrixWorld(true)
     for (const inst of this.instances.values()) {
       if (!inst.visible || !inst.pivot.visible) continue
+      if (onlyPickable && this.pickOnly && inst.id !== this.pickOnly) continue
       for (const [key, object] of inst.drawnObjects()) {
         const entry = this.cache.peek(key)
         if (entry) targets.push({ instance: inst, entry, object })

@@ -276,7 +276,40 @@ export interface SceneCheckpointsTable {
   created_at: Timestamp
 }
 
+export interface RegistrationsTable {
+  id: Generated<string>
+  scene_id: string
+  kind: Generated<'fit' | 'undo'>
+  state: Generated<'draft' | 'accepted' | 'undone'>
+  moving_instance_id: string
+  held_instance_id: string | null
+  moving_name: string
+  held_name: string
+  method: 'svd' | 'horn' | null
+  /** The tie pairs as snapped (shared/schemas/registrations.ts TiePair without residuals). */
+  pairs: Json<unknown[]>
+  fit: Json<Record<string, unknown> | null>
+  icp: Json<Record<string, unknown> | null>
+  /** Scene-frame correction moving -> held, column-major 4x4. */
+  correction: number[] | null
+  rms: number | null
+  rms_source: 'check-points' | 'icp' | 'tie-points' | null
+  registration_u: number | null
+  matrix_before: number[]
+  held_matrix: number[] | null
+  matrix_after: number[] | null
+  undoes_id: string | null
+  created_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+  accepted_by: string | null
+  accepted_at: Date | null
+  undone_by: string | null
+  undone_at: Date | null
+}
+
 export interface Database {
+  registrations: RegistrationsTable
   markers: MarkersTable
   comments: CommentsTable
   comment_notices: CommentNoticesTable

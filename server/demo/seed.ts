@@ -7,14 +7,14 @@ import { insertProject, updateProject } from '../repositories/projects'
 import { insertInstance, insertScene } from '../repositories/scenes'
 import { findMarker, insertMarker } from '../repositories/markers'
 import { insertRevision } from '../repositories/markerRevisions'
-import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import { invertRigid, rotationZ, transformPoint } from '@shared/geometry/rigidTransform'
 import { DOOR } from './synth/scene'
 import { acceptUpload } from '../services/scans'
 import { PLACEMENT_COLOURS } from '../services/scenes'
 import type { Services } from '../types'
 import { createPass } from '../services/passes'
 import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD, DEMO_PROJECT } from './accounts'
-import { DEMO_SCENE, demoScanFiles } from './synth/demoScans'
+import { DEMO_SCENE, STATION_B, demoScanFiles } from './synth/demoScans'
 
 /**
  * Seeds the demo into an empty database: one account per member role, the project, and its synthetic scans,
@@ -78,8 +78,9 @@ export async function seedDemoGuest(s: Services): Promise<void> {
 
 /**
  * The demo's first markers, on station A (placed where it stood): the door's head height, a section through
- * the wall with its free opening, and the chest's clearance through it kept upright and free to turn. The
- * riggers of the story ask for 80 mm a side. Written as rows and checked once the scans are processed.
+ * the wall with its free opening, and the chest's clearance through it kept upright and free to turn (the
+ * riggers of the story ask for 80 mm a side); and the door's width from station A to station B, which reads
+ * right only once B is aligned. Written as rows and checked once the scans are processed.
  */
 async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, instanceIds: Record<string, string>, userId: string): Promise<void> {
   await updateProject(s.db, projectId, { requiredMargin: 0.08 })
@@ -110,5 +111,11 @@ async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, 
   const chest = instanceIds['chart-chest.ply']!
   await add({ kind: 'clearance', label: 'chest upright through the door', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section, maxTurnDegrees: 0 } })
   await add({ kind: 'clearance', label: 'chest, any turn', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section } })
+  // The clear width across the two stations: A's right jamb to B's left jamb (each sees only the far one, at
+  // 1 m, mid-reveal). B's anchor is on B's own points, so while B is only roughly placed the width reads
+  // wrong; aligning B puts it right, with both registrations in its uncertainty.
+  const b = instanceIds['west-door-station-B.log']!
+  const [bx, by, bz] = transformPoint(invertRigid(rotationZ(STATION_B.headingDeg, ...STATION_B.position)), -halfWidth, wallThickness / 2, 1.0)
+  await add({ kind: 'distance', label: 'door width across the stations', anchors: [local(halfWidth, wallThickness / 2, 1.0), { instanceId: b, x: bx, y: by, z: bz }], params: {} })
   s.markerChecks.schedule(markers)
 }

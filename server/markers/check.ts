@@ -32,8 +32,12 @@ import type { ScanIndexes } from '../types'
 export interface CheckPlacement {
   matrix: number[]
   scanId: string
-  /** Registration RMS of the placement, metres (0 until stations are aligned). */
-  registrationRms: number
+  /**
+   * Per-axis standard uncertainty of the placement's registration, metres: from the RMS of the accepted
+   * registration that still holds for it (server/registration/current.ts, shared/measure/uncertainty.ts
+   * registrationUncertainty); 0 for a placement that is not aligned (the reference, or moved by hand).
+   */
+  registrationU: number
 }
 
 export interface CheckScan {
@@ -108,7 +112,18 @@ function placementOf(ctx: CheckContext, instanceId: string, what: string): { pla
   return { placement, scan }
 }
 
-async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index: number): Promise<Snapped> {
+/**
+ * The registration part of an anchor's budget: two points of one placement share its registration error,
+ * which largely cancels in what they measure; points of two placements add both registrations'
+ * uncertainty (DOMAIN section 2). So an anchor's budget lists its placement's registration only when the
+ * marker's anchors lie on more than one placement. (An angle over A, A, B then carries A's term on both A
+ * anchors, a little more than the exact correlated sum, which would let A's cancel between them.)
+ */
+function spansPlacements(anchors: readonly StoredAnchor[]): boolean {
+  return new Set(anchors.map((a) => a.instanceId)).size > 1
+}
+
+async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index: number, withRegistration: boolean): Promise<Snapped> {
   const name = `anchor ${index + 1}`
   const { placement, scan } = placementOf(ctx, anchor.instanceId, name)
   const picked = transformPoint(placement.matrix, anchor.x, anchor.y, anchor.z)
@@ -119,7 +134,7 @@ async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index: number
   const budget = anchorBudget({
     point: found.uncertainty ?? scan.pointUncertainty ?? 0,
     spacing: scan.spacing ?? 0,
-    registrationRms: placement.registrationRms,
+    registrationRms: withRegistration ? placement.registrationU : undefined,
   })
   if (!budget.ok) throw new Stop('invalid-geometry', `${name}: its uncertainty budget is not defined (${budget.reason}).`)
   return {
@@ -157,7 +172,8 @@ function offScanReason(anchors: CheckedAnchor[]): string | null {
 export async function checkMarker(input: CheckInput, ctx: CheckContext): Promise<Check> {
   const snapped: Snapped[] = []
   try {
-    for (let i = 0; i < input.anchors.length; i++) snapped.push(await snapAnchor(ctx, input.anchors[i]!, i))
+    const spans = spansPlacements(input.anchors)
+    for (let i = 0; i < input.anchors.length; i++) snapped.push(await snapAnchor(ctx, input.anchors[i]!, i, spans))
     const anchors = snapped.map((s) => s.checked)
     const offReason = offScanReason(anchors)
     // An off-scan anchor still gets its value computed (from the snapped points), flagged by the state.
@@ -291,8 +307,10 @@ async function computeSection(input: CheckInput, s: Snapped[], ctx: CheckContext
     chunks.push(local)
     spacing = Math.max(spacing, scan.spacing ?? 0)
     pointU = Math.max(pointU, scan.pointUncertainty ?? 0)
-    rms = Math.max(rms, placement.registrationRms)
+    rms = Math.max(rms, placement.registrationU)
   }
+  // A section through one placement: both edges of an opening share its registration, which cancels.
+  if (ids.length < 2) rms = 0
   const total = chunks.reduce((n, c) => n + c.length, 0)
   const xyz = new Float64Array(total)
   let at = 0
@@ -437,7 +455,8 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   if (!sectionMarker || sectionMarker.kind !== 'section') throw new Stop('invalid-geometry', 'the section of this clearance was deleted.')
   const { placement: object, scan: objectScan } = placementOf(ctx, params.objectInstanceId, 'the object')
   const sectionAnchors: Snapped[] = []
-  for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i))
+  const sectionSpans = spansPlacements(sectionMarker.anchors)
+  for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i, sectionSpans))
   const sec = await computeSection(sectionMarker, sectionAnchors, ctx)
   const opening = openingOf(sec)
   if ('problem' in opening) throw new Stop('invalid-geometry', `the section has no free opening: ${opening.problem}`)
@@ -473,7 +492,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
     { name: 'object points', u: objectScan.pointUncertainty ?? 0 },
     { name: 'grid resolution', u: fitResolution(opening.opening) / Math.sqrt(3) },
     { name: 'registration (opening)', u: sec.registrationRms },
-    { name: 'registration (object)', u: object.registrationRms },
+    { name: 'registration (object)', u: object.registrationU },
   ]
   const budget = combineInQuadrature(parts)
   if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)

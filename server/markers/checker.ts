@@ -5,6 +5,7 @@ import { findMarkerSettings } from '../repositories/projects'
 import { findMarker, pendingMarkers, storeCheck, type StoredAnchor } from '../repositories/markers'
 import { listInstances, projectOfScene } from '../repositories/scenes'
 import { findScan } from '../repositories/scans'
+import { registrationStates } from '../registration/current'
 import type { ScanIndexes } from '../types'
 import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, type CheckScan } from './check'
 
@@ -117,10 +118,11 @@ export class MarkerChecker {
 
   private async context(sceneId: string): Promise<CheckContext> {
     const instances = await listInstances(this.db, sceneId)
+    const registered = await registrationStates(this.db, sceneId, instances)
     const placements = new Map<string, CheckPlacement>()
     const scans = new Map<string, CheckScan>()
     for (const i of instances) {
-      placements.set(i.id, { matrix: i.matrix, scanId: i.scan_id, registrationRms: 0 })
+      placements.set(i.id, { matrix: i.matrix, scanId: i.scan_id, registrationU: registered.get(i.id)?.current?.u ?? 0 })
       if (!scans.has(i.scan_id)) {
         const scan = await findScan(this.db, i.scan_id)
         if (scan) scans.set(i.scan_id, { name: scan.name, status: scan.status, spacing: scan.spacing, pointUncertainty: scan.entered_uncertainty ?? scan.estimated_uncertainty })

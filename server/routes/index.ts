@@ -5,6 +5,7 @@ import { passRoutes } from './passes'
 import { commentRoutes } from './comments'
 import { markerRoutes } from './markers'
 import { projectRoutes } from './projects'
+import { registrationRoutes } from './registrations'
 import type { RouteDef } from './registry'
 import { scanRoutes } from './scans'
 import { sceneRoutes } from './scenes'
@@ -12,4 +13,4 @@ import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...inviteRoutes, ...passRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes, ...inviteRoutes, ...passRoutes]

@@ -8,6 +8,7 @@ import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfComment } from '../repositories/comments'
 import { projectOfMarker } from '../repositories/markers'
+import { projectOfRegistration } from '../repositories/registrations'
 import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
 import { projectOfPass } from '../repositories/passes'
@@ -30,6 +31,7 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   inviteId: async (db, id) => (await projectOfInvite(db, id))?.project_id ?? null,
   passId: async (db, id) => (await projectOfPass(db, id))?.project_id ?? null,
   commentId: async (db, id) => (await projectOfComment(db, id))?.project_id ?? null,
+  registrationId: async (db, id) => (await projectOfRegistration(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

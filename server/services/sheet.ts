@@ -2,6 +2,7 @@ import { CAUTIONS } from '@shared/format/cautions'
 import type { Marker, Sheet, SheetScan } from '@shared/schemas'
 import { HttpError } from '../errors'
 import { getCheckpoint } from './checkpoints'
+import { registrationStates } from '../registration/current'
 import { getScan } from './scans'
 import { getScene } from './scenes'
 import { markersOf } from './markers'
@@ -27,9 +28,22 @@ export async function sheetOf(s: Services, sceneId: string, checkpointId?: strin
     markers = await markersOf(s, sceneId)
   }
   const scans: SheetScan[] = []
+  // The registration that holds for each placement now (checkpoints freeze markers, not placements).
+  const registered = await registrationStates(s.db, sceneId, scene.instances)
   for (const i of scene.instances) {
     const scan = await getScan(s, i.scanId)
-    scans.push({ placementId: i.id, scanId: scan.id, name: i.scanName, pointCount: scan.pointCount, spacing: scan.spacing, pointUncertainty: scan.pointUncertainty, registrationRms: null })
+    const reg = registered.get(i.id)
+    scans.push({
+      placementId: i.id,
+      scanId: scan.id,
+      name: i.scanName,
+      pointCount: scan.pointCount,
+      spacing: scan.spacing,
+      pointUncertainty: scan.pointUncertainty,
+      registrationRms: reg?.current?.rms ?? null,
+      registrationSource: reg?.current?.rmsSource ?? null,
+      registrationMovedSince: reg?.movedSince ?? false,
+    })
   }
   return {
     project,

@@ -6,8 +6,9 @@
  * - the point's own per-axis standard uncertainty (isotropic: the same u along x, y and z);
  * - picking: the surface lies somewhere within one point spacing, a rectangular distribution of full width
  *   = spacing, so u = (spacing / 2) / sqrt(3) = spacing / sqrt(12) per axis (GUM 4.3.7);
- * - the placement's registration RMS, taken as a per-axis standard uncertainty. Two anchors on the same
- *   scan share it and it largely cancels in their distance; the caller leaves it out of both then.
+ * - the placement's registration, as a per-axis standard uncertainty made from its accepted RMS by
+ *   `registrationUncertainty` below. Two anchors on the same placement share it and it largely cancels in
+ *   their distance (DOMAIN section 2); the caller leaves it out of both then (server/markers/check.ts).
  * Expanded uncertainty U = k u with k = 2 (about 95 % for a normal distribution, GUM 6.2 / Annex G).
  *
  * Degenerate input: a part that is negative or not finite gives { ok: false }, never a NaN total; an
@@ -68,4 +69,48 @@ export function anchorBudget(inputs: AnchorInputs, k = COVERAGE_FACTOR): Uncerta
   ]
   if (inputs.registrationRms !== undefined) parts.push({ name: 'registration', u: inputs.registrationRms })
   return combineInQuadrature(parts, k)
+}
+
+/**
+ * Which figure a placement's registration RMS is (shared/schemas/registrations.ts RMS_SOURCES):
+ * - 'tie-points': sqrt(mean |r|^2) of the 3D residuals of the n fitted tie pairs (closed form);
+ * - 'check-points': the same over held-out check points, under the accepted transform;
+ * - 'icp': ICP's point-to-plane RMS, sqrt(mean ((q - t) . n)^2), a distance along one direction.
+ */
+export interface RegistrationFigure {
+  source: 'tie-points' | 'check-points' | 'icp'
+  /** Metres. */
+  rms: number
+  /** Pairs behind the figure (fitted tie pairs, check points, or ICP pairs). */
+  count: number
+}
+
+/** Parameters of a rigid transform: three for the rotation, three for the translation. */
+const RIGID_PARAMETERS = 6
+
+/**
+ * The per-axis standard uncertainty (metres) a registration gives each anchor on its placement, the
+ * conversion from the registration's RMS to the isotropic per-axis term of the anchor budget:
+ * - A 3D residual r = (rx, ry, rz) with independent per-axis errors of standard deviation s has
+ *   E|r|^2 = 3 s^2, so a 3D RMS is sqrt(3) times the per-axis figure: s = RMS / sqrt(3) (derived).
+ * - Tie points: the fit spent 6 of the 3n coordinates' degrees of freedom, so the residuals are smaller
+ *   than the errors; the unbiased estimate is s^2 = sum |r|^2 / (3n - 6) (least squares, residual sum over
+ *   observations minus fitted parameters, as JCGM 100:2008 H.3 does for its straight line), i.e.
+ *   s = RMS sqrt(n / (3n - 6)). At n = 3 that is the RMS itself; for many pairs it tends to RMS / sqrt(3).
+ * - Check points were not fitted: s = RMS / sqrt(3).
+ * - ICP's point-to-plane RMS is already a distance along one direction (the surface normal), so it is the
+ *   per-axis figure itself: s = RMS (thousands of pairs: the 6 parameters change nothing).
+ * The residual of a pair holds both points' own noise as well as the transform's error, so this overstates
+ * the transform's error near the middle of the pairs and may understate it far outside them: it is the
+ * usual conservative reading of a registration RMS (common practice, no source). Null when the figure
+ * gives no estimate (n <= 2 tie pairs, a negative or non-finite RMS).
+ */
+export function registrationUncertainty(figure: RegistrationFigure): number | null {
+  const { source, rms, count } = figure
+  if (!(Number.isFinite(rms) && rms >= 0) || !(count >= 1)) return null
+  if (source === 'icp') return rms
+  if (source === 'check-points') return rms / Math.sqrt(3)
+  const dof = 3 * count - RIGID_PARAMETERS
+  if (dof <= 0) return null
+  return rms * Math.sqrt(count / dof)
 }

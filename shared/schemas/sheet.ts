@@ -21,6 +21,10 @@ export const SheetScan = z.object({
   pointUncertainty: z.number().nullable(),
   /** RMS of the placement's accepted registration, metres; null while it has none. */
   registrationRms: z.number().nullable(),
+  /** Which figure that RMS is: check points, ICP (point-to-plane) or the fitted tie points. */
+  registrationSource: z.enum(['check-points', 'icp', 'tie-points']).nullable(),
+  /** The placement had an accepted registration but was moved since (so it counts as not aligned). */
+  registrationMovedSince: z.boolean(),
 })
 export type SheetScan = z.infer<typeof SheetScan>
 

@@ -41,6 +41,7 @@ interface Fixture {
   guest: ReturnType<TestServer['agent']> | null
   /** A comment thread's first comment on the marker. */
   commentId: string
+  registrationId: string
 }
 
 let invited = 0
@@ -72,6 +73,12 @@ async function freshProject(withGuest = false): Promise<Fixture> {
   // The marker's check stays pending (no worker here), so the checkpoint is written straight to the table.
   const comment = await people.owner.agent.post(`/api/markers/${marker.body.marker.id}/comments`).send({ body: 'A thread to resolve.' }).expect(201)
   const checkpoint = await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: scene.body.scene.id, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()
+  // A draft registration of the placement (no fit: no scan is processed here), written straight to the table.
+  const registration = await t.server.services.db
+    .insertInto('registrations')
+    .values({ scene_id: scene.body.scene.id, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'placed.xyz', held_name: 'none', matrix_before: instance.body.instance.matrix })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -91,6 +98,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     markerId: marker.body.marker.id,
     checkpointId: checkpoint.id,
     commentId: comment.body.comment.id,
+    registrationId: registration.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -109,6 +117,7 @@ const NOWHERE: Fixture = {
   passId: '00000000-0000-4000-8000-000000000007',
   checkpointId: '00000000-0000-4000-8000-000000000008',
   commentId: '00000000-0000-4000-8000-000000000009',
+  registrationId: '00000000-0000-4000-8000-00000000000a',
   guest: null,
 }
 
@@ -136,6 +145,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.passId
       case 'commentId':
         return f.commentId
+      case 'registrationId':
+        return f.registrationId
       case 'nodeKey':
         return 'r'
       case 'userId':

@@ -1,8 +1,10 @@
 // The demo's synthetic scans go through the real upload and ingest path when the demo is seeded.
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Marker, Scan } from '@shared/schemas'
-import { DEMO_ACCOUNTS, DEMO_GUEST } from '../../server/demo/accounts'
-import { CHEST, DOOR } from '../../server/demo/synth/scene'
+import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD } from '../../server/demo/accounts'
+import { invertRigid, multiplyRigid, rotationZ, transformPoint } from '@shared/geometry/rigidTransform'
+import { CHEST, DOOR, TARGETS } from '../../server/demo/synth/scene'
+import { DEMO_SCENE, STATION_A, STATION_B } from '../../server/demo/synth/demoScans'
 import { waitForScan } from '../utils/scans'
 import { startTestServer, tokenOf, type TestServer } from '../utils/server'
 
@@ -80,9 +82,74 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   const free = by['chest, any turn']!.check.clearance!
   expect(free.outcome).toBe('passes')
   expect(Math.abs(Math.abs(free.rotationDegrees) - 90)).toBeLessThan(3)
+  // Across the stations: B only roughly placed, so the width reads off the true 1.40 m by more than its U.
+  const across = by['door width across the stations']!.check
+  expect(across.state, across.reason ?? '').toBe('checked')
+  expect(Math.abs(across.value! - 2 * DOOR.halfWidth)).toBeGreaterThan(across.expandedUncertainty!)
   // Each seeded marker starts its history with one version, by its author.
   for (const m of markers) {
     const revisions = (await guest.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions
     expect(revisions.map((r: { action: string; by: { name: string } | null }) => [r.action, r.by?.name])).toEqual([['created', m.createdBy?.name]])
   }
+})
+
+it('starts station B roughly placed, and aligns it onto station A by the centres of the four sphere targets', { timeout: 120_000 }, async () => {
+  const measurer = t.agent()
+  await measurer.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email, password: DEMO_PASSWORD }).expect(200)
+  const [project] = (await measurer.get('/api/projects').expect(200)).body.projects
+  const [summary] = (await measurer.get(`/api/projects/${project.id}/scenes`).expect(200)).body.scenes
+  const scene = (await measurer.get(`/api/scenes/${summary.id}`).expect(200)).body.scene
+  for (const i of scene.instances) await waitForScan(measurer, i.scanId, undefined, 100_000, 200)
+  const a = scene.instances.find((i: { scanName: string }) => /station A/.test(i.scanName))
+  const b = scene.instances.find((i: { scanName: string }) => /station B/.test(i.scanName))
+  // The generator's own poses (server/demo/synth/demoScans.ts): B where it stood, and where the demo puts it.
+  const trueB = rotationZ(STATION_B.headingDeg, ...STATION_B.position)
+  expect(b.matrix).toEqual(DEMO_SCENE.placements[1]!.matrix)
+  const offBy = (m: readonly number[]) => Math.max(...TARGETS.map((s) => Math.hypot(...transformPoint(multiplyRigid(m, invertRigid(trueB)), ...s.centre).map((v, k) => v - s.centre[k]!))))
+  expect(offBy(b.matrix), 'roughly placed, not aligned').toBeGreaterThan(0.1)
+  // Click each target on its side facing each station: on A as placed (where it stood), on B as roughly placed.
+  const facing = (c: readonly number[], from: readonly number[]) => {
+    const d = [0, 1, 2].map((k) => from[k]! - c[k]!)
+    const len = Math.hypot(...d)
+    return c.map((v, k) => v + (TARGETS[0]!.radius * 0.9 * d[k]!) / len) as [number, number, number]
+  }
+  const onB = (p: [number, number, number]) => transformPoint(multiplyRigid(b.matrix, invertRigid(trueB)), ...p)
+  const xyz = (p: readonly number[]) => ({ x: p[0]!, y: p[1]!, z: p[2]! })
+  const pairs = TARGETS.map((s) => ({ moving: xyz(onB(facing(s.centre, STATION_B.position))), held: xyz(facing(s.centre, STATION_A.position)), target: 'sphere' }))
+  const res = await measurer.post(`/api/scenes/${scene.id}/registrations/fit`).send({ movingInstanceId: b.id, heldInstanceId: a.id, pairs })
+  expect(res.status, JSON.stringify(res.body)).toBe(201)
+  const r = res.body.registration
+  // Station noise of a few millimetres (the demo's own range noise) over caps of a few hundred points.
+  expect(r.fit.rms).toBeLessThan(0.003)
+  expect(offBy(r.matrixAfter)).toBeLessThan(0.003)
+  for (const p of r.pairs) for (const side of [p.moving, p.held]) expect(side.sphere.count).toBeGreaterThan(30)
+
+  // ICP from the fit over the wall, floor and reveals: its RMS never rises (Besl and McKay 1992) and it keeps B
+  // within 1.5 mm of where it stood at the targets (the stations' noise is a few millimetres).
+  await measurer.post(`/api/scenes/${scene.id}/registrations/refine`).send({ movingInstanceId: b.id, heldInstanceId: a.id, registrationId: r.id }).expect(202)
+  let refined = r
+  for (const deadline = Date.now() + 60_000; refined.refine?.status !== 'done'; ) {
+    if (Date.now() > deadline || (refined.refine && refined.refine.status !== 'running')) throw new Error(`refinement: ${JSON.stringify(refined.refine)}`)
+    await new Promise((res) => setTimeout(res, 200))
+    refined = (await measurer.get(`/api/registrations/${r.id}`).expect(200)).body.registration
+  }
+  const steps = refined.refine.iterations.map((i: { rms: number }) => i.rms)
+  for (let i = 1; i < steps.length; i++) expect(steps[i]).toBeLessThanOrEqual(steps[i - 1])
+  expect(offBy(refined.matrixAfter)).toBeLessThan(0.0015)
+
+  // Accepting moves B; the width across the stations is checked again and now reads the invented door's
+  // 1.40 m within its U, which lists B's registration (and A's, 0: A is the reference).
+  const before = ((await measurer.get(`/api/scenes/${scene.id}/markers`).expect(200)).body.markers as Marker[]).find((m) => m.label === 'door width across the stations')!
+  const accepted = (await measurer.post(`/api/registrations/${r.id}/accept`).expect(200)).body.registration
+  let after: Marker
+  for (const deadline = Date.now() + 30_000; ; ) {
+    after = (await measurer.get(`/api/markers/${before.id}`).expect(200)).body.marker
+    if (after.check.state !== 'pending' && after.check.basedOn > before.check.basedOn) break
+    if (Date.now() > deadline) throw new Error('the marker across the stations was not checked again')
+    await new Promise((res) => setTimeout(res, 200))
+  }
+  expect(after.check.state).toBe('checked')
+  expect(Math.abs(after.check.value! - 2 * DOOR.halfWidth)).toBeLessThan(after.check.expandedUncertainty!)
+  expect(after.check.parts.find((p) => p.name === 'B registration')!.u).toBe(accepted.registrationU)
+  expect(after.check.parts.find((p) => p.name === 'A registration')!.u).toBe(0)
 })

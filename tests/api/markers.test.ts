@@ -109,11 +109,11 @@ describe('distance and angle', () => {
     for (const a of m.check.anchors) {
       expect(a.onScan).toBe(true)
       expect(a.residual!).toBeLessThan(0.01)
-      // Parts: the stated point uncertainty, the picking term spacing / sqrt(12) (GUM 4.3.7), registration 0.
+      // Parts: the stated point uncertainty, the picking term spacing / sqrt(12) (GUM 4.3.7); no registration
+      // part, since both anchors are on one placement and share its registration (DOMAIN section 2).
       expect(a.parts).toEqual([
         { name: 'point', u: ENTERED_U },
         { name: 'picking', u: expect.closeTo(spacing / Math.sqrt(12), 12) },
-        { name: 'registration', u: 0 },
       ])
       expect(a.tolerance).toBeCloseTo(Math.max(3 * spacing, 0.005), 12)
     }

@@ -136,6 +136,13 @@ describe('viewing passes', () => {
       passId: (await owner.agent.post(`/api/projects/${projectId}/passes`).send({ email: `p-${process.pid}@spanmark.example`, name: 'Other Guest' }).expect(201)).body.pass.id,
       checkpointId: (await t.server.services.db.insertInto('scene_checkpoints').values({ scene_id: sceneId, name: 'issued', markers: '[]', marker_count: 0 }).returning('id').executeTakeFirstOrThrow()).id,
       commentId: (await owner.agent.post(`/api/markers/${markerId}/comments`).send({ body: 'For the walk.' }).expect(201)).body.comment.id,
+      registrationId: (
+        await t.server.services.db
+          .insertInto('registrations')
+          .values({ scene_id: sceneId, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'moving', held_name: 'none', matrix_before: [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1] })
+          .returning('id')
+          .executeTakeFirstOrThrow()
+      ).id,
       userId: owner.user.id,
       nodeKey: 'r',
     }

@@ -58,6 +58,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   // The seeded markers are checked once the scans are ready.
   await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 30_000 })
   const seeded = await page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
+  const seededDistances = await page.evaluate(() => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length)
 
   // Distance: the D tool, two picks on station A's side of the door: the right jamb and the wall face beside it.
   await page.keyboard.press('d')
@@ -65,7 +66,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   const a = await pick([DOOR.halfWidth, DOOR.wallThickness / 2, 1.0])
   const b = await pick([DOOR.halfWidth + 0.8, 0, 1.0])
   expect(a && b, 'both picks land on stored points').toBeTruthy()
-  await page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length > n, 1, { timeout: 20_000 })
+  await page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length > n, seededDistances, { timeout: 20_000 })
   await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 20_000 })
   const list = async () => ((await (await page.request.get(`${t.url}/api/scenes/${scene.id}/markers`)).json()) as { markers: Marker[] }).markers
   const markers = await list()

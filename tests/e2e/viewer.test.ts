@@ -117,9 +117,17 @@ describe('scene viewer', () => {
     await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.lastPick() !== null, null, { timeout: 10_000 })
     await expect.poll(() => page.getByTestId('pick-readout').getAttribute('data-refined'), { timeout: 10_000 }).toBe('true')
     const picked = (await page.evaluate(() => (window as unknown as Hook).__spanmark.viewer.lastPick()))!
-    // Within a few pixels of the click there may be a neighbouring stored point in front: a few mm here.
+    // The click lands within half a pixel of the point's image (the mouse moves in whole pixels) and the pick
+    // takes the drawn point nearest the cursor, so a neighbour on the chest's top within about a pixel of the
+    // image can win: at most one pixel's footprint on the top face (seen obliquely, longer along the line of
+    // sight), and never less than 2 cm (derived from the picking rule, app/viewer/picking.ts).
+    const step = await page.evaluate(([x, y, z]) => {
+      const v = (window as unknown as Hook).__spanmark.viewer
+      const o = v.project(x!, y!, z!), ax = v.project(x! + 0.01, y!, z!), ay = v.project(x!, y! + 0.01, z!)
+      return Math.min(Math.hypot(ax.x - o.x, ax.y - o.y), Math.hypot(ay.x - o.x, ay.y - o.y)) / 0.01
+    }, target)
     const off = Math.hypot(picked.x - target[0], picked.y - target[1], picked.z - target[2])
-    expect(off).toBeLessThan(0.02)
+    expect(off).toBeLessThan(Math.max(0.02, 1 / step))
     await shot(page, '31-scene-pick')
   })
 

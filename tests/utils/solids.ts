@@ -41,6 +41,34 @@ export class SurfaceSampler {
     return this
   }
 
+  /**
+   * A whole sphere: about one point per spacing^2 of its area on a Fibonacci lattice (even cover without
+   * poles), noise along the radius.
+   */
+  sphere(centre: number[], radius: number): this {
+    const n = Math.max(12, Math.round((4 * Math.PI * radius * radius) / (this.spacing * this.spacing)))
+    const golden = Math.PI * (3 - Math.sqrt(5))
+    for (let i = 0; i < n; i++) {
+      const z = 1 - (2 * (i + 0.5)) / n
+      const r = Math.sqrt(1 - z * z)
+      const a = golden * i
+      const u = [r * Math.cos(a), r * Math.sin(a), z]
+      this.point([centre[0]! + radius * u[0]!, centre[1]! + radius * u[1]!, centre[2]! + radius * u[2]!], u)
+    }
+    return this
+  }
+
+  /** Every point moved by a column-major rigid matrix (a scan delivered in its station's own frame). */
+  transformed(m: readonly number[]): this {
+    for (let i = 0; i < this.xyz.length; i += 3) {
+      const x = this.xyz[i]!, y = this.xyz[i + 1]!, z = this.xyz[i + 2]!
+      this.xyz[i] = m[0]! * x + m[4]! * y + m[8]! * z + m[12]!
+      this.xyz[i + 1] = m[1]! * x + m[5]! * y + m[9]! * z + m[13]!
+      this.xyz[i + 2] = m[2]! * x + m[6]! * y + m[10]! * z + m[14]!
+    }
+    return this
+  }
+
   ply(): Buffer {
     return writeBinaryPly({ count: this.xyz.length / 3, positions: Float64Array.from(this.xyz) }, ['test geometry'])
   }

@@ -60,6 +60,8 @@ export const ICONS = {
   comment: ['M2.5 3h11v7.5H7.2L4.3 13v-2.5H2.5z', 'M5 5.6h6M5 7.9h4'],
   /** Review: a seal with a tick. */
   review: ['M8 1.8l1.5 1.1 1.8-.1.6 1.7 1.5 1-.5 1.8.5 1.8-1.5 1-.6 1.7-1.8-.1L8 13l-1.5-1.1-1.8.1-.6-1.7-1.5-1 .5-1.8-.5-1.8 1.5-1 .6-1.7 1.8.1z', 'M5.7 7.5l1.5 1.5 3.1-3.1'],
+  /** Aligning stations: two tie points joined across, between the corners of two frames. */
+  align: ['M6.5 11.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M13.5 4.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M6 10l4-4', 'M2 6.5V2h4.5', 'M14 9.5V14H9.5'],
   /** A checkpoint: a pennant on a staff. */
   pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
 } as const

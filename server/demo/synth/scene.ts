@@ -6,7 +6,8 @@ import { boxFaces, type Rect, type Sphere, type Surface } from './raycast'
  *
  * The wall's yard face is the plane y = 0, the wall 0.30 m thick (y from 0 to 0.30); the door opening is
  * 1.40 m wide (x from -0.70 to 0.70) and 2.10 m high from the floor (z = 0). Four 145 mm sphere targets
- * stand where both stations see them.
+ * stand where both stations see them: three on slim brackets 0.30 m out from the wall's yard face, one on
+ * a post in the yard. Aligning station B onto station A by their centres is part of the demo's story.
  */
 export const DOOR = { halfWidth: 0.7, height: 2.1, wallThickness: 0.3 } as const
 
@@ -22,12 +23,21 @@ function rect(axis: 0 | 1 | 2, at: number, min: [number, number], max: [number, 
   return { kind: 'rect', axis, at, min, max, ...look }
 }
 
-export const TARGETS: readonly Sphere[] = [
-  { kind: 'sphere', centre: [-1.6, -0.0725, 1.25], radius: 0.0725, ...target },
-  { kind: 'sphere', centre: [1.75, -0.0725, 1.7], radius: 0.0725, ...target },
-  { kind: 'sphere', centre: [-2.4, -0.0725, 2.6], radius: 0.0725, ...target },
-  { kind: 'sphere', centre: [0.3, -2.2, 0.95], radius: 0.0725, ...target },
-]
+/** The targets' radius (145 mm spheres), metres: the align tool's default (shared/schemas/registrations.ts). */
+export const TARGET_RADIUS = 0.0725
+const target_ = (x: number, y: number, z: number): Sphere => ({ kind: 'sphere', centre: [x, y, z], radius: TARGET_RADIUS, ...target })
+
+export const TARGETS: readonly Sphere[] = [target_(-1.6, -0.3, 1.25), target_(1.75, -0.3, 1.7), target_(-2.4, -0.3, 2.6), target_(0.3, -2.2, 0.95)]
+
+/** A 16 mm bracket from the wall to each wall target's back, and a 30 mm post under the yard one. */
+function targetMounts(): Surface[] {
+  const steel = { reflectance: 0.35, color: [88, 90, 94] as [number, number, number] }
+  return TARGETS.flatMap(({ centre: [x, y, z] }) =>
+    y > -1
+      ? boxFaces([x - 0.008, y + TARGET_RADIUS - 0.01, z - 0.008], [x + 0.008, 0, z + 0.008], steel, ['+y'])
+      : boxFaces([x - 0.015, y - 0.015, 0], [x + 0.015, y + 0.015, z - TARGET_RADIUS + 0.01], steel, ['-z']),
+  )
+}
 
 export function doorSurfaces(): Surface[] {
   const { halfWidth: w, height: h, wallThickness: d } = DOOR
@@ -46,6 +56,7 @@ export function doorSurfaces(): Surface[] {
     rect(0, 5, [d, 0], [7, 4.5]),
     ...boxFaces([1.2, 2.2, 0], [2.0, 2.8, 0.9], timber, ['-z']), // a plinth in the gallery
     ...TARGETS,
+    ...targetMounts(),
   ]
 }
 
