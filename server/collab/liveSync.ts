@@ -114,10 +114,28 @@ export class LiveDocumentsSync implements LiveSync {
   }
 
   /** Writes the marker's record entry as PostgreSQL holds it: a stored check, a review, a comment. */
+  /** One write at a time per marker, each reading the row at its turn: the last one written is the latest. */
+  private storing = new Map<string, Promise<void>>()
+
+  /**
+   * The marker's record entry from its row as PostgreSQL holds it now. Calls for one marker run in order (a
+   * pending re-check and a finished check can race otherwise, and an older read would land last).
+   */
   async checkStored(sceneId: string, markerId: string): Promise<void> {
-    const row = await findMarker(this.services.db, markerId)
-    if (!row) return
-    ;(await this.room(sceneId, 'record')).transact((doc) => doc.getMap(RECORD_MAPS.markers).set(markerId, recordOf(row)))
+    const earlier = this.storing.get(markerId) ?? Promise.resolve()
+    const mine = earlier
+      .catch(() => undefined)
+      .then(async () => {
+        const room = await this.room(sceneId, 'record')
+        const row = await findMarker(this.services.db, markerId)
+        if (row) room.transact((doc) => doc.getMap(RECORD_MAPS.markers).set(markerId, recordOf(row)))
+      })
+    this.storing.set(markerId, mine)
+    try {
+      await mine
+    } finally {
+      if (this.storing.get(markerId) === mine) this.storing.delete(markerId)
+    }
   }
 
   /** Writers' changes to the work document go through the services; refused ones are put back. */

@@ -70,8 +70,9 @@ function checker(s: Services): MarkerChecker {
  * the background, and their record entries say "pending" at once, so every open page shows them checking.
  */
 async function recheck(s: Services, sceneId: string, markers: { id: string; revision: number }[]): Promise<void> {
-  checker(s).schedule(markers)
+  // Pending first, then the checks: a check that finishes fast writes its entry after this one.
   for (const m of markers) await s.live.checkStored(sceneId, m.id)
+  checker(s).schedule(markers)
 }
 
 async function present(s: Services, markerId: string): Promise<Marker> {

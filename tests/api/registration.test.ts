@@ -11,7 +11,7 @@ import type { Marker, Registration, RegistrationReport, Sheet } from '@shared/sc
 import { WORK_MAPS } from '@shared/collab/documents'
 import { liveClient } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { wallWithOpening } from '../utils/solids'
 
 type V = [number, number, number]
@@ -35,7 +35,8 @@ const placedAt = new Matrix4().multiplyMatrices(E, S)
 let t: TestServer
 let owner: Awaited<ReturnType<typeof signUpAgent>>
 let mentor: Awaited<ReturnType<typeof signUpAgent>>
-let guest: Awaited<ReturnType<typeof signUpAgent>>
+/** A viewing pass's holder (guests have no account). */
+let guest: { agent: ReturnType<TestServer['agent']> }
 let sceneId: string
 let heldId: string
 let movingId: string
@@ -100,10 +101,9 @@ beforeAll(async () => {
   t = await startTestServer({}, { WORKER: 'spawn' })
   owner = await signUpAgent(t, 'Align Owner')
   mentor = await signUpAgent(t, 'Align Mentor')
-  guest = await signUpAgent(t, 'Align Guest')
   const projectId = (await owner.agent.post('/api/projects').send({ name: 'Align' }).expect(201)).body.project.id
   await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
-  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: guest.email, role: 'guest' }).expect(201)
+  guest = { agent: (await guestAgent(t, owner.agent, projectId)).agent }
   const heldScan = (await upload(owner.agent, projectId, site(1).ply(), 'site.ply').expect(202)).body.scan.id
   movingScanId = (await upload(owner.agent, projectId, site(2).transformed(S.clone().invert().elements).ply(), 'station.ply').expect(202)).body.scan.id
   for (const id of [heldScan, movingScanId]) {
