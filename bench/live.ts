@@ -25,12 +25,7 @@ export interface LiveBench {
 
 export async function runLiveBench(log: (l: string) => void = () => {}): Promise<LiveBench> {
   const bench = await startBenchServer()
-  const json = { ...bench.headers, 'content-type': 'application/json' }
-  const api = async (method: string, url: string, body?: unknown) => {
-    const res = await fetch(`${bench.url}${url}`, { method, headers: json, body: body === undefined ? undefined : JSON.stringify(body) })
-    if (!res.ok) throw new Error(`${method} ${url}: ${res.status} ${await res.text()}`)
-    return res.json() as Promise<any>
-  }
+  const api = bench.api.bind(bench)
   const providers: WebsocketProvider[] = []
   try {
     const db = bench.server.services.db

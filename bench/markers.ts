@@ -42,12 +42,7 @@ async function timed<T>(run: () => Promise<T>): Promise<[T, number]> {
 export async function runMarkerBench(points: number, log: (l: string) => void = () => {}): Promise<MarkerBench> {
   const bench = await startBenchServer()
   const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-marker-bench-'))
-  const json = { ...bench.headers, 'content-type': 'application/json' }
-  const api = async (method: string, url: string, body?: unknown) => {
-    const res = await fetch(`${bench.url}${url}`, { method, headers: json, body: body === undefined ? undefined : JSON.stringify(body) })
-    if (!res.ok) throw new Error(`${method} ${url}: ${res.status} ${await res.text()}`)
-    return res.json() as Promise<any>
-  }
+  const api = bench.api.bind(bench)
   const worker = await bench.startWorker()
   try {
     const roomFile = path.join(folder, 'room.ply')

@@ -164,12 +164,7 @@ export interface RegistrationServiceBench {
 export async function runRegistrationServiceBench(log: (line: string) => void = () => {}, points = 1_000_000): Promise<RegistrationServiceBench> {
   const bench = await startBenchServer()
   const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-registration-bench-'))
-  const json = { ...bench.headers, 'content-type': 'application/json' }
-  const api = async (method: string, url: string, body?: unknown) => {
-    const res = await fetch(`${bench.url}${url}`, { method, headers: json, body: body === undefined ? undefined : JSON.stringify(body) })
-    if (!res.ok) throw new Error(`${method} ${url}: ${res.status} ${await res.text()}`)
-    return res.json() as Promise<any>
-  }
+  const api = bench.api.bind(bench)
   const worker = await bench.startWorker()
   try {
     const truth = composeTransform({ translation: [0.03, -0.04, 0.01], rotationDegrees: { x: 0.4, y: -0.3, z: 2 } })

@@ -17,6 +17,8 @@ export interface BenchServer {
   headers: Record<string, string>
   projectId: string
   startWorker(): Promise<ChildProcess>
+  /** A JSON request as the signed-in bench owner; throws with the answer's text on a non-2xx status. */
+  api(method: string, url: string, body?: unknown): Promise<any>
   /** Uploads a file; resolves with the scan id and the seconds from the 202 to ready. */
   ingest(file: string): Promise<{ scanId: string; uploadSeconds: number; readySeconds: number }>
   stop(): Promise<void>
@@ -47,6 +49,11 @@ export async function startBenchServer(): Promise<BenchServer> {
     url,
     headers,
     projectId: project.project.id,
+    async api(method, path, body) {
+      const res = await fetch(`${url}${path}`, { method, headers: { ...headers, 'content-type': 'application/json' }, body: body === undefined ? undefined : JSON.stringify(body) })
+      if (!res.ok) throw new Error(`${method} ${path}: ${res.status} ${await res.text()}`)
+      return res.json()
+    },
     async startWorker() {
       const worker = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], {
         env: { ...process.env, SPANMARK_WORKER_CONFIG: JSON.stringify(server.workerConfig) },
