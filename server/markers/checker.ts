@@ -40,6 +40,7 @@ export class MarkerChecker {
     const ctx = await this.context(row.scene_id)
     ctx.cancelled = () => (this.wanted.get(markerId) ?? 0) > row.revision
     let check: Check
+    const started = performance.now()
     try {
       check = await checkMarker(input, ctx)
     } catch (err) {
@@ -47,6 +48,7 @@ export class MarkerChecker {
       this.log.error({ err, markerId }, 'marker check failed; the marker stays pending')
       return null
     }
+    this.log.debug({ markerId, revision: row.revision, state: check.state, ms: Math.round(performance.now() - started) }, 'marker checked')
     if (check.state === 'pending') {
       // A scan it needs is still being processed: try again shortly (nothing is stored meanwhile).
       this.retrySoon(markerId, row.revision)

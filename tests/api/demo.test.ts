@@ -5,6 +5,8 @@ import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD } from '../../server/demo/acco
 import { invertRigid, multiplyRigid, rotationZ, transformPoint } from '@shared/geometry/rigidTransform'
 import { CHEST, DOOR, TARGETS } from '../../server/demo/synth/scene'
 import { DEMO_SCENE, STATION_A, STATION_B } from '../../server/demo/synth/demoScans'
+import { LiveRecord, RECORD_MAPS } from '@shared/collab/documents'
+import { liveClient } from '../utils/live'
 import { waitForScan } from '../utils/scans'
 import { startTestServer, tokenOf, type TestServer } from '../utils/server'
 
@@ -86,6 +88,22 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   const across = by['door width across the stations']!.check
   expect(across.state, across.reason ?? '').toBe('checked')
   expect(Math.abs(across.value! - 2 * DOOR.halfWidth)).toBeGreaterThan(across.expandedUncertainty!)
+  // The record document every open page reads says the same as the API, entry by entry, in its own shape
+  // (a page shows a marker whose entry does not parse as pending for ever).
+  const measurer = await t.agent().post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email, password: DEMO_PASSWORD }).expect(200)
+  const live = liveClient(t.url, String(measurer.headers['set-cookie']![0]).split(';')[0]!, `${scene.id}/record`)
+  try {
+    await new Promise<void>((resolve) => (live.provider.synced ? resolve() : live.provider.once('sync', (ok: boolean) => ok && resolve())))
+    const records = live.doc.getMap<unknown>(RECORD_MAPS.markers)
+    for (const m of markers) {
+      const entry = LiveRecord.safeParse(records.get(m.id))
+      expect(entry.success, `${m.label}: ${entry.error?.message}`).toBe(true)
+      expect(entry.data!.check.state, m.label).toBe(m.check.state)
+      expect(entry.data!.check.value, m.label).toBe(m.check.value)
+    }
+  } finally {
+    live.provider.destroy()
+  }
   // Each seeded marker starts its history with one version, by its author.
   for (const m of markers) {
     const revisions = (await guest.get(`/api/markers/${m.id}/history`).expect(200)).body.revisions

@@ -20,10 +20,23 @@ export interface TestServer {
 }
 
 /**
- * The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. `log`: a logger
- * of the test's own (to read what the server logs); silent otherwise.
+ * Silent, unless TEST_SERVER_LOG names a level: then each test server logs to tests/output/server-<pid>-<n>.log
+ * (a contributor chasing a failure reads what the server did meanwhile).
  */
-export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}, log: pino.Logger = pino({ level: 'silent' })): Promise<TestServer> {
+let logged = 0
+function defaultLog(): pino.Logger {
+  const level = process.env.TEST_SERVER_LOG
+  if (!level) return pino({ level: 'silent' })
+  const dir = path.join(process.cwd(), 'tests', 'output')
+  fs.mkdirSync(dir, { recursive: true })
+  return pino({ level }, pino.destination({ dest: path.join(dir, `server-${process.pid}-${++logged}.log`), sync: true }))
+}
+
+/**
+ * The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. `log`: a logger
+ * of the test's own (to read what the server logs); see defaultLog otherwise.
+ */
+export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}, log: pino.Logger = defaultLog()): Promise<TestServer> {
   const database = await createTestDatabase()
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
   const config = {
