@@ -16,6 +16,9 @@ import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, t
  */
 /** How soon a check waiting for a scan to finish processing is tried again. */
 const RETRY_MS = 2000
+/** After a fault reading the points: the first retry, doubled each time up to the longest. */
+const FAULT_RETRY_MS = 1000
+const FAULT_RETRY_MAX_MS = 60_000
 
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
@@ -31,23 +34,31 @@ export class MarkerChecker {
     private readonly log: pino.Logger,
   ) {}
 
-  /** Checks now and stores; returns the check (also when it was superseded and not stored). */
+  /**
+   * Checks now and stores; returns the check (also when it was superseded and not stored), or null when the
+   * marker is gone or a fault of the server's own (reading the points, the database) kept it pending: then
+   * it is tried again by itself, less often each time (and on restart).
+   */
   async checkNow(markerId: string): Promise<Check | null> {
+    try {
+      const check = await this.checkOnce(markerId)
+      this.faults.delete(markerId)
+      return check
+    } catch (err) {
+      this.faulted(markerId, err)
+      return null
+    }
+  }
+
+  private async checkOnce(markerId: string): Promise<Check | null> {
     const row = await findMarker(this.db, markerId)
     if (!row) return null
     this.want(markerId, row.revision)
     const input: CheckInput = { kind: row.kind, anchors: row.anchors as StoredAnchor[], params: row.params as Record<string, unknown>, revision: row.revision }
     const ctx = await this.context(row.scene_id)
     ctx.cancelled = () => (this.wanted.get(markerId) ?? 0) > row.revision
-    let check: Check
     const started = performance.now()
-    try {
-      check = await checkMarker(input, ctx)
-    } catch (err) {
-      // A fault reading the points (not a property of the marker): it stays pending, retried on restart.
-      this.log.error({ err, markerId }, 'marker check failed; the marker stays pending')
-      return null
-    }
+    const check = await checkMarker(input, ctx)
     this.log.debug({ markerId, revision: row.revision, state: check.state, ms: Math.round(performance.now() - started) }, 'marker checked')
     if (check.state === 'pending') {
       // A scan it needs is still being processed: try again shortly (nothing is stored meanwhile).
@@ -58,6 +69,20 @@ export class MarkerChecker {
     if (stored && this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
     if (stored) await this.onStored?.(row.scene_id, markerId)
     return check
+  }
+
+  /** Not a property of the marker: it stays pending, and the check is asked again after a growing pause. */
+  private faulted(markerId: string, err: unknown): void {
+    const attempt = (this.faults.get(markerId) ?? 0) + 1
+    this.faults.set(markerId, attempt)
+    const delay = Math.min(FAULT_RETRY_MS * 2 ** (attempt - 1), FAULT_RETRY_MAX_MS)
+    this.log.error({ err, markerId, attempt, retryInMs: delay }, 'marker check failed; the marker stays pending and is tried again')
+    const timer = setTimeout(() => {
+      this.faultTimers.delete(timer)
+      this.schedule([{ id: markerId, revision: this.wanted.get(markerId) ?? 0 }])
+    }, delay)
+    timer.unref()
+    this.faultTimers.add(timer)
   }
 
   /** Queues checks in the background (a placement moved, settings changed, the server started). */
@@ -82,6 +107,9 @@ export class MarkerChecker {
   }
 
   private retryTimer: NodeJS.Timeout | null = null
+  /** Faults in a row per marker, and the timers of their retries. */
+  private readonly faults = new Map<string, number>()
+  private readonly faultTimers = new Set<NodeJS.Timeout>()
   private readonly deferred = new Map<string, number>()
 
   private retrySoon(id: string, revision: number): void {
@@ -96,11 +124,13 @@ export class MarkerChecker {
     this.retryTimer.unref()
   }
 
-  /** Stops the retry timer (shutdown). */
+  /** Stops the retry timers (shutdown). */
   stop(): void {
     if (this.retryTimer) clearTimeout(this.retryTimer)
     this.retryTimer = null
     this.deferred.clear()
+    for (const timer of this.faultTimers) clearTimeout(timer)
+    this.faultTimers.clear()
   }
 
   private want(id: string, revision: number): void {
@@ -111,7 +141,7 @@ export class MarkerChecker {
     try {
       while (this.queue.length) {
         const id = this.queue.shift()!
-        await this.checkNow(id).catch((err) => this.log.error({ err, markerId: id }, 'marker check failed'))
+        await this.checkNow(id)
       }
     } finally {
       this.running = null

@@ -143,6 +143,28 @@ describe('distance and angle', () => {
     expect(Math.hypot(...m.check.parts.map((p) => p.u))).toBeCloseTo(m.check.standardUncertainty!, 10)
   })
 
+  it('keeps a marker pending through a fault reading the points and checks it again by itself', async () => {
+    // A fault of the server's own (the points could not be read), not a property of the marker: common
+    // practice, no source. The first read fails; the retry a second later goes through.
+    const indexes = t.server.services.scanIndexes
+    const snap = indexes.snap
+    let failures = 0
+    indexes.snap = async function (...args) {
+      if (failures++ === 0) throw new Error('the points could not be read (test fault)')
+      return snap.apply(this, args)
+    }
+    try {
+      const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
+      expect(m.check.state).toBe('pending')
+      const later = await waitChecked(m.id, 0)
+      expect(later.check.state).toBe('checked')
+      expect(Math.abs(later.check.value! - 1.4)).toBeLessThan(later.check.expandedUncertainty!)
+      expect(failures).toBeGreaterThan(1)
+    } finally {
+      indexes.snap = snap
+    }
+  })
+
   it('calls coincident anchors invalid geometry', async () => {
     const m = await post({ kind: 'distance', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', -0.7, 0, 1)] })
     expect(m.check.state).toBe('invalid-geometry')

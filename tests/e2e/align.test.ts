@@ -10,7 +10,7 @@ import { invertRigid, multiplyRigid, rotationZ, transformPoint } from '@shared/g
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
 import { STATION_B } from '../../server/demo/synth/demoScans'
 import { DOOR, TARGETS } from '../../server/demo/synth/scene'
-import { shot, watchConsole } from '../utils/browser'
+import { shot, waitNonePending, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
 import type { TestServer } from '../utils/server'
 
@@ -65,7 +65,7 @@ it('aligns station B onto station A by the sphere targets, refines, accepts, and
   const hook = () => page.evaluate(() => (window as unknown as Hook).__spanmark.align.state())
   await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
   await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
-  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 30_000 })
+  await waitNonePending(page, 30_000)
 
   // The align tool: B moves, A stays (the first placement stays by default).
   await page.keyboard.press('t')

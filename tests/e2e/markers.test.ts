@@ -8,7 +8,7 @@ import type { Marker, Scene } from '@shared/schemas'
 import { formatWithUncertainty } from '@shared/format/units'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
 import { DOOR } from '../../server/demo/synth/scene'
-import { shot, watchConsole } from '../utils/browser'
+import { shot, waitNonePending, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
 import type { TestServer } from '../utils/server'
 
@@ -56,7 +56,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
   await page.waitForFunction(() => (window as unknown as Hook).__spanmark.viewer.stats().tilesPending === 0, null, { timeout: 30_000 })
   // The seeded markers are checked once the scans are ready.
-  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 30_000 })
+  await waitNonePending(page, 30_000)
   const seeded = await page.evaluate(() => (window as unknown as Hook).__spanmark.markers.count())
   const seededDistances = await page.evaluate(() => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length)
 
@@ -67,7 +67,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   const b = await pick([DOOR.halfWidth + 0.8, 0, 1.0])
   expect(a && b, 'both picks land on stored points').toBeTruthy()
   await page.waitForFunction((n) => (window as unknown as Hook).__spanmark.markers.list().filter((m) => m.kind === 'distance').length > n, seededDistances, { timeout: 20_000 })
-  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 20_000 })
+  await waitNonePending(page, 20_000)
   const list = async () => ((await (await page.request.get(`${t.url}/api/scenes/${scene.id}/markers`)).json()) as { markers: Marker[] }).markers
   const markers = await list()
   expect(markers).toHaveLength(seeded + 1)
@@ -152,7 +152,7 @@ it('shows a marker one person places to another within a second, with who is her
   const seenAt = (p: typeof mentor.page) => p.evaluate((id) => (window as unknown as Hook).__spanmark.markers.seenAt(id), placed.id)
   const seenAfterMs = (await seenAt(mentor.page))! - (await seenAt(measurer.page))!
   expect(seenAfterMs).toBeLessThan(1_000)
-  await mentor.page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 5_000 })
+  await waitNonePending(mentor.page, 5_000)
   // The measurer has the new marker open (the tool selects it): the mentor's table marks its row.
   await expect.poll(() => mentor.page.getByTestId('marker-row-editor').first().getAttribute('title'), { timeout: 5_000 }).toBe('Tomas Reyne has this marker open')
   await shot(mentor.page, '42-marker-seen-live')

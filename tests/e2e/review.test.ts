@@ -7,7 +7,7 @@ import type { Browser, Page } from 'playwright-core'
 import type { Marker, Scene } from '@shared/schemas'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
 import { listDevMail } from '../../server/repositories/mail'
-import { shot, watchConsole } from '../utils/browser'
+import { shot, waitNonePending, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
 import type { TestServer } from '../utils/server'
 
@@ -44,7 +44,7 @@ async function open(role: 'measurer' | 'mentor') {
   await page.waitForFunction(() => (window as unknown as Partial<Hook>).__spanmark?.viewer?.stats().firstFrameMs != null, null, { timeout: 30_000 })
   await expect.poll(() => page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
   // The seeded markers are checked once the scans are ready.
-  await page.waitForFunction(() => (window as unknown as Hook).__spanmark.markers.list().every((m) => m.state !== 'pending'), null, { timeout: 30_000 })
+  await waitNonePending(page, 30_000)
   return { page, context, problems }
 }
 

@@ -28,3 +28,31 @@ export function watchConsole(page: Page): string[] {
   })
   return problems
 }
+
+type PageHooks = {
+  __spanmark?: {
+    markers?: { list(): { label: string; state: string }[] }
+    live?: { status(): string; ready(): boolean }
+  }
+}
+
+/**
+ * Waits until the page shows no marker pending; on time-out the error names the markers still pending and the
+ * page's live state (whether both documents had synced), so a failure says which side held it up.
+ */
+export async function waitNonePending(page: Page, timeout: number): Promise<void> {
+  try {
+    await page.waitForFunction(() => {
+      const list = (window as unknown as PageHooks).__spanmark?.markers?.list()
+      return !!list && list.every((m) => m.state !== 'pending')
+    }, null, { timeout })
+  } catch (err) {
+    const seen = await page
+      .evaluate(() => {
+        const h = (window as unknown as PageHooks).__spanmark
+        return { pending: h?.markers?.list().filter((m) => m.state === 'pending').map((m) => m.label), live: h?.live ? { status: h.live.status(), ready: h.live.ready() } : null }
+      })
+      .catch(() => null)
+    throw new Error(`markers still pending after ${timeout} ms on the page: ${JSON.stringify(seen)}`, { cause: err })
+  }
+}
