@@ -45,7 +45,7 @@ export const projectRoutes: RouteDef[] = [
     path: '/projects/:projectId/members',
     access: { kind: 'project', right: 'view' },
     params: ProjectParams,
-    handler: async ({ services, params }) => ({ body: { members: await projects.members(services, params.projectId) } }),
+    handler: async ({ services, params, membership }) => ({ body: { members: await projects.members(services, params.projectId, membership!.role) } }),
   }),
   defineRoute({
     method: 'post',

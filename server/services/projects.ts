@@ -45,8 +45,10 @@ export async function removeProject(s: Services, projectId: string): Promise<voi
   await deleteProject(s.db, projectId)
 }
 
-export async function members(s: Services, projectId: string): Promise<Member[]> {
-  return (await listMembers(s.db, projectId)).map(toMember)
+/** The project's members; a guest (a viewing pass) sees their names and roles, not their e-mail addresses. */
+export async function members(s: Services, projectId: string, asRole: Role): Promise<Member[]> {
+  const list = (await listMembers(s.db, projectId)).map(toMember)
+  return asRole === 'guest' ? list.map((m) => ({ ...m, email: null })) : list
 }
 
 export async function addMember(s: Services, projectId: string, body: MemberAddBody): Promise<Member> {

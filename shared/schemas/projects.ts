@@ -54,7 +54,8 @@ export const ProjectResponse = z.object({ project: Project })
 export const Member = z.object({
   userId: Id,
   name: z.string(),
-  email: z.string(),
+  /** Null for a guest: a viewing pass shows who the team is, not how to reach them. */
+  email: z.string().nullable(),
   role: RoleSchema,
   joinedAt: Timestamp,
 })

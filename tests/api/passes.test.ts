@@ -123,6 +123,12 @@ describe('viewing passes', () => {
     expect((await agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers.map((m: { label: string }) => m.label)).toEqual(['sill to sill'])
     await agent.get(`/api/markers/${markerId}/history`).expect(200)
     await agent.get(`/api/projects/${projectId}/scans`).expect(200)
+    // Who the team is, not how to reach them: the members' names and roles without their e-mail addresses.
+    const seen = (await agent.get(`/api/projects/${projectId}/members`).expect(200)).body.members as { name: string; email: string | null }[]
+    expect(seen.length).toBeGreaterThan(0)
+    for (const m of seen) expect(m.email, m.name).toBeNull()
+    const asOwner = (await owner.agent.get(`/api/projects/${projectId}/members`).expect(200)).body.members as { email: string | null }[]
+    expect(asOwner.map((m) => m.email)).toContain(owner.email)
 
     // A real thing behind every path parameter, so each write reaches the rights check.
     const ids: Record<string, string> = {
