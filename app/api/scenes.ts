@@ -53,6 +53,11 @@ export async function getSheet(sceneId: string, checkpointId: string | null, sig
   return (await http.get(`${apiPath`/api/scenes/${sceneId}/sheet`}${query}`, SheetResponse, { signal })).sheet
 }
 
-export function sheetCsvPath(sceneId: string, checkpointId: string | null): string {
-  return `${apiPath`/api/scenes/${sceneId}/sheet.csv`}${checkpointId ? `?checkpoint=${encodeURIComponent(checkpointId)}` : ''}`
+/** The sheet's CSV: the markers (by default) or the scans used with their registration. */
+export function sheetCsvPath(sceneId: string, checkpointId: string | null, table: 'markers' | 'scans' = 'markers'): string {
+  const query = new URLSearchParams()
+  if (checkpointId) query.set('checkpoint', checkpointId)
+  if (table === 'scans') query.set('table', 'scans')
+  const q = query.toString()
+  return `${apiPath`/api/scenes/${sceneId}/sheet.csv`}${q ? `?${q}` : ''}`
 }

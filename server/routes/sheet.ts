@@ -1,5 +1,5 @@
-import { SceneParams, SheetQuery } from '@shared/schemas'
-import { sheetCsv, sheetOf } from '../services/sheet'
+import { SceneParams, SheetCsvQuery, SheetQuery } from '@shared/schemas'
+import { sheetCsv, sheetOf, sheetScansCsv } from '../services/sheet'
 import { defineRoute, type RouteDef } from './registry'
 
 export const sheetRoutes: RouteDef[] = [
@@ -16,12 +16,12 @@ export const sheetRoutes: RouteDef[] = [
     path: '/scenes/:sceneId/sheet.csv',
     access: { kind: 'project', right: 'view' },
     params: SceneParams,
-    query: SheetQuery,
+    query: SheetCsvQuery,
     handler: async ({ services, params, query, res }) => {
       const sheet = await sheetOf(services, params.sceneId, query.checkpoint)
-      const name = `${sheet.scene.name}${sheet.checkpoint ? ` - ${sheet.checkpoint.name}` : ''}`.replace(/[^\w .-]+/g, '_').slice(0, 80)
+      const name = `${sheet.scene.name}${sheet.checkpoint ? ` - ${sheet.checkpoint.name}` : ''}${query.table === 'scans' ? ' - scans' : ''}`.replace(/[^\w .-]+/g, '_').slice(0, 80)
       res.setHeader('Content-Disposition', `attachment; filename="${name}.csv"`)
-      res.status(200).type('text/csv; charset=utf-8').send(sheetCsv(sheet))
+      res.status(200).type('text/csv; charset=utf-8').send(query.table === 'scans' ? sheetScansCsv(sheet) : sheetCsv(sheet))
     },
   }),
 ]

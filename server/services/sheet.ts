@@ -84,6 +84,29 @@ export const SHEET_CSV_COLUMNS = [
   'checked_at',
 ] as const
 
+export const SHEET_SCANS_CSV_COLUMNS = [
+  'placement_id',
+  'scan_id',
+  'scan_name',
+  'point_count',
+  'spacing',
+  'point_uncertainty',
+  'registration_rms',
+  'registration_source',
+  'registration_moved_since',
+] as const
+
+/** The scans used, one row per placement, in metres as the API gives them. */
+export function sheetScansCsv(sheet: Sheet): string {
+  const lines = [SHEET_SCANS_CSV_COLUMNS.join(',')]
+  for (const s of sheet.scans) {
+    lines.push(
+      [s.placementId, s.scanId, s.name, s.pointCount, s.spacing, s.pointUncertainty, s.registrationRms, s.registrationSource, s.registrationMovedSince ? 'yes' : 'no'].map(field).join(','),
+    )
+  }
+  return `${lines.join('\r\n')}\r\n`
+}
+
 /** Values in SI (metres, degrees, square metres) at full precision, as the API gives them. */
 export function sheetCsv(sheet: Sheet): string {
   const lines = [SHEET_CSV_COLUMNS.join(',')]

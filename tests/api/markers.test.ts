@@ -432,6 +432,20 @@ describe('measurement sheet', () => {
       expect(row.value === '' ? null : Number(row.value)).toBe(m.check.value)
       expect(row.expanded_uncertainty === '' ? null : Number(row.expanded_uncertainty)).toBe(m.check.expandedUncertainty)
     }
+    // The scans used, with their registration, as their own table: the same numbers as the sheet's.
+    const scansCsv = await mentor.agent.get(`/api/scenes/${sceneId}/sheet.csv`).query({ table: 'scans' }).expect(200)
+    expect(scansCsv.headers['content-disposition']).toMatch(/ - scans\.csv"$/)
+    const scanRows = parse(scansCsv.text, { columns: true }) as Record<string, string>[]
+    expect(scanRows.map((r) => r.placement_id)).toEqual(sheet.scans.map((s: { placementId: string }) => s.placementId))
+    for (const s of sheet.scans as { placementId: string; name: string; pointCount: number; spacing: number; registrationRms: number | null }[]) {
+      const row = scanRows.find((r) => r.placement_id === s.placementId)!
+      expect(row.scan_name).toBe(s.name)
+      expect(Number(row.point_count)).toBe(s.pointCount)
+      expect(Number(row.spacing)).toBe(s.spacing)
+      expect(row.registration_rms === '' ? null : Number(row.registration_rms)).toBe(s.registrationRms)
+    }
+    const wrongTable = await mentor.agent.get(`/api/scenes/${sceneId}/sheet.csv`).query({ table: 'cells' }).expect(400)
+    expect(wrongTable.body.error.message).toMatch(/table/)
     // A label a spreadsheet would run as a formula stays text.
     const risky = await post({ kind: 'distance', label: '=1+2, "quoted"', anchors: [anchor('wide', -0.7, 0, 1), anchor('wide', 0.7, 0, 1)] })
     const again = parse((await owner.agent.get(`/api/scenes/${sceneId}/sheet.csv`).expect(200)).text, { columns: true }) as Record<string, string>[]

@@ -6,6 +6,7 @@
 // centres, and tolerances derived from the noise as stated beside each check.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import supertest from 'supertest'
+import { parse } from 'csv-parse/sync'
 import { Euler, Matrix4, Vector3 } from 'three'
 import type { Marker, Registration, RegistrationReport, Sheet } from '@shared/schemas'
 import { WORK_MAPS } from '@shared/collab/documents'
@@ -344,6 +345,10 @@ describe('accept and undo', () => {
     expect(row.registrationRms).toBe(accepted.rms)
     expect(row.registrationSource).toBe('check-points')
     expect(sheet.scans.find((s) => s.placementId === heldId)!.registrationRms).toBeNull()
+    // And its CSV of the scans used, read back by csv-parse (npm registry).
+    const csvRows = parse((await guest.agent.get(`/api/scenes/${sceneId}/sheet.csv?table=scans`).expect(200)).text, { columns: true }) as Record<string, string>[]
+    expect(csvRows.find((r) => r.placement_id === movingId)).toMatchObject({ registration_rms: String(accepted.rms), registration_source: 'check-points', registration_moved_since: 'no' })
+    expect(csvRows.find((r) => r.placement_id === heldId)!.registration_rms).toBe('')
     const report = (await guest.agent.get(`/api/scenes/${sceneId}/registrations`).expect(200)).body as RegistrationReport
     expect(report.placements.find((p) => p.instanceId === movingId)).toMatchObject({ registrationId: accepted.id, rms: accepted.rms, movedSince: false })
     expect(report.registrations[0]!.id).toBe(accepted.id)
