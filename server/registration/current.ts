@@ -6,7 +6,8 @@ import { latestAcceptedFits } from '../repositories/registrations'
  * accepted fit (undone ones do not count), and only while the placement still has the matrix that
  * registration left: moved since by hand (the gizmo, the form, the live document) or by another
  * registration's undo, the figure no longer describes where it is, so the placement counts as not aligned.
- * The held placement moving later is not looked at: the registration was relative to it then.
+ * The same holds when the placement it was aligned onto (the held one) has moved since: the two no longer
+ * agree as the fit found them.
  */
 export interface CurrentRegistration {
   registrationId: string
@@ -33,10 +34,14 @@ export interface PlacementState {
 
 export async function registrationStates(db: Conn, sceneId: string, instances: readonly { id: string; matrix: number[] }[]): Promise<Map<string, PlacementState>> {
   const latest = new Map((await latestAcceptedFits(db, sceneId)).map((r) => [r.moving_instance_id, r]))
+  const matrices = new Map(instances.map((i) => [i.id, i.matrix]))
   const out = new Map<string, PlacementState>()
   for (const i of instances) {
     const r = latest.get(i.id)
-    if (r && sameMatrix(r.matrix_after, i.matrix)) out.set(i.id, { current: { registrationId: r.id, rms: r.rms, rmsSource: r.rms_source, u: r.registration_u }, movedSince: false })
+    // A held placement since removed from the scene: nothing left to disagree with.
+    const held = r?.held_instance_id ? matrices.get(r.held_instance_id) : undefined
+    const heldStill = !r?.held_matrix || held === undefined || sameMatrix(r.held_matrix, held)
+    if (r && sameMatrix(r.matrix_after, i.matrix) && heldStill) out.set(i.id, { current: { registrationId: r.id, rms: r.rms, rmsSource: r.rms_source, u: r.registration_u }, movedSince: false })
     else out.set(i.id, { current: null, movedSince: r !== undefined })
   }
   return out

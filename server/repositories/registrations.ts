@@ -121,7 +121,7 @@ export function deleteDrafts(db: Conn, sceneId: string, movingInstanceId: string
 export function latestAcceptedFits(db: Conn, sceneId: string) {
   return db
     .selectFrom('registrations')
-    .select(['id', 'moving_instance_id', 'matrix_after', 'rms', 'rms_source', 'registration_u', 'accepted_at'])
+    .select(['id', 'moving_instance_id', 'held_instance_id', 'matrix_after', 'held_matrix', 'rms', 'rms_source', 'registration_u', 'accepted_at'])
     .distinctOn('moving_instance_id')
     .where('scene_id', '=', sceneId)
     .where('kind', '=', 'fit')

@@ -353,6 +353,18 @@ describe('accept and undo', () => {
     expect(report.placements.find((p) => p.instanceId === movingId)).toMatchObject({ registrationId: accepted.id, rms: accepted.rms, movedSince: false })
     expect(report.registrations[0]!.id).toBe(accepted.id)
     expect(report.registrations.every((r) => r.state !== 'draft')).toBe(true)
+    // The held placement moved after the fit: the two no longer agree as the fit found them, so the moving
+    // one counts as not aligned; put back, the registration holds again.
+    const heldNow = (await owner.agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances.find((i: { id: string }) => i.id === heldId).matrix as number[]
+    const heldNudged = [...heldNow]
+    heldNudged[13] = heldNudged[13]! + 0.02
+    await owner.agent.patch(`/api/instances/${heldId}`).send({ matrix: heldNudged }).expect(200)
+    const stale = (await guest.agent.get(`/api/scenes/${sceneId}/registrations`).expect(200)).body as RegistrationReport
+    expect(stale.placements.find((p) => p.instanceId === movingId)).toMatchObject({ registrationId: null, movedSince: true })
+    expect((await guest.agent.get(`/api/scenes/${sceneId}/sheet`).expect(200)).body.sheet.scans.find((x: { placementId: string }) => x.placementId === movingId)).toMatchObject({ registrationRms: null, registrationMovedSince: true })
+    await owner.agent.patch(`/api/instances/${heldId}`).send({ matrix: heldNow }).expect(200)
+    const back = (await guest.agent.get(`/api/scenes/${sceneId}/registrations`).expect(200)).body as RegistrationReport
+    expect(back.placements.find((p) => p.instanceId === movingId)).toMatchObject({ registrationId: accepted.id, movedSince: false })
     // Accepting twice is refused.
     expect((await owner.agent.post(`/api/registrations/${accepted.id}/accept`)).status).toBe(409)
     expect(refined.id).toBe(accepted.id)

@@ -13,7 +13,7 @@ import { smallLength } from '@/components/viewer/alignPairs'
 export function placementStatus(p: PlacementRegistration, reg: Registration | undefined, referenceFor: readonly string[] = []): string {
   if (!reg && !p.movedSince && referenceFor.length) return `the reference: ${referenceFor.map((n) => `“${n}”`).join(', ')} ${referenceFor.length === 1 ? 'is' : 'are'} aligned onto it`
   if (reg) return `aligned onto “${reg.heldName}” by ${reg.pairs.length ? `${reg.pairs.filter((x) => x.enabled).length} tie pairs` : 'ICP alone'}${reg.refine?.status === 'done' ? (reg.pairs.length ? ' and ICP' : '') : ''}`
-  if (p.movedSince) return 'moved since its registration: counts as not aligned'
+  if (p.movedSince) return 'it or the placement it was aligned onto moved since its registration: counts as not aligned'
   return 'not aligned (a reference, or placed by hand)'
 }
 
