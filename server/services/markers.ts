@@ -7,6 +7,7 @@ import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import * as revisions from '../repositories/markerRevisions'
 import { listInstances, touchScene } from '../repositories/scenes'
+import { latestAcceptedFits } from '../repositories/registrations'
 import type { Services } from '../types'
 import type { MarkerChecker } from '../markers/checker'
 import { toMarker } from './mappers'
@@ -244,13 +245,21 @@ export async function removeMarker(s: Services, markerId: string, options: { fro
 
 /**
  * A placement moved or was removed: the markers that depend on it go back to pending and are checked again,
- * and the signed-off ones among them return to open, saying which placement did what.
+ * and the signed-off ones among them return to open, saying which placement did what. The placements aligned
+ * onto it lose their registration with it (server/registration/current.ts), so their markers are checked
+ * again too, for the registration term in their uncertainty (their geometry did not change: no reopening).
  */
 export async function placementChanged(s: Services, sceneId: string, instanceId: string, change: { how: 'moved' | 'removed'; name: string; userId: string | null }): Promise<void> {
   const invalidated = await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId)
   const note = change.how === 'moved' ? REOPEN_NOTES.placementMoved(change.name) : REOPEN_NOTES.placementRemoved(change.name)
   await reopenSignedOff(s, sceneId, invalidated.map((m) => m.id), note, change.userId, { live: true })
-  await recheck(s, sceneId, invalidated)
+  // Newest revision per marker (one on both placements is counted up twice).
+  const pending = new Map(invalidated.map((m) => [m.id, m.revision]))
+  for (const r of await latestAcceptedFits(s.db, sceneId)) {
+    if (r.held_instance_id !== instanceId || r.moving_instance_id === instanceId) continue
+    for (const m of await repo.invalidateMarkersOfInstance(s.db, sceneId, r.moving_instance_id)) pending.set(m.id, m.revision)
+  }
+  await recheck(s, sceneId, [...pending].map(([id, revision]) => ({ id, revision })))
 }
 
 /** The project's tolerance or margin changed: every marker is checked again. */

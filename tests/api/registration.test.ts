@@ -358,7 +358,11 @@ describe('accept and undo', () => {
     const heldNow = (await owner.agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances.find((i: { id: string }) => i.id === heldId).matrix as number[]
     const heldNudged = [...heldNow]
     heldNudged[13] = heldNudged[13]! + 0.02
+    const sameHeldBefore = (await owner.agent.get(`/api/markers/${same.id}`).expect(200)).body.marker as Marker
     await owner.agent.patch(`/api/instances/${heldId}`).send({ matrix: heldNudged }).expect(200)
+    // The moving placement's own markers are checked again (its registration term changed), keeping their value.
+    const sameHeldMoved = await waitChecked(same.id, sameHeldBefore.check.basedOn)
+    expect(sameHeldMoved.check.value).toBeCloseTo(sameHeldBefore.check.value!, 12)
     const stale = (await guest.agent.get(`/api/scenes/${sceneId}/registrations`).expect(200)).body as RegistrationReport
     expect(stale.placements.find((p) => p.instanceId === movingId)).toMatchObject({ registrationId: null, movedSince: true })
     expect((await guest.agent.get(`/api/scenes/${sceneId}/sheet`).expect(200)).body.sheet.scans.find((x: { placementId: string }) => x.placementId === movingId)).toMatchObject({ registrationRms: null, registrationMovedSince: true })
