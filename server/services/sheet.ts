@@ -96,24 +96,26 @@ export const SHEET_SCANS_CSV_COLUMNS = [
   'registration_moved_since',
 ] as const
 
+/** A header line and one line per row, CRLF-ended (RFC 4180). */
+function csvTable(columns: readonly string[], rows: (string | number | null | undefined)[][]): string {
+  return [columns.join(','), ...rows.map((r) => r.map(field).join(','))].map((line) => `${line}\r\n`).join('')
+}
+
 /** The scans used, one row per placement, in metres as the API gives them. */
 export function sheetScansCsv(sheet: Sheet): string {
-  const lines = [SHEET_SCANS_CSV_COLUMNS.join(',')]
-  for (const s of sheet.scans) {
-    lines.push(
-      [s.placementId, s.scanId, s.name, s.pointCount, s.spacing, s.pointUncertainty, s.registrationRms, s.registrationSource, s.registrationMovedSince ? 'yes' : 'no'].map(field).join(','),
-    )
-  }
-  return `${lines.join('\r\n')}\r\n`
+  return csvTable(
+    SHEET_SCANS_CSV_COLUMNS,
+    sheet.scans.map((s) => [s.placementId, s.scanId, s.name, s.pointCount, s.spacing, s.pointUncertainty, s.registrationRms, s.registrationSource, s.registrationMovedSince ? 'yes' : 'no']),
+  )
 }
 
 /** Values in SI (metres, degrees, square metres) at full precision, as the API gives them. */
 export function sheetCsv(sheet: Sheet): string {
-  const lines = [SHEET_CSV_COLUMNS.join(',')]
-  for (const m of sheet.markers) {
-    const c = m.check
-    lines.push(
-      [
+  return csvTable(
+    SHEET_CSV_COLUMNS,
+    sheet.markers.map((m) => {
+      const c = m.check
+      return [
         m.id,
         m.kind,
         m.label,
@@ -132,9 +134,6 @@ export function sheetCsv(sheet: Sheet): string {
         m.updatedAt,
         c.checkedAt,
       ]
-        .map(field)
-        .join(','),
-    )
-  }
-  return `${lines.join('\r\n')}\r\n`
+    }),
+  )
 }
