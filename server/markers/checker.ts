@@ -9,17 +9,17 @@ import { registrationStates } from '../registration/current'
 import type { ScanIndexes } from '../types'
 import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, type CheckScan } from './check'
 
+/** How soon a check waiting for a scan to finish processing is tried again. */
+const RETRY_MS = 2000
+/** After a fault of the server's own: the first retry, doubled each time up to the longest. */
+const FAULT_RETRY_MS = 1000
+const FAULT_RETRY_MAX_MS = 60_000
+
 /**
  * Runs marker checks and stores their results. Latest wins: a check stores only if the marker still has the
  * revision it was computed for (a conditional update), and a check whose marker moved on meanwhile stops at
  * its next cancellation point. Background checks run one at a time, in the order asked.
  */
-/** How soon a check waiting for a scan to finish processing is tried again. */
-const RETRY_MS = 2000
-/** After a fault reading the points: the first retry, doubled each time up to the longest. */
-const FAULT_RETRY_MS = 1000
-const FAULT_RETRY_MAX_MS = 60_000
-
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
   private readonly wanted = new Map<string, number>()

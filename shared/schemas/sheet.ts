@@ -8,10 +8,10 @@ import { Marker } from './markers'
  * people; the scans used; the cautions. As the scene is now, or as a checkpoint froze it.
  */
 export const SheetQuery = z.object({ checkpoint: Id.optional() }).strict()
+export type SheetQuery = z.infer<typeof SheetQuery>
 /** The CSV's query: which table (the markers, or the scans used with their registration), and a checkpoint. */
 export const SheetCsvQuery = SheetQuery.extend({ table: z.enum(['markers', 'scans']).default('markers') }).strict()
 export type SheetCsvQuery = z.infer<typeof SheetCsvQuery>
-export type SheetQuery = z.infer<typeof SheetQuery>
 
 export const SheetScan = z.object({
   placementId: Id,
