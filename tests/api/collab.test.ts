@@ -11,7 +11,7 @@ import pino from 'pino'
 import { CLOSE_CODES, WORK_MAPS } from '@shared/collab/documents'
 import { Room } from '../../server/collab/room'
 import { countUpdates } from '../../server/repositories/sceneUpdates'
-import { liveClient } from '../utils/live'
+import { liveClient, synced } from '../utils/live'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
@@ -32,7 +32,6 @@ function client(cookie: string | null, path = sceneId, origin: string | null = n
   return c
 }
 
-const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
 async function until(check: () => boolean, ms = 5000): Promise<void> {
   const end = Date.now() + ms
   while (!check()) {

@@ -6,7 +6,7 @@ import { invertRigid, multiplyRigid, rotationZ, transformPoint } from '@shared/g
 import { CHEST, DOOR, TARGETS } from '../../server/demo/synth/scene'
 import { DEMO_SCENE, STATION_A, STATION_B } from '../../server/demo/synth/demoScans'
 import { LiveRecord, RECORD_MAPS } from '@shared/collab/documents'
-import { liveClient } from '../utils/live'
+import { liveClient, synced } from '../utils/live'
 import { waitForScan } from '../utils/scans'
 import { startTestServer, tokenOf, type TestServer } from '../utils/server'
 
@@ -93,7 +93,7 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   const measurer = await t.agent().post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'measurer')!.email, password: DEMO_PASSWORD }).expect(200)
   const live = liveClient(t.url, String(measurer.headers['set-cookie']![0]).split(';')[0]!, `${scene.id}/record`)
   try {
-    await new Promise<void>((resolve) => (live.provider.synced ? resolve() : live.provider.once('sync', (ok: boolean) => ok && resolve())))
+    await synced(live.provider)
     const records = live.doc.getMap<unknown>(RECORD_MAPS.markers)
     for (const m of markers) {
       const entry = LiveRecord.safeParse(records.get(m.id))

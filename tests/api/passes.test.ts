@@ -10,7 +10,7 @@ import { CLOSE_CODES } from '@shared/collab/documents'
 import { createLogger } from '../../server/logger'
 import { countUpdates } from '../../server/repositories/sceneUpdates'
 import { apiRoutes } from '../../server/routes'
-import { liveClient } from '../utils/live'
+import { liveClient, synced } from '../utils/live'
 import { guestAgent, signUpAgent, startTestServer, tokenOf, type TestServer } from '../utils/server'
 
 let t: TestServer
@@ -55,7 +55,6 @@ function live(cookie: string, path = sceneId) {
   open.push(c.provider)
   return c
 }
-const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
 const closeCode = (p: WebsocketProvider) =>
   new Promise<number>((resolve) =>
     p.on('connection-close', (event: CloseEvent | null) => {

@@ -14,7 +14,7 @@ import { RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/document
 import type { CommentThread, Marker, MarkerRevision } from '@shared/schemas'
 import { startFakeSmtp } from '../../server/fakes/smtp'
 import { listDevMail } from '../../server/repositories/mail'
-import { liveClient } from '../utils/live'
+import { liveClient, synced } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
 import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid } from '../utils/solids'
@@ -60,7 +60,6 @@ async function cookieOf(p: Person | { cookie: string }): Promise<string> {
   const res = await supertest(t.url).post('/api/auth/sign-in').set('Origin', t.url).send({ email: p.email, password: p.password }).expect(200)
   return String(res.headers['set-cookie']![0]).split(';')[0]!
 }
-const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
 async function live(p: Person | { cookie: string }, path: string) {
   const c = liveClient(t.url, await cookieOf(p), path)
   open.push(c.provider)

@@ -11,6 +11,9 @@ export interface LiveClient {
   markers: Y.Map<unknown>
 }
 
+/** Resolves once the provider has its first full sync with the server. */
+export const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
+
 /** Connects to `/collab/<path>` of the server at `url` (path: a scene id, or `<scene id>/record`). */
 export function liveClient(url: string, cookie: string | null, path: string, origin: string = url): LiveClient {
   const headers: Record<string, string> = { origin }
