@@ -8,6 +8,7 @@ import { PRODUCTION_LIMITS, PRODUCTION_RATE_LIMITS } from '../../server/config'
 import { writeBinaryPly } from '../../server/points/writers/plyWriter'
 import { insertMembership } from '../../server/repositories/memberships'
 import { ingestScan } from '../../server/points/ingest'
+import { liveClient, synced } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { SurfaceSampler } from '../utils/solids'
@@ -28,6 +29,12 @@ function plyOf(count: number): Buffer {
   const positions = new Float64Array(count * 3)
   for (let i = 0; i < count; i++) positions.set([(i % 50) * 0.01, Math.floor(i / 50) * 0.01, 0], i * 3)
   return writeBinaryPly({ count, positions })
+}
+
+/** A session cookie of the person's own, for a raw request or a live socket. */
+async function cookieOf(p: Person): Promise<string> {
+  const signedIn = await supertest(t.url).post('/api/auth/sign-in').set('Origin', t.url).send({ email: p.email, password: p.password }).expect(200)
+  return String(signedIn.headers['set-cookie']![0]).split(';')[0]!
 }
 
 async function newProject(p: Person, name: string): Promise<string> {
@@ -102,6 +109,25 @@ describe('markers and checks', () => {
     expect(list.body.markers).toHaveLength(LIMITS.markersPerScene)
   })
 
+  it('refuses a new marker beyond the limit through the live document too', async () => {
+    const cookie = await cookieOf(owner)
+    const w = liveClient(t.url, cookie, sceneId)
+    try {
+      await synced(w.provider)
+      const id = '5e0e0000-0000-4000-8000-00000000c0de'
+      const entry = distance(instanceId, 10)
+      w.markers.set(id, { kind: 'distance', label: 'one too many', anchors: entry.anchors, params: {} })
+      // Refused: put back out of the document (or the socket closed on it).
+      for (let i = 0; i < 100 && w.markers.has(id) && w.provider.wsconnected; i++) await new Promise((r) => setTimeout(r, 50))
+      const list = (await owner.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers as Marker[]
+      expect(list.map((m) => m.id)).not.toContain(id)
+      expect(list).toHaveLength(LIMITS.markersPerScene)
+    } finally {
+      w.provider.destroy()
+      w.doc.destroy()
+    }
+  })
+
   it('ends a section whose slab holds more points than one check may read in a state with the reason', async () => {
     const other = await sceneWithPlate(owner, projectId, scanId)
     // A vertical plane through two points of the plate is the plate's own plane: all 2601 points lie in the slab.
@@ -173,8 +199,7 @@ describe('uploads', () => {
   it('takes one upload per project at a time here, refusing the next with 429 until the first is done', async () => {
     const p = await signUpAgent(t, 'Parallel Uploader')
     const project = await newProject(p, 'Parallel')
-    const signedIn = await supertest(t.url).post('/api/auth/sign-in').set('Origin', t.url).send({ email: p.email, password: p.password }).expect(200)
-    const cookie = String(signedIn.headers['set-cookie']![0]).split(';')[0]!
+    const cookie = await cookieOf(p)
     // A slow upload: headers and the first part of the body, then nothing until the test ends it.
     const boundary = 'spanmarklimitboundary'
     const slow = http.request(`${t.url}/api/projects/${project}/scans`, {
