@@ -162,7 +162,13 @@ export class MarkerChecker {
         if (!next) break
         this.queued.delete(next.id)
         await this.checkNow(next.id)
-        if (!this.queues.has(next.projectId) && this.overflow.has(next.projectId)) await this.refill(next.projectId)
+        if (!this.queues.has(next.projectId) && this.overflow.has(next.projectId)) {
+          await this.refill(next.projectId).catch((err: unknown) => {
+            // They stay pending in PostgreSQL; the next check of the project (or a restart) reads them back.
+            this.overflow.add(next.projectId)
+            this.log.error({ err, projectId: next.projectId }, 'pending checks could not be read back; tried again later')
+          })
+        }
       }
     } finally {
       this.running = null
