@@ -52,7 +52,9 @@ export interface Config {
   logLevel: string
   argon2: { memoryCost: number; timeCost: number; parallelism: number }
   /** invite: invitations and viewing passes sent, per person; tokenUse: e-mailed links looked up, accepted or opened, per address. */
-  rateLimits: { signIn: RateLimit; passwordReset: RateLimit; signUp: RateLimit; invite: RateLimit; tokenUse: RateLimit }
+  rateLimits: { signIn: RateLimit; passwordReset: RateLimit; signUp: RateLimit; invite: RateLimit; tokenUse: RateLimit; upload: RateLimit }
+  /** What one check, project, scene or scan may cost the server (README, "Security and limits"). */
+  limits: CostLimits
   jsonLimit: string
   passwordResetTtlMs: number
   clientDir: string
@@ -73,6 +75,26 @@ export interface Config {
   commentMail: { gapMs: number; sweepMs: number }
 }
 
+export interface CostLimits {
+  /** Stored points one marker check may read (a section's slab over all its placements; a clearance's object). */
+  checkPoints: number
+  /** Background checks held in the queue per project; the rest wait, pending, in PostgreSQL. */
+  checksQueuedPerProject: number
+  markersPerScene: number
+  /** Uploads of one project being received and stored at once (per server process). */
+  uploadsInFlightPerProject: number
+  /** Processing attempts of a scan; one more crash or stall after the last fails it. */
+  ingestAttempts: number
+}
+
+export const PRODUCTION_LIMITS: CostLimits = {
+  checkPoints: 10_000_000,
+  checksQueuedPerProject: 200,
+  markersPerScene: 2000,
+  uploadsInFlightPerProject: 3,
+  ingestAttempts: 3,
+}
+
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */
 export const PRODUCTION_ARGON2 = { memoryCost: 19456, timeCost: 2, parallelism: 1 }
 export const PRODUCTION_RATE_LIMITS = {
@@ -81,6 +103,7 @@ export const PRODUCTION_RATE_LIMITS = {
   signUp: { windowMs: 60 * 60_000, limit: 20 },
   invite: { windowMs: 60 * 60_000, limit: 30 },
   tokenUse: { windowMs: 15 * 60_000, limit: 30 },
+  upload: { windowMs: 60 * 60_000, limit: 60 },
 }
 
 export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
@@ -113,8 +136,10 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
           signUp: { windowMs: 60_000, limit: 10_000 },
           invite: { windowMs: 60_000, limit: 10_000 },
           tokenUse: { windowMs: 60_000, limit: 10_000 },
+          upload: { windowMs: 60_000, limit: 10_000 },
         }
       : PRODUCTION_RATE_LIMITS,
+    limits: PRODUCTION_LIMITS,
     jsonLimit: '256kb',
     passwordResetTtlMs: 60 * 60_000,
     clientDir: new URL('../dist', import.meta.url).pathname,

@@ -94,7 +94,7 @@ export class SpanmarkServer {
         objects,
         boss,
         scanIndexes,
-        markerChecks: new MarkerChecker(db, scanIndexes, log),
+        markerChecks: new MarkerChecker(db, scanIndexes, log, { checkPoints: config.limits.checkPoints, queuedPerProject: config.limits.checksQueuedPerProject }),
         registrationJobs: new RegistrationJobs(log),
         live: NO_LIVE,
         log,
@@ -136,14 +136,24 @@ export class SpanmarkServer {
     }
   }
 
-  /** Queues again the scans whose worker died (no heartbeat) or that no worker ever took. */
+  /**
+   * Queues again the scans whose worker died (no heartbeat) or that no worker ever took; fails those out of
+   * attempts. A stale scan held by this server's own worker, still alive, means that worker stalled: it is
+   * killed, so the supervisor starts a fresh one and the queue moves on.
+   */
   private startSweeper(): void {
     const { db, boss, log } = this.services
     const sweep = async () => {
-      const stale = await requeueStaleScans(db, this.config.ingestStaleMs)
-      for (const { id } of stale) {
+      const { failed, queued } = await requeueStaleScans(db, this.config.ingestStaleMs, this.config.limits.ingestAttempts)
+      for (const { id } of failed) log.warn({ scanId: id, attempts: this.config.limits.ingestAttempts }, 'scan processing stalled on its last attempt; failed')
+      for (const { id } of queued) {
         log.warn({ scanId: id }, 'scan processing stalled; queued again')
         await sendIngest(boss, id)
+      }
+      const mine = this.worker?.claimName
+      if (mine && [...failed, ...queued].some((s) => s.claimed_by === mine)) {
+        log.warn({ worker: mine }, 'the ingest worker holds a stalled scan; starting a fresh one')
+        this.worker!.restart()
       }
     }
     void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed'))

@@ -62,8 +62,9 @@ export interface Services {
 export interface ScanIndexes {
   nearest(scanId: string, x: number, y: number, z: number, k: number, maxDistance?: number): Promise<{ x: number; y: number; z: number; distance: number }[]>
   snap(scanId: string, x: number, y: number, z: number): Promise<SnappedPoint | null>
-  slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number): Promise<Float64Array>
-  allPoints(scanId: string): Promise<Float64Array>
+  /** `maxPoints`: stop reading after maxPoints + 1 points (the caller's cap; see scanIndexes.ts). */
+  slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints?: number): Promise<Float64Array>
+  allPoints(scanId: string, maxPoints?: number): Promise<Float64Array>
   clearCaches(): Promise<void>
   forget(scanId: string): void
 }

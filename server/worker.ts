@@ -4,6 +4,7 @@
 import { loadConfig, type Config } from './config'
 import { createDb, createPool } from './db'
 import { INGEST_QUEUE, startBoss, type IngestJob } from './jobs/queue'
+import { workerName } from './jobs/supervisor'
 import { createLogger } from './logger'
 import { ingestScan } from './points/ingest'
 import { ObjectStore } from './storage/objects'
@@ -16,7 +17,7 @@ const boss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job
 
 await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
   for (const job of jobs) {
-    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs }, job.data.scanId)
+    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, name: workerName(process.pid) }, job.data.scanId)
   }
 })
 log.info('ingest worker ready')

@@ -10,8 +10,8 @@ export async function listUploadTokens(projectId: string, signal?: AbortSignal):
 }
 
 /** The answer carries the secret, which the server never shows again. */
-export function createUploadToken(projectId: string, label: string): Promise<UploadTokenCreated> {
-  return http.post(apiPath`/api/projects/${projectId}/upload-tokens`, { label }, UploadTokenCreated)
+export function createUploadToken(projectId: string, body: { label: string; expiresInDays: number }): Promise<UploadTokenCreated> {
+  return http.post(apiPath`/api/projects/${projectId}/upload-tokens`, body, UploadTokenCreated)
 }
 
 export function revokeUploadToken(tokenId: string): Promise<void> {

@@ -25,7 +25,7 @@ function useRefreshRigKeys(projectId: MaybeRefOrGetter<string>) {
 export function useCreateRigKey(projectId: MaybeRefOrGetter<string>) {
   const refresh = useRefreshRigKeys(projectId)
   return useMutation({
-    mutationFn: (label: string) => tokensApi.createUploadToken(toValue(projectId), label),
+    mutationFn: (body: { label: string; expiresInDays: number }) => tokensApi.createUploadToken(toValue(projectId), body),
     onSuccess: () => refresh(),
     meta: { inlineErrors: true },
   })

@@ -35,6 +35,10 @@ export interface ProjectsTable {
   /** Metres; null: max(3 x mean spacing, 5 mm). */
   anchor_tolerance: number | null
   required_margin: Generated<number>
+  /** Bytes the project may receive in any 24 hours (bigint: read as text). */
+  daily_upload_bytes: ColumnType<string, number | undefined, number>
+  /** Points a scan of the project may hold (bigint: read as text). */
+  max_scan_points: ColumnType<string, number | undefined, number>
   created_by: string | null
   created_at: Timestamp
   updated_at: Timestamp
@@ -80,6 +84,15 @@ export interface UploadTokensTable {
   created_at: Timestamp
   last_used_at: Date | null
   revoked_at: Date | null
+  expires_at: RequiredTimestamp
+}
+
+/** Bytes each upload brought to its project: the daily quota counts these (a deleted scan still counts). */
+export interface UploadUsageTable {
+  id: Generated<string>
+  project_id: string
+  size_bytes: number
+  created_at: Timestamp
 }
 
 export interface InvitesTable {
@@ -148,6 +161,10 @@ export interface ScansTable {
   uploaded_by: string | null
   upload_token_id: string | null
   heartbeat_at: Date | null
+  /** Processing attempts claimed so far; a scan whose third attempt crashed or stalled fails. */
+  attempts: Generated<number>
+  /** The worker process (host:pid) that claimed the latest attempt. */
+  claimed_by: string | null
   created_at: Timestamp
   updated_at: Timestamp
   ready_at: Date | null
@@ -320,6 +337,7 @@ export interface Database {
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
+  upload_usage: UploadUsageTable
   invites: InvitesTable
   guest_links: GuestLinksTable
   scans: ScansTable

@@ -1,10 +1,16 @@
 import { spawn, type ChildProcess } from 'node:child_process'
+import os from 'node:os'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
 import type pino from 'pino'
 import type { Config } from '../config'
 
 const WORKER_ENTRY = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', 'worker.ts')
+
+/** A worker process's name in `scans.claimed_by`. */
+export function workerName(pid: number): string {
+  return `${os.hostname()}:${pid}`
+}
 
 /**
  * Runs the ingest worker as a child process (its memory and any crash stay out of the web server) and
@@ -22,6 +28,16 @@ export class WorkerSupervisor {
 
   get pid(): number | undefined {
     return this.child?.pid
+  }
+
+  /** How the running worker names itself when it claims a scan (`host:pid`, see `workerName`). */
+  get claimName(): string | null {
+    return this.child?.pid ? workerName(this.child.pid) : null
+  }
+
+  /** Kills a stalled worker; the exit handler starts a new one. */
+  restart(): void {
+    if (this.child && this.child.exitCode === null) this.child.kill('SIGKILL')
   }
 
   start(): void {

@@ -64,6 +64,8 @@ export interface CheckContext {
   marker(id: string): Promise<CheckInput | undefined>
   /** Stops work early when a newer revision made this check moot (latest wins). */
   cancelled?: () => boolean
+  /** Stored points one check may read (config.limits.checkPoints); over it the check ends with a reason. */
+  maxPoints?: number
 }
 
 /** Fewer slab points than this give too-few-points (common practice, no source: below it no outline is meaningful). */
@@ -88,6 +90,11 @@ class Stop extends Error {
   ) {
     super(message)
   }
+}
+
+/** The reason of a check that would read more stored points than one check may. */
+function tooManyPoints(what: string, cap: number, narrow: string): string {
+  return `${what} holds more than ${cap.toLocaleString('en-GB')} stored points, the most one check reads: ${narrow}.`
 }
 
 interface Snapped {
@@ -289,14 +296,18 @@ async function computeSection(input: CheckInput, s: Snapped[], ctx: CheckContext
   const ids = params.instanceIds ?? [...new Set(input.anchors.map((a) => a.instanceId))]
   const chunks: Float64Array[] = []
   let spacing = 0, pointU = 0, rms = 0
+  const cap = ctx.maxPoints ?? Infinity
+  let read = 0
   for (const id of ids) {
     const { placement, scan } = placementOf(ctx, id, 'a placement the section cuts')
     const inv = invertRigid(placement.matrix)
     const o = transformPoint(inv, origin[0], origin[1], origin[2])
     const r = inv
     const n = [r[0]! * frame.n[0] + r[4]! * frame.n[1] + r[8]! * frame.n[2], r[1]! * frame.n[0] + r[5]! * frame.n[1] + r[9]! * frame.n[2], r[2]! * frame.n[0] + r[6]! * frame.n[1] + r[10]! * frame.n[2]]
-    const local = await ctx.points.slab(placement.scanId, o, n, params.thickness / 2)
+    const local = await ctx.points.slab(placement.scanId, o, n, params.thickness / 2, cap - read)
     if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
+    read += local.length / 3
+    if (read > cap) throw new Stop('invalid-geometry', tooManyPoints('the slab', cap, ids.length > 1 ? 'make the slab thinner, or let the section cut fewer placements' : 'make the slab thinner, or place the section across a smaller part of the scan'))
     const m = placement.matrix
     for (let i = 0; i < local.length; i += 3) {
       const [x, y, z] = transformPoint(m, local[i]!, local[i + 1]!, local[i + 2]!)
@@ -467,8 +478,10 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const cos = dir[0] * n[0] + dir[1] * n[1] + dir[2] * n[2]
   if (Math.abs(cos) < GRAZING_COS) throw new Stop('invalid-geometry', 'the direction of travel runs (almost) along the opening instead of through it.')
 
-  const local = await ctx.points.allPoints(object.scanId)
+  const cap = ctx.maxPoints ?? Infinity
+  const local = await ctx.points.allPoints(object.scanId, cap)
   if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
+  if (local.length / 3 > cap) throw new Stop('invalid-geometry', tooManyPoints("the object's scan", cap, 'upload the object as a scan of its own, cropped to the object (or thinned), and place that instead'))
   const count = local.length / 3
   if (count < 3) throw new Stop('invalid-geometry', 'the object has no stored points.')
   // Project each object point along the direction of travel onto the section plane, then to u v.

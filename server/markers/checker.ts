@@ -2,7 +2,7 @@ import type pino from 'pino'
 import type { Check } from '@shared/schemas'
 import type { Db } from '../db'
 import { findMarkerSettings } from '../repositories/projects'
-import { findMarker, pendingMarkers, storeCheck, type StoredAnchor } from '../repositories/markers'
+import { findMarker, pendingMarkers, pendingMarkersOfProject, projectsOfMarkers, storeCheck, type StoredAnchor } from '../repositories/markers'
 import { listInstances, projectOfScene } from '../repositories/scenes'
 import { findScan } from '../repositories/scans'
 import { registrationStates } from '../registration/current'
@@ -18,21 +18,38 @@ const FAULT_RETRY_MAX_MS = 60_000
 /**
  * Runs marker checks and stores their results. Latest wins: a check stores only if the marker still has the
  * revision it was computed for (a conditional update), and a check whose marker moved on meanwhile stops at
- * its next cancellation point. Background checks run one at a time, in the order asked.
+ * its next cancellation point.
+ *
+ * Background checks run one at a time, taking the projects in turn (one project's thousand re-checks do
+ * not hold up another's one). A project holds at most `limits.queuedPerProject` checks in the queue; the
+ * rest are not lost: their markers stay pending in PostgreSQL (every scheduled marker is), and once the
+ * project's queue has emptied they are read back from there, oldest change first.
  */
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
   private readonly wanted = new Map<string, number>()
   /** Told of every stored check (the record document). */
   onStored: ((sceneId: string, markerId: string) => Promise<void>) | null = null
-  private readonly queue: string[] = []
+  /** Asked for, project not yet known. */
+  private readonly incoming = new Set<string>()
+  /** Per project, in the order asked; the map's order is the turn order. */
+  private readonly queues = new Map<string, string[]>()
+  private readonly queued = new Set<string>()
+  /** Projects with pending markers left out of the queue (it was full). */
+  private readonly overflow = new Set<string>()
   private running: Promise<void> | null = null
 
   constructor(
     private readonly db: Db,
     private readonly points: ScanIndexes,
     private readonly log: pino.Logger,
+    private readonly limits: { checkPoints: number; queuedPerProject: number } = { checkPoints: Infinity, queuedPerProject: Infinity },
   ) {}
+
+  /** Checks waiting in the queue for a project (diagnostics and tests). */
+  queuedFor(projectId: string): number {
+    return this.queues.get(projectId)?.length ?? 0
+  }
 
   /**
    * Checks now and stores; returns the check (also when it was superseded and not stored), or null when the
@@ -89,9 +106,9 @@ export class MarkerChecker {
   schedule(markers: readonly { id: string; revision: number }[]): void {
     for (const m of markers) {
       this.want(m.id, m.revision)
-      if (!this.queue.includes(m.id)) this.queue.push(m.id)
+      if (!this.queued.has(m.id)) this.incoming.add(m.id)
     }
-    if (!this.running && this.queue.length) this.running = this.drain()
+    if (!this.running && this.incoming.size) this.running = this.drain()
   }
 
   /** Every marker left pending (a restart mid-check) is checked again. */
@@ -139,13 +156,74 @@ export class MarkerChecker {
 
   private async drain(): Promise<void> {
     try {
-      while (this.queue.length) {
-        const id = this.queue.shift()!
-        await this.checkNow(id)
+      for (;;) {
+        if (this.incoming.size) await this.sortIncoming()
+        const next = this.nextInTurn()
+        if (!next) break
+        this.queued.delete(next.id)
+        await this.checkNow(next.id)
+        if (!this.queues.has(next.projectId) && this.overflow.has(next.projectId)) {
+          await this.refill(next.projectId).catch((err: unknown) => {
+            // They stay pending in PostgreSQL; the next check of the project (or a restart) reads them back.
+            this.overflow.add(next.projectId)
+            this.log.error({ err, projectId: next.projectId }, 'pending checks could not be read back; tried again later')
+          })
+        }
       }
     } finally {
       this.running = null
     }
+    // Asked for while the last check ran.
+    if (this.incoming.size && !this.running) this.running = this.drain()
+  }
+
+  /** Puts what was asked for into its project's queue, as far as the project's cap allows. */
+  private async sortIncoming(): Promise<void> {
+    const ids = [...this.incoming]
+    this.incoming.clear()
+    const rows = await projectsOfMarkers(this.db, ids).catch((err: unknown) => {
+      // The database did not answer: ask again in a moment, nothing dropped.
+      for (const id of ids) this.faulted(id, err)
+      return []
+    })
+    for (const { id, project_id: projectId } of rows) {
+      if (this.queued.has(id)) continue
+      const queue = this.queues.get(projectId) ?? []
+      if (queue.length >= this.limits.queuedPerProject) {
+        this.overflow.add(projectId)
+        continue
+      }
+      queue.push(id)
+      this.queued.add(id)
+      this.queues.set(projectId, queue)
+    }
+  }
+
+  /** The first project in turn gives one check and goes to the back of the line. */
+  private nextInTurn(): { id: string; projectId: string } | null {
+    const first = this.queues.entries().next()
+    if (first.done) return null
+    const [projectId, queue] = first.value
+    const id = queue.shift()!
+    this.queues.delete(projectId)
+    if (queue.length) this.queues.set(projectId, queue)
+    return { id, projectId }
+  }
+
+  /** The project's queue has emptied: its markers left out meanwhile come back from PostgreSQL. */
+  private async refill(projectId: string): Promise<void> {
+    this.overflow.delete(projectId)
+    const cap = this.limits.queuedPerProject
+    const waiting = (id: string) => this.deferred.has(id) || this.faults.has(id) || this.queued.has(id)
+    const rows = await pendingMarkersOfProject(this.db, projectId, cap + 1 + this.deferred.size + this.faults.size)
+    const again = rows.filter((r) => !waiting(r.id)).slice(0, cap + 1)
+    // One more than fits: there are more to read back after these.
+    if (again.length > cap) this.overflow.add(projectId)
+    for (const r of again.slice(0, cap)) {
+      this.want(r.id, r.revision)
+      this.incoming.add(r.id)
+    }
+    if (again.length) this.log.debug({ projectId, markers: again.length }, 'checks of a full queue read back')
   }
 
   private async context(sceneId: string): Promise<CheckContext> {
@@ -163,6 +241,7 @@ export class MarkerChecker {
     const projectId = (await projectOfScene(this.db, sceneId))?.project_id ?? ''
     const settings = await findMarkerSettings(this.db, projectId)
     return {
+      maxPoints: this.limits.checkPoints,
       placements,
       scans,
       settings: { anchorTolerance: settings?.anchor_tolerance ?? null, requiredMargin: settings?.required_margin ?? 0.05 },

@@ -1,7 +1,8 @@
 import { ipKeyGenerator, rateLimit } from 'express-rate-limit'
-import type { RequestHandler } from 'express'
+import type { Request, RequestHandler } from 'express'
 import { ErrorCode } from '@shared/schemas/common'
 import type { Config } from '../config'
+import { hashSecret } from '../auth/tokens'
 import type { LimiterName } from '../routes/registry'
 
 const WHAT: Record<LimiterName, string> = {
@@ -10,6 +11,15 @@ const WHAT: Record<LimiterName, string> = {
   signUp: 'sign-ups',
   invite: 'invitations and viewing passes',
   tokenUse: 'invitation and pass links',
+  upload: 'uploads',
+}
+
+/** Per person: the signed-in account, or the rig key (by its hash) that stands in for one. */
+function personKey(req: Request): string {
+  if (req.user) return `user:${req.user.id}`
+  const bearer = /^Bearer\s+(\S+)$/i.exec(req.headers.authorization ?? '')
+  if (bearer) return `rig:${hashSecret(bearer[1]!)}`
+  return ipKeyGenerator(req.ip ?? '')
 }
 
 export function createLimiters(limits: Config['rateLimits']): Record<LimiterName, RequestHandler> {
@@ -22,14 +32,16 @@ export function createLimiters(limits: Config['rateLimits']): Record<LimiterName
       // Sign-in counts failed attempts only (password guessing), so a team signing in from one address is not locked out.
       skipSuccessfulRequests: name === 'signIn',
       // Invitations count per person (the session runs before the limiter), so one owner cannot flood inboxes from many addresses.
-      ...(name === 'invite' ? { keyGenerator: (req) => (req.user ? `user:${req.user.id}` : ipKeyGenerator(req.ip ?? '')) } : {}),
+      // Uploads count per person too (a rig key counts as its own person).
+      ...(name === 'invite' || name === 'upload' ? { keyGenerator: personKey } : {}),
       handler: (_req, res, _next, options) => {
         const minutes = Math.ceil(options.windowMs / 60_000)
-        const from = name === 'invite' ? 'from you' : 'from this address'
+        const from = name === 'invite' || name === 'upload' ? 'from you' : 'from this address'
+        const limit = name === 'upload' ? ` (at most ${limits[name].limit} in ${minutes} minutes per person or rig key)` : ''
         res.status(429).json({
-          error: { code: ErrorCode.tooManyRequests, message: `Too many ${WHAT[name]} ${from}. Try again in ${minutes} minutes.` },
+          error: { code: ErrorCode.tooManyRequests, message: `Too many ${WHAT[name]} ${from}${limit}. Try again in ${minutes} minutes.` },
         })
       },
     })
-  return { signIn: make('signIn'), passwordReset: make('passwordReset'), signUp: make('signUp'), invite: make('invite'), tokenUse: make('tokenUse') }
+  return { signIn: make('signIn'), passwordReset: make('passwordReset'), signUp: make('signUp'), invite: make('invite'), tokenUse: make('tokenUse'), upload: make('upload') }
 }

@@ -15,6 +15,10 @@ export interface IngestDeps {
   log: pino.Logger
   lazLimitBytes: number
   staleMs: number
+  /** Processing attempts a scan gets (crashes and stalls included); the next claim fails it. */
+  maxAttempts: number
+  /** This process as `claimed_by` records it (host:pid). */
+  name?: string
 }
 
 /** Share of the job each stage takes, for the progress bar (parsing dominates for text formats). */
@@ -22,6 +26,24 @@ const READ_SHARE = 0.55
 const STATS_SHARE = 0.1
 
 const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log' }
+
+/** A file with more points than its project allows; its message says the limit and how to split the file. */
+export class PointLimitError extends Error {}
+
+/**
+ * The message for a file over the project's point limit: from its header's count when it has one, else
+ * from the point where reading stopped.
+ */
+export function pointLimitMessage(limit: number, declared: number | null, format: ScanFormat | null): string {
+  const n = (v: number) => v.toLocaleString('en-GB')
+  const holds = declared !== null ? `its header declares ${n(declared)} points` : `reading stopped after ${n(limit)} points, with more to come`
+  const how = format === 'station-log'
+    ? 'split the station log into runs of readings of at most that many and upload each as its own scan'
+    : format === 'xyz'
+      ? 'split the file into parts of at most that many lines (for example by area) and upload each part as its own scan'
+      : 'split the file into parts of at most that many points (for example by area, with the tool that wrote it) and upload each part as its own scan'
+  return `The scan has more points than this project allows: ${holds}, and the limit per scan is ${n(limit)}. To load it, ${how}, or ask the project's owner to raise "Points per scan" in the project's settings.`
+}
 
 /** Collects the first bytes of a stream without losing them. */
 async function* withSniff(stream: Readable, onFirst: (bytes: Uint8Array) => void): AsyncGenerator<Uint8Array> {
@@ -58,8 +80,10 @@ async function* withSniff(stream: Readable, onFirst: (bytes: Uint8Array) => void
  */
 export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'done' | 'skipped' | 'failed'> {
   const { db, log } = deps
-  const scan = await claimScan(db, scanId, deps.staleMs)
+  const scan = await claimScan(db, scanId, deps.staleMs, deps.maxAttempts, deps.name ?? null)
   if (!scan) return 'skipped'
+  const project = await db.selectFrom('projects').select('max_scan_points').where('id', '=', scan.project_id).executeTakeFirst()
+  const pointLimit = Number(project?.max_scan_points ?? Infinity)
   const size = Number(scan.size_bytes)
   let lastWrite = 0
   let pending: Promise<unknown> = Promise.resolve()
@@ -91,15 +115,25 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
       // No byteLength: a file cut short then fails where it ends ("byte 722: file ends inside point 51"),
       // which says more than a header-versus-size mismatch; nothing is allocated from the header's count.
-      reader = createReader(format, { onBatch: (b) => buffer.append(b), reuseBuffers: true, maxLazBytes: deps.lazLimitBytes })
+      reader = createReader(format, {
+        onBatch: (b) => {
+          // Before the points are kept: the buffer never grows past the project's limit.
+          if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? null, format))
+          buffer.append(b)
+        },
+        reuseBuffers: true,
+        maxLazBytes: deps.lazLimitBytes,
+      })
       report(0, `reading ${format}`, true)
     })) {
       reader!.push(chunk)
       // Sized once from the header (growing to 10 M points costs twice the memory and time), but never
       // beyond one point per byte of the file, so a lying header cannot allocate billions.
       const declared = reader!.header?.declaredPointCount
+      // A header over the limit fails before anything is sized from it (LAZ: before it is decompressed).
+      if (declared && declared > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declared, format))
       if (!reserved && declared) {
-        buffer.reserve(Math.min(declared, size))
+        buffer.reserve(Math.min(declared, size, pointLimit))
         reserved = true
       }
       read += chunk.length
@@ -181,8 +215,8 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     return 'done'
   } catch (err) {
     await pending.catch(() => {})
-    const message = err instanceof ScanFormatError ? err.message : `processing failed: ${err instanceof Error ? err.message : String(err)}`
-    if (!(err instanceof ScanFormatError)) log.error({ err, scanId }, 'scan processing failed')
+    const message = err instanceof ScanFormatError || err instanceof PointLimitError ? err.message : `processing failed: ${err instanceof Error ? err.message : String(err)}`
+    if (!(err instanceof ScanFormatError || err instanceof PointLimitError)) log.error({ err, scanId }, 'scan processing failed')
     await deleteTiles(db, scanId).catch(() => {})
     await updateScan(db, scanId, { status: 'failed', stage: null, error: message, heartbeat_at: null }).catch(() => {})
     return 'failed'

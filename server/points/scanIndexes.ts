@@ -63,17 +63,22 @@ export class ScanIndexRegistry implements ScanIndexes {
     return { x: found.x, y: found.y, z: found.z, distance: found.distance, uncertainty: index.uncertaintyOf(found.key, found.index) }
   }
 
-  /** Stored points within `half` of a plane (scan frame), as x y z triples, float64. */
-  async slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number): Promise<Float64Array> {
+  /**
+   * Stored points within `half` of a plane (scan frame), as x y z triples, float64. With `maxPoints`, reading
+   * stops at maxPoints + 1 points: the caller tells an over-full slab by the length, and no more is held.
+   */
+  async slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints = Infinity): Promise<Float64Array> {
     const out = new GrowableXyz()
-    await (await this.index(scanId)).forEachPointInSlab(origin, normal, half, (x, y, z) => out.push(x, y, z))
+    const index = await this.index(scanId)
+    await collectUpTo(out, maxPoints, (visit) => index.forEachPointInSlab(origin, normal, half, visit))
     return out.array()
   }
 
-  /** Every stored point of the scan (scan frame), x y z triples. */
-  async allPoints(scanId: string): Promise<Float64Array> {
+  /** Every stored point of the scan (scan frame), x y z triples; with `maxPoints`, as `slab`. */
+  async allPoints(scanId: string, maxPoints = Infinity): Promise<Float64Array> {
     const out = new GrowableXyz()
-    await (await this.index(scanId)).forEachPoint((x, y, z) => out.push(x, y, z))
+    const index = await this.index(scanId)
+    await collectUpTo(out, maxPoints, (visit) => index.forEachPoint(visit))
     return out.array()
   }
 
@@ -92,6 +97,20 @@ export class ScanIndexRegistry implements ScanIndexes {
   }
 }
 
+/** Thrown from a visitor to stop a walk once the cap is passed (the tree walks have no other way out). */
+const FULL = Symbol('full')
+
+async function collectUpTo(out: GrowableXyz, maxPoints: number, walk: (visit: (x: number, y: number, z: number) => void) => Promise<unknown>): Promise<void> {
+  try {
+    await walk((x, y, z) => {
+      out.push(x, y, z)
+      if (out.count > maxPoints) throw FULL
+    })
+  } catch (err) {
+    if (err !== FULL) throw err
+  }
+}
+
 /** An x y z list that doubles its float64 store as it grows. */
 class GrowableXyz {
   private data = new Float64Array(3 * 4096)
@@ -106,6 +125,10 @@ class GrowableXyz {
     this.data[this.length++] = x
     this.data[this.length++] = y
     this.data[this.length++] = z
+  }
+
+  get count(): number {
+    return this.length / 3
   }
 
   array(): Float64Array {

@@ -51,6 +51,11 @@ export function projectOfMarker(db: Conn, markerId: string) {
   return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select('s.project_id').where('m.id', '=', markerId).executeTakeFirst()
 }
 
+export async function countMarkersInScene(db: Conn, sceneId: string): Promise<number> {
+  const row = await db.selectFrom('markers').select((e) => e.fn.countAll<string>().as('n')).where('scene_id', '=', sceneId).executeTakeFirstOrThrow()
+  return Number(row.n)
+}
+
 export function countMarkersOfKind(db: Conn, sceneId: string, kind: MarkerKind) {
   return db
     .selectFrom('markers')
@@ -159,6 +164,25 @@ export function invalidateMarkersOfProject(db: Conn, projectId: string) {
     .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
     .where('scene_id', 'in', db.selectFrom('scenes').select('id').where('project_id', '=', projectId))
     .returning(['id', 'revision'])
+    .execute()
+}
+
+/** The project of each marker (markers since deleted are left out). */
+export function projectsOfMarkers(db: Conn, ids: readonly string[]) {
+  if (!ids.length) return Promise.resolve([])
+  return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select(['m.id', 's.project_id']).where('m.id', 'in', ids).execute()
+}
+
+/** Up to `limit` pending markers of a project, oldest change first. */
+export function pendingMarkersOfProject(db: Conn, projectId: string, limit: number) {
+  return db
+    .selectFrom('markers as m')
+    .innerJoin('scenes as s', 's.id', 'm.scene_id')
+    .select(['m.id', 'm.revision'])
+    .where('s.project_id', '=', projectId)
+    .where('m.check_state', '=', 'pending')
+    .orderBy('m.updated_at')
+    .limit(limit)
     .execute()
 }
 

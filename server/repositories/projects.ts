@@ -10,6 +10,8 @@ const projectWithRole = (db: Conn) =>
       'p.description',
       'p.anchor_tolerance',
       'p.required_margin',
+      'p.daily_upload_bytes',
+      'p.max_scan_points',
       'p.created_at',
       'p.updated_at',
       'm.role',
@@ -36,6 +38,8 @@ export function findProjectWithCount(db: Conn, projectId: string) {
       'p.description',
       'p.anchor_tolerance',
       'p.required_margin',
+      'p.daily_upload_bytes',
+      'p.max_scan_points',
       'p.created_at',
       'p.updated_at',
       eb.selectFrom('memberships as c').whereRef('c.project_id', '=', 'p.id').select((e) => e.fn.countAll<string>().as('n')).as('member_count'),
@@ -55,15 +59,17 @@ export function insertProject(db: Conn, values: { name: string; description: str
 export function updateProject(
   db: Conn,
   projectId: string,
-  values: { name?: string; description?: string; anchorTolerance?: number | null; requiredMargin?: number },
+  values: { name?: string; description?: string; anchorTolerance?: number | null; requiredMargin?: number; dailyUploadBytes?: number; maxScanPoints?: number },
 ) {
-  const { anchorTolerance, requiredMargin, ...rest } = values
+  const { anchorTolerance, requiredMargin, dailyUploadBytes, maxScanPoints, ...rest } = values
   return db
     .updateTable('projects')
     .set({
       ...rest,
       ...(anchorTolerance !== undefined ? { anchor_tolerance: anchorTolerance } : {}),
       ...(requiredMargin !== undefined ? { required_margin: requiredMargin } : {}),
+      ...(dailyUploadBytes !== undefined ? { daily_upload_bytes: dailyUploadBytes } : {}),
+      ...(maxScanPoints !== undefined ? { max_scan_points: maxScanPoints } : {}),
       updated_at: new Date(),
     })
     .where('id', '=', projectId)

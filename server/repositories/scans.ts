@@ -34,12 +34,15 @@ export function deleteScan(db: Conn, scanId: string) {
 /**
  * Takes a scan for processing: queued, or processing with a heartbeat older than `staleMs` (its worker
  * died). Returns nothing when another live worker has it or it is finished, so duplicate jobs are harmless.
+ * Each claim counts an attempt; a scan that has had `maxAttempts` is not taken again (the sweeper fails it).
+ * `worker` names the claiming process (host:pid), so a server can tell that its own worker stalled.
  */
-export function claimScan(db: Conn, scanId: string, staleMs: number) {
+export function claimScan(db: Conn, scanId: string, staleMs: number, maxAttempts: number, worker: string | null = null) {
   return db
     .updateTable('scans')
-    .set({ status: 'processing', progress: 0, stage: 'starting', error: null, heartbeat_at: sql`now()`, updated_at: sql`now()` })
+    .set((eb) => ({ status: 'processing', progress: 0, stage: 'starting', error: null, heartbeat_at: sql`now()`, updated_at: sql`now()`, attempts: eb('attempts', '+', 1), claimed_by: worker }))
     .where('id', '=', scanId)
+    .where('attempts', '<', maxAttempts)
     .where((eb) =>
       eb.or([
         eb('status', '=', 'queued'),
@@ -50,20 +53,37 @@ export function claimScan(db: Conn, scanId: string, staleMs: number) {
     .executeTakeFirst()
 }
 
-/** Scans whose worker stopped beating, or that were queued long ago and never taken: to be queued again. */
-export function requeueStaleScans(db: Conn, staleMs: number) {
+/** Why a scan out of attempts failed: what happened, how often, and what to do. */
+export function attemptsMessage(attempts: number): string {
+  return `Processing stopped ${attempts} times without finishing (the worker crashed or stalled each time), so the scan was given up to keep the queue moving. The file may be damaged or too large for the worker's memory: check it, or split it into smaller parts, and upload it again.`
+}
+
+/**
+ * Scans whose worker stopped beating, or that were queued long ago and never taken. Those with attempts left
+ * are queued again; those that used their `maxAttempts` fail with a message (they would only stall again).
+ */
+export async function requeueStaleScans(db: Conn, staleMs: number, maxAttempts: number) {
   const secs = staleMs / 1000
-  return db
+  const stale = (eb: any) =>
+    eb.or([
+      eb.and([eb('status', '=', 'processing'), eb('heartbeat_at', '<', sql<Date>`now() - make_interval(secs => ${secs})`)]),
+      eb.and([eb('status', '=', 'queued'), eb('updated_at', '<', sql<Date>`now() - make_interval(secs => ${secs * 4})`)]),
+    ])
+  const failed = await db
+    .updateTable('scans')
+    .set({ status: 'failed', stage: null, heartbeat_at: null, error: attemptsMessage(maxAttempts), updated_at: sql`now()` })
+    .where(stale)
+    .where('attempts', '>=', maxAttempts)
+    .returning(['id', 'claimed_by'])
+    .execute()
+  const queued = await db
     .updateTable('scans')
     .set({ status: 'queued', stage: 'waiting for a worker again', updated_at: sql`now()` })
-    .where((eb) =>
-      eb.or([
-        eb.and([eb('status', '=', 'processing'), eb('heartbeat_at', '<', sql<Date>`now() - make_interval(secs => ${secs})`)]),
-        eb.and([eb('status', '=', 'queued'), eb('updated_at', '<', sql<Date>`now() - make_interval(secs => ${secs * 4})`)]),
-      ]),
-    )
-    .returning('id')
+    .where(stale)
+    .where('attempts', '<', maxAttempts)
+    .returning(['id', 'claimed_by'])
     .execute()
+  return { failed, queued }
 }
 
 export function listTiles(db: Conn, scanId: string) {
@@ -97,4 +117,19 @@ export async function getTilesForSearch(db: Conn, scanId: string, nodeKeys: stri
 
 export function deleteTiles(db: Conn, scanId: string) {
   return db.deleteFrom('scan_tiles').where('scan_id', '=', scanId).execute()
+}
+
+/** Bytes the project received in the last 24 hours (deleted scans included). */
+export async function uploadedToday(db: Conn, projectId: string): Promise<number> {
+  const row = await db
+    .selectFrom('upload_usage')
+    .select((eb) => eb.fn.coalesce(eb.fn.sum<string>('size_bytes'), sql<string>`0`).as('bytes'))
+    .where('project_id', '=', projectId)
+    .where('created_at', '>', sql<Date>`now() - interval '1 day'`)
+    .executeTakeFirstOrThrow()
+  return Number(row.bytes)
+}
+
+export function recordUpload(db: Conn, projectId: string, bytes: number) {
+  return db.insertInto('upload_usage').values({ project_id: projectId, size_bytes: bytes }).execute()
 }

@@ -7,6 +7,7 @@ import type { z } from 'zod'
 import { ErrorCode } from '@shared/schemas/common'
 import { fromZod, HttpError } from '../errors'
 import { authorize, authorizeRigKey } from '../services/access'
+import { admitUpload } from '../services/scans'
 import type { Services } from '../types'
 import type { LimiterName, Membership, RigKey, RouteDef } from './registry'
 
@@ -80,6 +81,11 @@ export function mountRoutes(router: Router, routes: RouteDef[], services: Servic
         } else gate.membership = await authorize(services.db, { userId: req.user?.id ?? null, guest: req.guest }, params as Record<string, unknown>, access.right)
       }
       res.locals.gate = gate
+      // An upload takes one of its project's slots before a byte of the file is received (services/scans.ts).
+      if (def.upload && gate.membership) {
+        const release = await admitUpload(services, gate.membership.projectId, Number(req.headers['content-length'] ?? 0))
+        res.on('close', release)
+      }
       next()
     })
 

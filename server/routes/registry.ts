@@ -49,7 +49,7 @@ export interface Reply {
   body?: unknown
 }
 
-export type LimiterName = 'signIn' | 'passwordReset' | 'signUp' | 'invite' | 'tokenUse'
+export type LimiterName = 'signIn' | 'passwordReset' | 'signUp' | 'invite' | 'tokenUse' | 'upload'
 
 export interface RouteDef<P = any, B = any, Q = any> {
   method: 'get' | 'post' | 'patch' | 'put' | 'delete'

@@ -27,6 +27,7 @@ export const scanRoutes: RouteDef[] = [
     path: '/projects/:projectId/scans',
     access: { kind: 'project', right: 'editScans', rigKey: true },
     params: ProjectParams,
+    limiter: 'upload',
     upload: { field: 'file' },
     body: ScanUploadFields,
     handler: async ({ services, params, body, file, user, rigKey }) => {
@@ -139,7 +140,7 @@ export const scanRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'manage' },
     params: ProjectParams,
     body: UploadTokenCreateBody,
-    handler: async ({ services, params, user, body }) => ({ status: 201, body: await scans.createRigKey(services, params.projectId, user!.id, body.label) }),
+    handler: async ({ services, params, user, body }) => ({ status: 201, body: await scans.createRigKey(services, params.projectId, user!.id, body) }),
   }),
   defineRoute({
     method: 'delete',

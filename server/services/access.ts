@@ -9,7 +9,7 @@ import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfComment } from '../repositories/comments'
 import { projectOfMarker } from '../repositories/markers'
 import { projectOfRegistration } from '../repositories/registrations'
-import { projectOfUploadToken, useUploadToken } from '../repositories/uploadTokens'
+import { projectOfUploadToken, findLiveUploadToken, markUploadTokenUsed } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
 import { projectOfPass } from '../repositories/passes'
 import type { Membership, RigKey } from '../routes/registry'
@@ -72,10 +72,13 @@ export async function authorize(db: Conn, caller: Caller, params: Record<string,
 
 /** Rig keys act as a measurer of their own project, for the routes that accept them (uploads). */
 export async function authorizeRigKey(db: Conn, secret: string, params: Record<string, unknown>, right: Right): Promise<{ membership: Membership; rigKey: RigKey }> {
-  const token = await useUploadToken(db, hashSecret(secret))
+  const token = await findLiveUploadToken(db, hashSecret(secret))
   if (!token) throw HttpError.unauthenticated('This rig key is not valid, or it was revoked.')
+  if (token.expired) throw HttpError.unauthenticated(`This rig key expired on ${token.expires_at.toISOString().slice(0, 10)}. Ask a project owner for a new key.`)
+  if (!token.maker_is_member) throw HttpError.unauthenticated('This rig key stopped working: the person who made it is no longer a member of the project. Ask a project owner for a new key.')
   const projectId = await projectIdFromParams(db, params)
   if (projectId !== token.project_id) throw HttpError.notFound(NOT_FOUND)
   if (!can('measurer', right)) throw HttpError.forbidden('A rig key may only upload scans.')
+  await markUploadTokenUsed(db, token.id)
   return { membership: { projectId, role: 'measurer' }, rigKey: { id: token.id, createdBy: token.created_by } }
 }

@@ -26,6 +26,7 @@ export function toProject(row: ProjectWithRoleRow): Project {
     role: row.role,
     memberCount: Number(row.member_count ?? 0),
     markerSettings: { anchorTolerance: row.anchor_tolerance, requiredMargin: row.required_margin },
+    uploadSettings: { dailyUploadBytes: Number(row.daily_upload_bytes), maxScanPoints: Number(row.max_scan_points) },
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
   }
@@ -77,6 +78,8 @@ export function toUploadToken(row: UploadTokenWithCreatorRow): UploadToken {
     createdAt: row.created_at.toISOString(),
     lastUsedAt: row.last_used_at?.toISOString() ?? null,
     revokedAt: row.revoked_at?.toISOString() ?? null,
+    expiresAt: row.expires_at.toISOString(),
+    makerLeft: !row.maker_is_member,
   }
 }
 

@@ -91,7 +91,18 @@ export async function getMarker(s: Services, markerId: string): Promise<Marker> 
   return present(s, markerId)
 }
 
+/**
+ * A scene holds at most `config.limits.markersPerScene` markers (every one is checked against the points and
+ * drawn on every open page): a new one beyond it is refused with 409, saying the limit and what to do.
+ */
+async function ensureRoomForMarker(s: Services, sceneId: string): Promise<void> {
+  const cap = s.config.limits.markersPerScene
+  const n = await repo.countMarkersInScene(s.db, sceneId)
+  if (n >= cap) throw HttpError.conflict(`This scene already holds ${n} markers, the most a scene may hold (${cap}). Delete markers that are no longer needed, or place the new ones in another scene.`)
+}
+
 export async function createMarker(s: Services, sceneId: string, body: MarkerCreateBody, userId: string | null): Promise<Marker> {
+  await ensureRoomForMarker(s, sceneId)
   const placements = await placementsOf(s, sceneId)
   await validateReferences(s, sceneId, body, placements)
   const label = body.label ?? defaultLabel(body.kind, Number((await repo.countMarkersOfKind(s.db, sceneId, body.kind)).n) + 1)
@@ -207,6 +218,7 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
   const parsed = MarkerCreateBody.safeParse({ kind: entry.kind, label: entry.label, anchors: sceneAnchors, params: entry.params })
   if (!parsed.success) return `${parsed.error.issues[0]!.path.join('.')}: ${parsed.error.issues[0]!.message}`
   try {
+    if (!row) await ensureRoomForMarker(s, sceneId)
     await validateReferences(s, sceneId, parsed.data, placements, markerId)
   } catch (err) {
     return err instanceof HttpError ? err.message : 'refused'

@@ -7,11 +7,71 @@ import { ErrorCode } from '@shared/schemas/common'
 import { hashSecret, newSecret } from '../auth/tokens'
 import { HttpError } from '../errors'
 import { sendIngest } from '../jobs/queue'
-import { deleteScan, findScan, insertScan, listScans, updateScan } from '../repositories/scans'
+import { deleteScan, findScan, insertScan, listScans, recordUpload, updateScan, uploadedToday } from '../repositories/scans'
 import { findUploadToken, insertUploadToken, listUploadTokens, revokeUploadToken } from '../repositories/uploadTokens'
 import type { RigKey } from '../routes/registry'
 import type { Services } from '../types'
 import { toScan, toUploadToken } from './mappers'
+
+/** Bytes in binary units, as limits are stated: "200 GiB", "1.5 MiB", "900 bytes". */
+export function bytesInWords(n: number): string {
+  if (n >= 1024 ** 3) return `${+(n / 1024 ** 3).toFixed(2)} GiB`
+  if (n >= 1024 ** 2) return `${+(n / 1024 ** 2).toFixed(2)} MiB`
+  if (n >= 1024) return `${+(n / 1024).toFixed(2)} KiB`
+  return `${n} bytes`
+}
+
+/** Uploads being received and stored, per project, per server process. */
+const inFlight = new WeakMap<Services, Map<string, number>>()
+
+/**
+ * Runs before the file is received: refuses (429, saying which limit, its number and what to do) when the
+ * project already has `uploadsInFlightPerProject` uploads arriving, or when the request's declared length
+ * would take the project past its daily quota. Returns the release of the slot taken (call it once the
+ * response is done, however it ends).
+ */
+export async function admitUpload(s: Services, projectId: string, declaredBytes: number): Promise<() => void> {
+  const quota = await quotaOf(s, projectId)
+  if (quota.used + declaredBytes > quota.limit) throw overQuota(quota, declaredBytes)
+  let counts = inFlight.get(s)
+  if (!counts) inFlight.set(s, (counts = new Map()))
+  const now = counts.get(projectId) ?? 0
+  const cap = s.config.limits.uploadsInFlightPerProject
+  if (now >= cap) {
+    throw new HttpError(429, ErrorCode.tooManyRequests, `This project already has ${now} uploads arriving, the most it takes at once (${cap}). Wait for one of them to finish, then send this file again.`)
+  }
+  counts.set(projectId, now + 1)
+  let released = false
+  return () => {
+    if (released) return
+    released = true
+    const left = (counts.get(projectId) ?? 1) - 1
+    if (left > 0) counts.set(projectId, left)
+    else counts.delete(projectId)
+  }
+}
+
+interface Quota {
+  used: number
+  limit: number
+}
+
+async function quotaOf(s: Services, projectId: string): Promise<Quota> {
+  const [project, used] = await Promise.all([
+    s.db.selectFrom('projects').select('daily_upload_bytes').where('id', '=', projectId).executeTakeFirst(),
+    uploadedToday(s.db, projectId),
+  ])
+  return { used, limit: Number(project?.daily_upload_bytes ?? 0) }
+}
+
+function overQuota(q: Quota, size: number): HttpError {
+  const left = Math.max(0, q.limit - q.used)
+  return new HttpError(
+    429,
+    ErrorCode.tooManyRequests,
+    `This project's upload quota is ${bytesInWords(q.limit)} a day (any 24 hours); it has received ${bytesInWords(q.used)}, so ${bytesInWords(left)} is left and this file (${bytesInWords(size)}) does not fit. Send it later, or ask the project's owner to raise the daily upload quota in the project's settings.`,
+  )
+}
 
 export async function getScan(s: Services, scanId: string): Promise<Scan> {
   const row = await findScan(s.db, scanId)
@@ -39,6 +99,9 @@ export async function acceptUpload(
   fields: { name?: string; format?: ScanFormat },
   by: { userId: string | null; rigKey: RigKey | null },
 ): Promise<Scan> {
+  // The declared length was checked before receiving; the file's true size is checked again here.
+  const quota = await quotaOf(s, projectId)
+  if (quota.used + file.size > quota.limit) throw overQuota(quota, file.size)
   const scanId = crypto.randomUUID()
   // multer decodes the file name as latin1; browsers send UTF-8.
   const originalName = Buffer.from(file.originalname, 'latin1').toString('utf8')
@@ -57,6 +120,7 @@ export async function acceptUpload(
     s.log.error({ err, blobKey }, 'object storage refused an upload')
     throw new HttpError(503, ErrorCode.unavailable, 'The file could not be stored (object storage did not answer); nothing was kept. Try again.')
   }
+  await recordUpload(s.db, projectId, file.size)
   await insertScan(s.db, {
     id: scanId,
     project_id: projectId,
@@ -94,9 +158,9 @@ export async function rigKeysOf(s: Services, projectId: string): Promise<UploadT
   return (await listUploadTokens(s.db, projectId)).map(toUploadToken)
 }
 
-export async function createRigKey(s: Services, projectId: string, userId: string, label: string): Promise<{ token: UploadToken; secret: string }> {
+export async function createRigKey(s: Services, projectId: string, userId: string, body: { label: string; expiresInDays: number }): Promise<{ token: UploadToken; secret: string }> {
   const secret = newSecret('smk_')
-  const { id } = await insertUploadToken(s.db, { projectId, label, tokenHash: hashSecret(secret), hint: `${secret.slice(0, 8)}…${secret.slice(-4)}`, createdBy: userId })
+  const { id } = await insertUploadToken(s.db, { projectId, label: body.label, tokenHash: hashSecret(secret), hint: `${secret.slice(0, 8)}…${secret.slice(-4)}`, createdBy: userId, expiresInDays: body.expiresInDays })
   return { token: toUploadToken((await findUploadToken(s.db, id))!), secret }
 }
 

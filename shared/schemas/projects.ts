@@ -27,10 +27,41 @@ const RequiredMargin = z
   .min(MARGIN_LIMITS.min, { error: 'must not be negative' })
   .max(MARGIN_LIMITS.max, { error: `must be at most ${MARGIN_LIMITS.max} m` })
 
+/** What a project may cost: its owner sets them (README, "Security and limits"). */
+export const UPLOAD_LIMITS = {
+  dailyBytes: { default: 200 * 1024 ** 3, min: 1024 ** 2, max: 100 * 1024 ** 4 },
+  scanPoints: { default: 500_000_000, min: 1000, max: 2_000_000_000 },
+} as const
+const DailyUploadBytes = z
+  .number({ error: 'must be a number of bytes' })
+  .int({ error: 'must be a whole number of bytes' })
+  .min(UPLOAD_LIMITS.dailyBytes.min, { error: 'must be at least 1 MiB' })
+  .max(UPLOAD_LIMITS.dailyBytes.max, { error: 'must be at most 100 TiB' })
+const MaxScanPoints = z
+  .number({ error: 'must be a number of points' })
+  .int({ error: 'must be a whole number of points' })
+  .min(UPLOAD_LIMITS.scanPoints.min, { error: `must be at least ${UPLOAD_LIMITS.scanPoints.min} points` })
+  .max(UPLOAD_LIMITS.scanPoints.max, { error: `must be at most ${UPLOAD_LIMITS.scanPoints.max} points` })
+
+export const UploadSettings = z.object({
+  /** Bytes the project may receive in any 24 hours. */
+  dailyUploadBytes: z.number(),
+  /** Points one scan of the project may hold; a file with more fails with a message on how to split it. */
+  maxScanPoints: z.number(),
+})
+export type UploadSettings = z.infer<typeof UploadSettings>
+
 export const ProjectUpdateBody = z
-  .object({ name: ProjectName, description: ProjectDescription, anchorTolerance: AnchorTolerance, requiredMargin: RequiredMargin })
+  .object({
+    name: ProjectName,
+    description: ProjectDescription,
+    anchorTolerance: AnchorTolerance,
+    requiredMargin: RequiredMargin,
+    dailyUploadBytes: DailyUploadBytes,
+    maxScanPoints: MaxScanPoints,
+  })
   .partial()
-  .refine((v) => Object.values(v).some((x) => x !== undefined), { error: 'give a name, description, anchor tolerance or required margin to change' })
+  .refine((v) => Object.values(v).some((x) => x !== undefined), { error: 'give a name, description, anchor tolerance, required margin, daily upload quota or scan point limit to change' })
 export type ProjectUpdateBody = z.infer<typeof ProjectUpdateBody>
 
 export const ProjectParams = z.object({ projectId: Id })
@@ -43,6 +74,7 @@ export const Project = z.object({
   role: RoleSchema,
   memberCount: z.number().int(),
   markerSettings: MarkerSettings,
+  uploadSettings: UploadSettings,
   createdAt: Timestamp,
   updatedAt: Timestamp,
 })

@@ -109,12 +109,23 @@ export const UploadToken = z.object({
   createdAt: Timestamp,
   lastUsedAt: Timestamp.nullable(),
   revokedAt: Timestamp.nullable(),
+  /** The key stops working at this time (the owner chose it at creation: 1 to 365 days, 90 by default). */
+  expiresAt: Timestamp,
+  /** Its maker is no longer a member of the project: the key no longer works. */
+  makerLeft: z.boolean(),
 })
 export type UploadToken = z.infer<typeof UploadToken>
 export const UploadTokenList = z.object({ tokens: z.array(UploadToken) })
 /** The secret is shown once, at creation. */
 export const UploadTokenCreated = z.object({ token: UploadToken, secret: z.string() })
+export const RIG_KEY_DAYS = { default: 90, min: 1, max: 365 } as const
 export const UploadTokenCreateBody = z.object({
   label: z.string({ error: 'must be text' }).trim().min(1, { error: 'must not be empty' }).max(80, { error: 'must be at most 80 characters' }),
+  expiresInDays: z
+    .number({ error: 'must be a whole number of days' })
+    .int({ error: 'must be a whole number of days' })
+    .min(RIG_KEY_DAYS.min, { error: `must be at least ${RIG_KEY_DAYS.min} day` })
+    .max(RIG_KEY_DAYS.max, { error: `must be at most ${RIG_KEY_DAYS.max} days` })
+    .default(RIG_KEY_DAYS.default),
 })
 export const UploadTokenParams = z.object({ tokenId: Id })

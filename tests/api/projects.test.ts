@@ -39,7 +39,7 @@ describe('projects', () => {
     const bad = await owner.agent.patch(`/api/projects/${projectId}`).send({ name: '   ' }).expect(400)
     expect(bad.body.error.field).toBe('name')
     const nothing = await owner.agent.patch(`/api/projects/${projectId}`).send({}).expect(400)
-    expect(nothing.body.error.message).toMatch(/give a name, description, anchor tolerance or required margin to change/)
+    expect(nothing.body.error.message).toMatch(/give a name, description, anchor tolerance, required margin, daily upload quota or scan point limit to change/)
   })
 
   it('deletes a project with its memberships', async () => {
