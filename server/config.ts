@@ -1,3 +1,4 @@
+import os from 'node:os'
 import { z } from 'zod'
 
 /**
@@ -85,6 +86,22 @@ export interface CostLimits {
   uploadsInFlightPerProject: number
   /** Processing attempts of a scan; one more crash or stall after the last fails it. */
   ingestAttempts: number
+  /**
+   * Points of one scan the ingest worker holds in memory at most, whatever a project allows: half the
+   * machine's memory at WORKER_BYTES_PER_POINT each (today's ingest keeps a scan whole in memory).
+   */
+  workerPoints: number
+}
+
+/**
+ * Worker memory per point while a scan is ingested (positions, attributes, octree order and tiles in
+ * flight): `npm run bench` measured 2.2 GB of worker RSS for 50 M points (44 bytes); 48 leaves room.
+ */
+export const WORKER_BYTES_PER_POINT = 48
+
+/** The worker's ceiling on this machine (WORKER_MAX_POINTS overrides it). */
+export function workerPointsCeiling(totalMemoryBytes = os.totalmem()): number {
+  return Math.floor((totalMemoryBytes * 0.5) / WORKER_BYTES_PER_POINT)
 }
 
 export const PRODUCTION_LIMITS: CostLimits = {
@@ -93,6 +110,7 @@ export const PRODUCTION_LIMITS: CostLimits = {
   markersPerScene: 2000,
   uploadsInFlightPerProject: 3,
   ingestAttempts: 3,
+  workerPoints: Number(process.env.WORKER_MAX_POINTS) > 0 ? Number(process.env.WORKER_MAX_POINTS) : workerPointsCeiling(),
 }
 
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */

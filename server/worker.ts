@@ -17,7 +17,7 @@ const boss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job
 
 await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
   for (const job of jobs) {
-    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, name: workerName(process.pid) }, job.data.scanId)
+    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, workerPoints: config.limits.workerPoints, name: workerName(process.pid) }, job.data.scanId)
   }
 })
 log.info('ingest worker ready')

@@ -19,6 +19,8 @@ export interface IngestDeps {
   maxAttempts: number
   /** This process as `claimed_by` records it (host:pid). */
   name?: string
+  /** Points of one scan this worker can hold in memory (config `limits.workerPoints`); none: no ceiling. */
+  workerPoints?: number
 }
 
 /** Share of the job each stage takes, for the progress bar (parsing dominates for text formats). */
@@ -34,7 +36,7 @@ export class PointLimitError extends Error {}
  * The message for a file over the project's point limit: from its header's count when it has one, else
  * from the point where reading stopped.
  */
-export function pointLimitMessage(limit: number, declared: number | null, format: ScanFormat | null): string {
+export function pointLimitMessage(limit: number, declared: number | null, format: ScanFormat | null, source: 'project' | 'server' = 'project'): string {
   const n = (v: number) => v.toLocaleString('en-GB')
   const holds = declared !== null ? `its header declares ${n(declared)} points` : `reading stopped after ${n(limit)} points, with more to come`
   const how = format === 'station-log'
@@ -42,6 +44,7 @@ export function pointLimitMessage(limit: number, declared: number | null, format
     : format === 'xyz'
       ? 'split the file into parts of at most that many lines (for example by area) and upload each part as its own scan'
       : 'split the file into parts of at most that many points (for example by area, with the tool that wrote it) and upload each part as its own scan'
+  if (source === 'server') return `The scan has more points than this server can process in one piece: ${holds}, and its ingest worker holds at most ${n(limit)} points of a scan in memory. To load it, ${how}.`
   return `The scan has more points than this project allows: ${holds}, and the limit per scan is ${n(limit)}. To load it, ${how}, or ask the project's owner to raise "Points per scan" in the project's settings.`
 }
 
@@ -83,7 +86,10 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
   const scan = await claimScan(db, scanId, deps.staleMs, deps.maxAttempts, deps.name ?? null)
   if (!scan) return 'skipped'
   const project = await db.selectFrom('projects').select('max_scan_points').where('id', '=', scan.project_id).executeTakeFirst()
-  const pointLimit = Number(project?.max_scan_points ?? Infinity)
+  // The lower of the project's setting and what this worker can hold in memory decides.
+  const projectLimit = Number(project?.max_scan_points ?? Infinity)
+  const pointLimit = Math.min(projectLimit, deps.workerPoints ?? Infinity)
+  const limitSource = pointLimit < projectLimit ? 'server' : 'project'
   const size = Number(scan.size_bytes)
   let lastWrite = 0
   let pending: Promise<unknown> = Promise.resolve()
@@ -118,7 +124,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       reader = createReader(format, {
         onBatch: (b) => {
           // Before the points are kept: the buffer never grows past the project's limit.
-          if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? null, format))
+          if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? null, format, limitSource))
           buffer.append(b)
         },
         reuseBuffers: true,
@@ -131,7 +137,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       // beyond one point per byte of the file, so a lying header cannot allocate billions.
       const declared = reader!.header?.declaredPointCount
       // A header over the limit fails before anything is sized from it (LAZ: before it is decompressed).
-      if (declared && declared > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declared, format))
+      if (declared && declared > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declared, format, limitSource))
       if (!reserved && declared) {
         buffer.reserve(Math.min(declared, size, pointLimit))
         reserved = true

@@ -4,7 +4,7 @@ import http from 'node:http'
 import supertest from 'supertest'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Marker } from '@shared/schemas'
-import { PRODUCTION_LIMITS, PRODUCTION_RATE_LIMITS } from '../../server/config'
+import { PRODUCTION_LIMITS, PRODUCTION_RATE_LIMITS, workerPointsCeiling } from '../../server/config'
 import { writeBinaryPly } from '../../server/points/writers/plyWriter'
 import { insertMembership } from '../../server/repositories/memberships'
 import { ingestScan } from '../../server/points/ingest'
@@ -58,9 +58,9 @@ const distance = (instanceId: string, i: number) => ({
 })
 
 /** Processes a scan in this process, as the worker would (no worker runs here: no queue to wait for). */
-function ingest(id: string) {
+function ingest(id: string, workerPoints?: number) {
   const { db, objects, log } = t.server.services
-  return ingestScan({ db, objects, log, lazLimitBytes: t.config.uploads.lazLimitBytes, staleMs: t.config.ingestStaleMs, maxAttempts: LIMITS.ingestAttempts }, id)
+  return ingestScan({ db, objects, log, lazLimitBytes: t.config.uploads.lazLimitBytes, staleMs: t.config.ingestStaleMs, maxAttempts: LIMITS.ingestAttempts, workerPoints }, id)
 }
 
 async function readyScan(p: Person, project: string, bytes: Buffer, name: string): Promise<string> {
@@ -89,7 +89,10 @@ afterAll(async () => {
 
 it('states the production limits it documents', () => {
   // README "Security and limits" lists these numbers; a change here must change it too.
-  expect(PRODUCTION_LIMITS).toEqual({ checkPoints: 10_000_000, checksQueuedPerProject: 200, markersPerScene: 2000, uploadsInFlightPerProject: 3, ingestAttempts: 3 })
+  expect(PRODUCTION_LIMITS).toEqual({ checkPoints: 10_000_000, checksQueuedPerProject: 200, markersPerScene: 2000, uploadsInFlightPerProject: 3, ingestAttempts: 3, workerPoints: expect.any(Number) })
+  // The worker's ceiling: half the machine's memory at 48 bytes a point (24 GiB: 268,435,456 points).
+  if (!process.env.WORKER_MAX_POINTS) expect(PRODUCTION_LIMITS.workerPoints).toBe(workerPointsCeiling())
+  expect(workerPointsCeiling(24 * 1024 ** 3)).toBe(268_435_456)
   expect(PRODUCTION_RATE_LIMITS.upload).toEqual({ windowMs: 3_600_000, limit: 60 })
 })
 
@@ -270,6 +273,16 @@ describe('uploads', () => {
     const d = await ingested(p, fits)
     expect(d.status, d.error ?? '').toBe('ready')
     expect(d.pointCount).toBe(1000)
+  })
+
+  it('fails a scan over the worker\'s memory ceiling, below the project\'s limit, saying it is the server\'s', async () => {
+    const p = await signUpAgent(t, 'Ceiling Owner')
+    const project = await newProject(p, 'Ceiling')
+    const heavy = (await upload(p.agent, project, plyOf(900), 'heavy.ply').expect(202)).body.scan.id
+    await ingest(heavy, 600)
+    const e = (await p.agent.get(`/api/scans/${heavy}`).expect(200)).body.scan
+    expect(e.status).toBe('failed')
+    expect(e.error).toContain('its header declares 900 points, and its ingest worker holds at most 600 points of a scan in memory')
   })
 
   it('fails a scan whose processing stopped on its last attempt, queues one with attempts left, and replaces a stalled worker', async () => {
