@@ -13,7 +13,7 @@ import { upload, waitForScan } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { SurfaceSampler } from '../utils/solids'
 
-const LIMITS = { checkPoints: 500, checksQueuedPerProject: 2, markersPerScene: 6, uploadsInFlightPerProject: 1, ingestAttempts: 3 }
+const LIMITS = { checkPoints: 500, checksQueuedPerProject: 2, markersPerScene: 6, uploadsInFlightPerProject: 1, ingestAttempts: 3, workerPoints: 1_000_000 }
 const UPLOADS_PER_WINDOW = 4
 
 let t: TestServer
