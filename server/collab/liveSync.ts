@@ -81,10 +81,9 @@ export class LiveDocumentsSync implements LiveSync {
   async check(room: Room, conn: Connection, changes: LiveChange[]): Promise<void> {
     const actor: Actor = { userId: conn.userId, role: conn.role }
     for (const change of changes) {
+      // null: added and deleted within the update (nothing to store, but it must be a change the role may make).
       const action = change.before === undefined ? (change.after === undefined ? null : 'add') : change.after === undefined ? 'delete' : 'update'
-      // Added and deleted within the update: nothing to store (the structure was inspected already).
-      if (action === null && change.key !== null) continue
-      const name = liveOperationOf(room.kind, change.root, action ?? 'update')
+      const name = liveOperationOf(room.kind, change.root, action ?? 'add')
       const op = LIVE_OPERATIONS[name]
       const what = change.root === WORK_MAPS.instances ? 'placement' : change.root === WORK_MAPS.markers ? 'marker' : change.root
       const subject = change.key === null ? what : `${what} ${change.key}`
@@ -92,6 +91,7 @@ export class LiveDocumentsSync implements LiveSync {
       if ('refused' in op) throw new LiveRefusal('refused', `${subject}: ${op.refused}`)
       if (change.key === null) throw new LiveRefusal('refused', `${subject}: only map entries may be written`)
       if (!Id.safeParse(change.key).success) throw new LiveRefusal('refused', `${subject}: an id must be a UUID`)
+      if (action === null) continue
       try {
         await CHANGE_CHECKS[name as LiveCheckedChangeName](this.services, actor, room.sceneId, change.key, change.after)
       } catch (err) {
