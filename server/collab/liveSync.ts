@@ -4,7 +4,7 @@ import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, typ
 import { LIVE_OPERATIONS, liveOperationOf, type LiveCheckedChangeName } from '@shared/collab/operations'
 import { Id } from '@shared/schemas/common'
 import { HttpError } from '../errors'
-import { findMarker, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
+import { findMarker, findMarkerCore, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import * as markers from '../services/markers'
 import { checkMarkerCreate, checkMarkerDelete, checkMarkerUpdate, checkPlacementEdit, SERVER_ACTOR, type Actor } from '../services/markerWrites'
@@ -288,8 +288,9 @@ const CHANGE_CHECKS: Record<LiveCheckedChangeName, (s: Services, actor: Actor, s
   markerUpdate: async (s, actor, sceneId, key, after) => {
     const entry = parseEntry(LiveMarker, after)
     // In the document but not yet (or no longer) in PostgreSQL: it is a new marker as far as the store goes.
-    if (!(await findMarker(s.db, key))) return checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, key)
-    return checkMarkerUpdate(s, actor, key, { frame: 'placement', body: entry }, sceneId)
+    const row = await findMarkerCore(s.db, key)
+    if (!row) return checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, key)
+    return checkMarkerUpdate(s, actor, key, { frame: 'placement', body: entry }, sceneId, row)
   },
   markerDelete: (s, actor, sceneId, key) => checkMarkerDelete(s, actor, key, sceneId),
   placementMove: (s, actor, sceneId, key, after) => checkPlacementEdit(s, actor, key, parseEntry(LiveInstance, after), sceneId),

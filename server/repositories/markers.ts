@@ -42,6 +42,12 @@ export function findMarker(db: Conn, markerId: string) {
   return markerRows(db).where('m.id', '=', markerId).executeTakeFirst()
 }
 
+/** A marker's own columns only (no people, no comment counts): what the write checks need. */
+export function findMarkerCore(db: Conn, markerId: string) {
+  return db.selectFrom('markers').selectAll().where('id', '=', markerId).executeTakeFirst()
+}
+export type MarkerCoreRow = NonNullable<Awaited<ReturnType<typeof findMarkerCore>>>
+
 /** The scene and project of a marker (for links in e-mails and access). */
 export function placeOfMarker(db: Conn, markerId: string) {
   return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select(['m.id', 'm.scene_id', 's.project_id', 's.name as scene_name']).where('m.id', '=', markerId).executeTakeFirst()

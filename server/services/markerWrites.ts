@@ -7,7 +7,6 @@ import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import type { Services } from '../types'
-import { toMarker } from './mappers'
 
 /**
  * The one set of checks every marker and placement write goes through, whichever door it came in by: the
@@ -74,7 +73,7 @@ export async function validateReferences(s: Services, sceneId: string, body: Mar
   }
   if (body.kind === 'clearance') {
     if (!placements.has(body.params.objectInstanceId)) throw invalid('params.objectInstanceId', 'no placement with this id in the scene.')
-    const section = await repo.findMarker(s.db, body.params.sectionMarkerId)
+    const section = await repo.findMarkerCore(s.db, body.params.sectionMarkerId)
     if (!section || section.scene_id !== sceneId || section.id === markerId) throw invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
     if (section.kind !== 'section') throw invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)
     if (!(section.params as { opening?: boolean }).opening) throw invalid('params.sectionMarkerId', 'that section does not look for a free opening; turn "find the free opening" on first.')
@@ -112,7 +111,7 @@ export async function checkMarkerCreate(s: Services, actor: Actor, sceneId: stri
 }
 
 export interface CheckedMarkerUpdate {
-  row: repo.MarkerWithPeopleRow
+  row: repo.MarkerCoreRow
   /** The marker as it will be (scene frame). */
   merged: MarkerCreateBody
   /** New anchors (placement frames) and params, when given. */
@@ -133,13 +132,21 @@ export async function checkMarkerUpdate(
   markerId: string,
   input: { frame: 'scene'; body: { label?: string; anchors?: Anchor[]; params?: unknown } } | { frame: 'placement'; body: { kind: string; label: string; anchors: repo.StoredAnchor[]; params: unknown } },
   sceneId?: string,
+  /** The row, when the caller has just read it. */
+  known?: repo.MarkerCoreRow,
 ): Promise<CheckedMarkerUpdate> {
   needs(actor, 'editMarkers')
-  const row = await repo.findMarker(s.db, markerId)
+  const row = known ?? (await repo.findMarkerCore(s.db, markerId))
   if (!row || (sceneId !== undefined && row.scene_id !== sceneId)) throw HttpError.notFound(sceneId ? 'No marker with this id in this scene.' : 'No such marker.')
   if (input.frame === 'placement' && input.body.kind !== row.kind) throw invalid('kind', `a marker keeps its kind (${row.kind}).`)
   const placements = await placementsOf(s, row.scene_id)
-  const current = toMarker(row, placements).anchors
+  // Anchors on a placement no longer in the scene are kept as stored (validateReferences then names them).
+  const current = (row.anchors as repo.StoredAnchor[]).map((a) => {
+    const m = placements.get(a.instanceId)
+    if (!m) return { ...a }
+    const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
+    return { instanceId: a.instanceId, x, y, z }
+  })
   const given = input.frame === 'placement' ? { ...input.body, anchors: toScene(input.body.anchors, placements) } : input.body
   const merged = MarkerCreateBody.safeParse({ kind: row.kind, label: given.label ?? row.label, anchors: given.anchors ?? current, params: given.params ?? row.params })
   if (!merged.success) throw fieldError(merged.error)
@@ -150,9 +157,9 @@ export async function checkMarkerUpdate(
 }
 
 /** Deleting a marker: the row if there is one (none: nothing to do); another scene's marker is refused. */
-export async function checkMarkerDelete(s: Services, actor: Actor, markerId: string, sceneId?: string): Promise<repo.MarkerWithPeopleRow | undefined> {
+export async function checkMarkerDelete(s: Services, actor: Actor, markerId: string, sceneId?: string): Promise<repo.MarkerCoreRow | undefined> {
   needs(actor, 'editMarkers')
-  const row = await repo.findMarker(s.db, markerId)
+  const row = await repo.findMarkerCore(s.db, markerId)
   if (row && sceneId !== undefined && row.scene_id !== sceneId) throw HttpError.notFound('No marker with this id in this scene.')
   return row
 }

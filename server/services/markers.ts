@@ -149,11 +149,11 @@ export async function reviewMarker(s: Services, markerId: string, body: MarkerRe
  */
 export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, actor: Actor): Promise<string | null> {
   const userId = actor.userId
-  const row = await repo.findMarker(s.db, markerId)
+  const row = await repo.findMarkerCore(s.db, markerId)
   let revision: number
   try {
     if (row) {
-      const checked = await checkMarkerUpdate(s, actor, markerId, { frame: 'placement', body: entry }, sceneId)
+      const checked = await checkMarkerUpdate(s, actor, markerId, { frame: 'placement', body: entry }, sceneId, row)
       const same = row.label === entry.label && JSON.stringify(row.anchors) === JSON.stringify(entry.anchors) && JSON.stringify(row.params) === JSON.stringify(checked.merged.params)
       if (same) return null
       const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(checked.merged.params)
