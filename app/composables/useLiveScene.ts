@@ -9,6 +9,12 @@ import { queryKeys } from './queryKeys'
 
 export type LiveStatus = 'connecting' | 'online' | 'offline' | 'refused'
 
+/** A line for the top bar: 'problem' when something was not kept or access ended, 'info' otherwise. */
+export interface LiveNotice {
+  text: string
+  tone: 'info' | 'problem'
+}
+
 export interface HereNow {
   clientId: number
   name: string
@@ -45,10 +51,10 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   const client = useQueryClient()
   const status = ref<LiveStatus>('connecting')
   /** A short line for the top bar when the server closed the connection for a reason worth saying. */
-  const notice = ref<string | null>(null)
+  const notice = ref<LiveNotice | null>(null)
   let noticeTimer: ReturnType<typeof setTimeout> | null = null
-  function say(text: string): void {
-    notice.value = text
+  function say(text: string, tone: LiveNotice['tone'] = 'problem'): void {
+    notice.value = { text, tone }
     if (noticeTimer) clearTimeout(noticeTimer)
     noticeTimer = setTimeout(() => (notice.value = null), 15_000)
   }
@@ -150,7 +156,9 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       if (status.value === 'refused') return
       status.value = s === 'connected' ? 'online' : s === 'connecting' && status.value === 'connecting' ? 'connecting' : 'offline'
     })
-    const onClose = (event: CloseEvent | null) => {
+    // y-websocket treats every 44xx close as final (its default shouldReconnect); a new role or a new session
+    // is worth a reconnect, which provider.connect() makes once the close has been handled.
+    const onClose = (event: CloseEvent | null, closedProvider: WebsocketProvider) => {
       const code = event?.code
       const reason = String(event?.reason ?? '')
       if (code === CLOSE_CODES.forbidden || code === CLOSE_CODES.unauthenticated || code === CLOSE_CODES.badOrigin || code === CLOSE_CODES.accessEnded) {
@@ -161,10 +169,15 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
         // Refused mid-visit (a revoked viewing pass, a removed member): asking the API again lets the page say why.
         void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
       } else if (code === CLOSE_CODES.roleChanged) {
-        // The provider reconnects by itself, and the server gives the new role; the page's controls follow it.
+        // Reconnected, the server gives the new role; the page's controls follow it.
         const role = /now (\w+)$/.exec(reason)?.[1]
-        say(ROLES.includes(role as Role) ? `Your role here is now ${ROLE_LABELS[role as Role].toLowerCase()}: reconnected with it.` : 'Your role here changed: reconnected with it.')
+        say(ROLES.includes(role as Role) ? `Your role here is now ${ROLE_LABELS[role as Role].toLowerCase()}: reconnected with it.` : 'Your role here changed: reconnected with it.', 'info')
         void client.invalidateQueries({ queryKey: ['projects'] })
+        setTimeout(() => closedProvider.connect(), 0)
+      } else if (code === CLOSE_CODES.signedOut) {
+        // Signed out elsewhere, or a new password: with a new session in this browser (a password changed
+        // here) the connection comes back; without one the server answers "sign in first" and the page says so.
+        setTimeout(() => closedProvider.connect(), 0)
       } else if (code === CLOSE_CODES.refused || code === CLOSE_CODES.readOnly) {
         // The server refused a change this page made and applied none of it. Sending the same document again
         // would be refused again: start afresh from the server's, and say what was not kept.
@@ -260,7 +273,7 @@ export function installLiveTestHook(live: ReturnType<typeof useLiveScene>, curso
       ...w.__spanmark,
       live: {
         status: () => live.status.value,
-        notice: () => live.notice.value,
+        notice: () => live.notice.value?.text ?? null,
         ready: () => live.ready.value,
         people: () => live.people.value,
         cursorsDrawn,
