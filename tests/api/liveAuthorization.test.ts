@@ -363,6 +363,16 @@ describe('roles bind open sockets', () => {
     expect(closed.reason).toMatch(/password/)
   })
 
+  it('a password reset closes every socket of the account (signed out)', async () => {
+    const live = await measurerOnline()
+    const since = new Date()
+    await supertest(t.url).post('/api/auth/password-reset').set('Origin', t.url).send({ email: live.person.email }).expect(202)
+    const link = (await t.waitForMail(live.person.email, since)).links.find((l) => l.includes('/reset-password#token='))!
+    const token = new URLSearchParams(new URL(link).hash.slice(1)).get('token')
+    const closed = await cutOff(live, () => supertest(t.url).post('/api/auth/password-reset/confirm').set('Origin', t.url).send({ token, password: 'a third horse battery' }).expect(200), 'signedOut')
+    expect(closed.reason).toMatch(/reset/)
+  })
+
   it('deleting the project closes everyone’s sockets on its scenes (access ended)', async () => {
     const p = await project(people.owner, 'Short-lived')
     const live = await measurerOnline(p.projectId, p.sceneId)
@@ -443,6 +453,34 @@ describe('the attacks that were tried', () => {
     expect((await live.closed).code).toBe(CLOSE_CODES.accessEnded)
     await new Promise((r) => setTimeout(r, 150))
     expect(await markerRow(target)).toMatchObject({ id: target })
+  })
+
+  it('refuses, before applying, an update that cannot be checked whole: a nested shared type, or one that waits on changes the server lacks', async () => {
+    const w = connect(cookies.measurer, work())
+    expect(await w.outcome).toEqual({ synced: true })
+    const nested = new Y.Map<unknown>()
+    const id = uuid()
+    w.c.markers.set(id, nested)
+    expect(await w.closed).toMatchObject({ code: CLOSE_CODES.refused, reason: expect.stringMatching(/plain data|nested/) })
+    expect(observer.markers.has(id)).toBe(false)
+    // Two changes made elsewhere; only the second is sent: it cannot apply until the first arrives, so it is
+    // refused now rather than applied later, unchecked.
+    const v = connect(cookies.measurer, work())
+    expect(await v.outcome).toEqual({ synced: true })
+    const elsewhere = new Y.Doc()
+    Y.applyUpdate(elsewhere, Y.encodeStateAsUpdate(v.c.doc))
+    elsewhere.getMap(WORK_MAPS.markers).set(uuid(), entry(places['this scene'].instanceId, 'first'))
+    const between = Y.encodeStateVector(elsewhere)
+    const second = uuid()
+    elsewhere.getMap(WORK_MAPS.markers).set(second, entry(places['this scene'].instanceId, 'second'))
+    const encoder = encoding.createEncoder()
+    encoding.writeVarUint(encoder, 0)
+    syncProtocol.writeUpdate(encoder, Y.encodeStateAsUpdate(elsewhere, between))
+    v.c.provider.ws!.send(encoding.toUint8Array(encoder))
+    expect(await v.closed).toMatchObject({ code: CLOSE_CODES.refused, reason: expect.stringMatching(/depends on changes/) })
+    const room = await t.server.collab.room(work(), 'work')
+    expect(room.doc.store.pendingStructs).toBeNull()
+    expect(room.doc.getMap(WORK_MAPS.markers).has(second)).toBe(false)
   })
 
   it('a deleted marker keeps its history, and nobody re-creates its id elsewhere to read it', async () => {
