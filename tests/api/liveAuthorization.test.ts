@@ -1,6 +1,6 @@
 // The live documents' authorization walk, generated from the registry of live operations
 // (shared/collab/operations.ts) as tests/api/authorization.test.ts is from the route registry: every
-// operation x every role of DESIGN section 2 (owner, measurer, mentor, a guest through a real viewing pass, a
+// operation x every role of the role table, shared/auth/roles.ts (owner, measurer, mentor, a guest through a real viewing pass, a
 // signed-in outsider, an anonymous caller) x the target (this scene, another scene of the same project,
 // another project's scene). Each case ends one of three ways: refused at the upgrade (its close code),
 // refused and closed (its code; PostgreSQL and the other clients' documents unchanged), or applied (seen in
