@@ -1,12 +1,13 @@
 // The live documents' authorization walk, generated from the registry of live operations
 // (shared/collab/operations.ts) as tests/api/authorization.test.ts is from the route registry: every
-// operation x every role of the role table, shared/auth/roles.ts (owner, measurer, mentor, a guest through a real viewing pass, a
-// signed-in outsider, an anonymous caller) x the target (this scene, another scene of the same project,
-// another project's scene). Each case ends one of three ways: refused at the upgrade (its close code),
-// refused and closed (its code; PostgreSQL and the other clients' documents unchanged), or applied (seen in
-// PostgreSQL and by another client). An operation added to the registry without a case here fails the walk.
-// Then the events that take a right away from an open socket (point 2), and the two attacks that were
-// tried for real (an outsider deleting another project's marker; a removed member deleting one).
+// operation x every role of shared/auth/roles.ts (owner, measurer, mentor, a guest through a real viewing
+// pass, a signed-in outsider, an anonymous caller) x the target (this scene, another scene of the same
+// project, another project's scene). Each case ends one of three ways: refused at the upgrade (its close
+// code), refused and closed (its code; PostgreSQL and the other clients' documents unchanged), or applied
+// (seen in PostgreSQL and by another client). An operation added to the registry without a case here fails
+// the walk. Then the events that take a right away from an open socket (roles bind open sockets), and the
+// attacks that were tried for real (an outsider deleting another project's marker; a removed member
+// deleting one).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import supertest from 'supertest'
 import * as Y from 'yjs'
