@@ -31,6 +31,10 @@ const NO_LIVE: LiveSync = {
   instanceRemoved: async () => {},
   checkStored: async () => {},
   passEnded: () => {},
+  membershipChanged: () => {},
+  sessionEnded: () => {},
+  userSignedOut: () => {},
+  projectDeleted: () => {},
 }
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'

@@ -79,6 +79,18 @@ export interface LiveSync {
   checkStored(sceneId: string, markerId: string): Promise<void>
   /** A viewing pass was revoked or its guest left: its open sockets close at once (CLOSE_CODES.forbidden). */
   passEnded(passId: string): void
+  /**
+   * Roles bind open sockets: each of these ends the connections it concerns at once (nothing they send is
+   * applied after the call) and closes them with a named code (CLOSE_CODES). A member's new role (null:
+   * removed or left) closes theirs with roleChanged (accessEnded).
+   */
+  membershipChanged(projectId: string, userId: string, role: string | null): void
+  /** A session ended (signed out): its sockets close with signedOut. */
+  sessionEnded(sessionId: string): void
+  /** Every session of an account ended (a new password, a reset): its sockets close with signedOut. */
+  userSignedOut(userId: string, reason: string): void
+  /** The project was deleted: every socket on its scenes closes with accessEnded. */
+  projectDeleted(projectId: string): void
 }
 
 export interface SnappedPoint {

@@ -4,9 +4,16 @@ import * as Y from 'yjs'
 import { WebsocketProvider } from 'y-websocket'
 import { CLOSE_CODES, LiveInstance, LiveMarker, LiveRecord, RECORD_MAPS, WORK_MAPS, markerFromDocuments } from '@shared/collab/documents'
 import type { Marker, Scene } from '@shared/schemas'
+import { ROLE_LABELS, ROLES, type Role } from '@shared/auth/roles'
 import { queryKeys } from './queryKeys'
 
 export type LiveStatus = 'connecting' | 'online' | 'offline' | 'refused'
+
+/** A line for the top bar: 'problem' when something was not kept or access ended, 'info' otherwise. */
+export interface LiveNotice {
+  text: string
+  tone: 'info' | 'problem'
+}
 
 export interface HereNow {
   clientId: number
@@ -43,6 +50,14 @@ export interface LiveWriter {
 export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   const client = useQueryClient()
   const status = ref<LiveStatus>('connecting')
+  /** A short line for the top bar when the server closed the connection for a reason worth saying. */
+  const notice = ref<LiveNotice | null>(null)
+  let noticeTimer: ReturnType<typeof setTimeout> | null = null
+  function say(text: string, tone: LiveNotice['tone'] = 'problem'): void {
+    notice.value = { text, tone }
+    if (noticeTimer) clearTimeout(noticeTimer)
+    noticeTimer = setTimeout(() => (notice.value = null), 15_000)
+  }
   const ready = ref(false)
   const people = ref<HereNow[]>([])
   let work: WebsocketProvider | null = null
@@ -141,16 +156,39 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       if (status.value === 'refused') return
       status.value = s === 'connected' ? 'online' : s === 'connecting' && status.value === 'connecting' ? 'connecting' : 'offline'
     })
-    provider.on('connection-close', (event: CloseEvent | null) => {
+    // y-websocket treats every 44xx close as final (its default shouldReconnect); a new role or a new session
+    // is worth a reconnect, which provider.connect() makes once the close has been handled.
+    const onClose = (event: CloseEvent | null, closedProvider: WebsocketProvider) => {
       const code = event?.code
-      if (code === CLOSE_CODES.forbidden || code === CLOSE_CODES.unauthenticated || code === CLOSE_CODES.badOrigin) {
+      const reason = String(event?.reason ?? '')
+      if (code === CLOSE_CODES.forbidden || code === CLOSE_CODES.unauthenticated || code === CLOSE_CODES.badOrigin || code === CLOSE_CODES.accessEnded) {
         status.value = 'refused'
-        provider.shouldConnect = false
+        work!.shouldConnect = false
         record!.shouldConnect = false
+        if (code === CLOSE_CODES.accessEnded) say(`Not live: ${reason || 'your access to this project ended'}.`)
         // Refused mid-visit (a revoked viewing pass, a removed member): asking the API again lets the page say why.
         void client.invalidateQueries({ queryKey: queryKeys.scene(id), exact: true })
+      } else if (code === CLOSE_CODES.roleChanged) {
+        // Reconnected, the server gives the new role; the page's controls follow it.
+        const role = /now (\w+)$/.exec(reason)?.[1]
+        say(ROLES.includes(role as Role) ? `Your role here is now ${ROLE_LABELS[role as Role].toLowerCase()}: reconnected with it.` : 'Your role here changed: reconnected with it.', 'info')
+        void client.invalidateQueries({ queryKey: ['projects'] })
+        setTimeout(() => closedProvider.connect(), 0)
+      } else if (code === CLOSE_CODES.signedOut) {
+        // Signed out elsewhere, or a new password: with a new session in this browser (a password changed
+        // here) the connection comes back; without one the server answers "sign in first" and the page says so.
+        setTimeout(() => closedProvider.connect(), 0)
+      } else if (code === CLOSE_CODES.refused || code === CLOSE_CODES.readOnly) {
+        // The server refused a change this page made and applied none of it. Sending the same document again
+        // would be refused again: start afresh from the server's, and say what was not kept.
+        say(`Not saved: ${reason || 'a change was refused'}. The scene now shows what the server holds.`)
+        setTimeout(() => {
+          if (workDoc === wDoc) start(id)
+        }, 0)
       }
-    })
+    }
+    work.on('connection-close', onClose)
+    record.on('connection-close', onClose)
     // Only this page's own edits wait for their record entry: the server answers each with one. Another
     // person's edit reaches here on the work document and its record entry on the record document, in either
     // order, so the record alone speaks for those (the server writes "pending" as soon as it has the edit).
@@ -184,7 +222,10 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   }
 
   watch(() => toValue(sceneId), (id) => start(id), { immediate: true })
-  onBeforeUnmount(stop)
+  onBeforeUnmount(() => {
+    stop()
+    if (noticeTimer) clearTimeout(noticeTimer)
+  })
 
   const writer: LiveWriter = {
     ready,
@@ -200,6 +241,8 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
 
   return {
     status,
+    /** Why the server last closed the connection, when it is worth saying (a role change, a refused change). */
+    notice,
     ready,
     people,
     writer,
@@ -230,6 +273,7 @@ export function installLiveTestHook(live: ReturnType<typeof useLiveScene>, curso
       ...w.__spanmark,
       live: {
         status: () => live.status.value,
+        notice: () => live.notice.value?.text ?? null,
         ready: () => live.ready.value,
         people: () => live.people.value,
         cursorsDrawn,

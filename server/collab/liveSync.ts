@@ -1,11 +1,18 @@
+import type { z } from 'zod'
+import { can } from '@shared/auth/roles'
 import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
-import { findMarker, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
+import { LIVE_OPERATIONS, liveOperationOf, type LiveCheckedChangeName } from '@shared/collab/operations'
+import { Id } from '@shared/schemas/common'
+import { HttpError } from '../errors'
+import { findMarker, findMarkerCore, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import * as markers from '../services/markers'
-import { editInstanceMatrixFromLive } from '../services/scenes'
+import { checkMarkerCreate, checkMarkerDelete, checkMarkerUpdate, checkPlacementEdit, SERVER_ACTOR, type Actor } from '../services/markerWrites'
+import { editInstance } from '../services/scenes'
 import { commentSummaryOf, parseStoredCheck, reviewOf } from '../services/mappers'
 import type { LiveSync, Services } from '../types'
-import type { Connection, Room } from './room'
+import type { ConnectionRegistry } from './connections'
+import { LiveRefusal, type Connection, type LiveChange, type Room } from './room'
 
 /**
  * REST and the live documents are one model (DESIGN section 7). A change made through the API is written
@@ -41,10 +48,57 @@ export class LiveDocumentsSync implements LiveSync {
     private readonly room: (sceneId: string, kind: 'work' | 'record') => Promise<Room>,
     /** Closes the open sockets of a viewing pass (the socket server's). */
     private readonly closePass: (passId: string) => void = () => {},
+    /** The socket server's open connections, by account, session and project. */
+    private readonly connections: Pick<ConnectionRegistry, 'membershipChanged' | 'sessionEnded' | 'userSignedOut' | 'projectDeleted'> | null = null,
   ) {}
 
   passEnded(passId: string): void {
     this.closePass(passId)
+  }
+
+  membershipChanged(projectId: string, userId: string, role: string | null): void {
+    this.connections?.membershipChanged(projectId, userId, role)
+  }
+
+  sessionEnded(sessionId: string): void {
+    this.connections?.sessionEnded(sessionId)
+  }
+
+  userSignedOut(userId: string, reason: string): void {
+    this.connections?.userSignedOut(userId, reason)
+  }
+
+  projectDeleted(projectId: string): void {
+    this.connections?.projectDeleted(projectId)
+  }
+
+  /**
+   * The pre-apply check (room.ts `receiveUpdate` calls it with every change an update would make): each
+   * change is looked up in the registry of live operations (shared/collab/operations.ts) for the right it
+   * needs, or why it is never taken, then checked by the same functions the REST routes use
+   * (services/markerWrites.ts), with the connection's role as it is now. Any refusal refuses the update.
+   */
+  async check(room: Room, conn: Connection, changes: LiveChange[]): Promise<void> {
+    const actor: Actor = { userId: conn.userId, role: conn.role }
+    for (const change of changes) {
+      // null: added and deleted within the update (nothing to store, but it must be a change the role may make).
+      const action = change.before === undefined ? (change.after === undefined ? null : 'add') : change.after === undefined ? 'delete' : 'update'
+      const name = liveOperationOf(room.kind, change.root, action ?? 'add')
+      const op = LIVE_OPERATIONS[name]
+      const what = change.root === WORK_MAPS.instances ? 'placement' : change.root === WORK_MAPS.markers ? 'marker' : change.root
+      const subject = change.key === null ? what : `${what} ${change.key}`
+      if (op.right === null || !can(conn.role, op.right)) throw new LiveRefusal('readOnly', `${subject}: your role (${conn.role}) does not allow this`)
+      if ('refused' in op) throw new LiveRefusal('refused', `${subject}: ${op.refused}`)
+      if (change.key === null) throw new LiveRefusal('refused', `${subject}: only map entries may be written`)
+      if (!Id.safeParse(change.key).success) throw new LiveRefusal('refused', `${subject}: an id must be a UUID`)
+      if (action === null) continue
+      try {
+        await CHANGE_CHECKS[name as LiveCheckedChangeName](this.services, actor, room.sceneId, change.key, change.after)
+      } catch (err) {
+        if (err instanceof HttpError) throw new LiveRefusal('refused', `${subject}: ${err.message.replace(/^body\./, '')}`)
+        throw err
+      }
+    }
   }
 
   /** A document loaded for the first time is filled from PostgreSQL, once (its meta map says so). */
@@ -83,7 +137,7 @@ export class LiveDocumentsSync implements LiveSync {
     for (const [id, value] of map.entries()) {
       if (rows.has(id)) continue
       const parsed = LiveMarker.safeParse(value)
-      const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, null) : 'not a marker'
+      const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, SERVER_ACTOR) : 'not a marker'
       if (problem !== null) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
       else await this.checkStored(room.sceneId, id)
     }
@@ -140,6 +194,7 @@ export class LiveDocumentsSync implements LiveSync {
 
   /** Writers' changes to the work document go through the services; refused ones are put back. */
   watch(room: Room): void {
+    room.check = (conn, changes) => this.check(room, conn, changes)
     if (room.kind !== 'work') return
     const markerMap = room.doc.getMap<unknown>(WORK_MAPS.markers)
     const instanceMap = room.doc.getMap<unknown>(WORK_MAPS.instances)
@@ -166,12 +221,16 @@ export class LiveDocumentsSync implements LiveSync {
   private async applyMarker(room: Room, markerId: string, value: unknown, conn: Connection): Promise<void> {
     const s = this.services
     if (value === null) {
-      await markers.removeMarker(s, markerId, { fromLive: true, userId: conn.userId })
+      const refused = await markers.removeMarker(s, markerId, actorOf(conn), { fromLive: true, sceneId: room.sceneId }).then(
+        () => null,
+        (err: unknown) => (err instanceof HttpError ? err.message : Promise.reject(err)),
+      )
+      if (refused !== null) return s.log.info({ markerId, problem: refused }, 'a live marker deletion was refused')
       ;(await this.room(room.sceneId, 'record')).transact((doc) => doc.getMap(RECORD_MAPS.markers).delete(markerId))
       return
     }
     const parsed = LiveMarker.safeParse(value)
-    const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, markerId, parsed.data, conn.userId) : 'not a marker'
+    const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, markerId, parsed.data, actorOf(conn)) : 'not a marker'
     // The record always has the last word on a live change, even one that changed nothing: clients show a
     // marker they saw change as pending until its record entry moves.
     if (problem === null) return this.checkStored(room.sceneId, markerId)
@@ -188,11 +247,16 @@ export class LiveDocumentsSync implements LiveSync {
 
   private async applyInstance(room: Room, instanceId: string, value: unknown, conn: Connection): Promise<void> {
     const s = this.services
-    const row = await findInstance(s.db, instanceId)
-    const parsed = LiveInstance.safeParse(value)
     // Placements are added and removed through the API (they need a ready scan); live edits move them.
-    const ok = row && row.scene_id === room.sceneId && parsed.success && parsed.data.scanId === row.scan_id
-    if (ok && (await editInstanceMatrixFromLive(s, instanceId, parsed.data, conn.userId))) return
+    const parsed = LiveInstance.safeParse(value)
+    if (parsed.success) {
+      const done = await editInstance(s, instanceId, parsed.data, actorOf(conn), { sceneId: room.sceneId, fromLive: true }).then(
+        () => true,
+        (err: unknown) => (err instanceof HttpError ? false : Promise.reject(err)),
+      )
+      if (done) return
+    }
+    const row = await findInstance(s.db, instanceId)
     room.transact((doc) => {
       const m = doc.getMap(WORK_MAPS.instances)
       if (row && row.scene_id === room.sceneId) m.set(instanceId, liveInstanceOf(row))
@@ -201,3 +265,33 @@ export class LiveDocumentsSync implements LiveSync {
   }
 }
 
+
+function actorOf(conn: Connection): Actor {
+  return { userId: conn.userId, role: conn.role }
+}
+
+function parseEntry<T>(schema: z.ZodType<T>, value: unknown): T {
+  const parsed = schema.safeParse(value)
+  if (parsed.success) return parsed.data
+  const issue = parsed.error.issues[0]!
+  const field = issue.path.map(String).join('.')
+  throw new HttpError(400, 'invalid-input', field ? `${field}: ${issue.message}` : issue.message, field)
+}
+
+/**
+ * The check of each live change a role may make, keyed by the registry's names: an operation added to
+ * shared/collab/operations.ts without a check here does not compile. `after`: the entry's new value
+ * (undefined for a deletion).
+ */
+const CHANGE_CHECKS: Record<LiveCheckedChangeName, (s: Services, actor: Actor, sceneId: string, key: string, after: unknown) => Promise<unknown>> = {
+  markerCreate: (s, actor, sceneId, key, after) => checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: parseEntry(LiveMarker, after) }, key),
+  markerUpdate: async (s, actor, sceneId, key, after) => {
+    const entry = parseEntry(LiveMarker, after)
+    // In the document but not yet (or no longer) in PostgreSQL: it is a new marker as far as the store goes.
+    const row = await findMarkerCore(s.db, key)
+    if (!row) return checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, key)
+    return checkMarkerUpdate(s, actor, key, { frame: 'placement', body: entry }, sceneId, row)
+  },
+  markerDelete: (s, actor, sceneId, key) => checkMarkerDelete(s, actor, key, sceneId),
+  placementMove: (s, actor, sceneId, key, after) => checkPlacementEdit(s, actor, key, parseEntry(LiveInstance, after), sceneId),
+}

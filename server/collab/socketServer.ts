@@ -10,6 +10,7 @@ import { findMembership } from '../repositories/memberships'
 import { findPassBySession } from '../repositories/passes'
 import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
+import { ConnectionRegistry } from './connections'
 import { LiveDocumentsSync } from './liveSync'
 import { Room, type Connection } from './room'
 
@@ -29,6 +30,8 @@ export class CollabServer {
   private readonly rooms = new Map<string, Promise<Room>>()
   /** Open sockets per viewing pass, so a revoked pass is cut off at once. */
   private readonly passSockets = new Map<string, Set<WebSocket>>()
+  /** Open connections by account, session and project (roles bind open sockets: see connections.ts). */
+  readonly connections = new ConnectionRegistry((conn, code, reason) => Room.end(conn, code, reason))
   private readonly log: pino.Logger
   /** REST and live as one model. */
   readonly sync: LiveDocumentsSync
@@ -39,7 +42,7 @@ export class CollabServer {
   ) {
     this.log = services.log.child({ part: 'collab' })
     this.allowedOrigins = allowedOrigins
-    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId))
+    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId), this.connections)
   }
 
   private readonly allowedOrigins: () => string[]
@@ -112,6 +115,19 @@ export class CollabServer {
       writable: kind === 'work' && can(role, 'editMarkers'),
       clientId: null,
       awarenessTimes: [],
+      projectId: scene.project_id,
+      role,
+      sessionId: guest ? null : session!.id,
+      ended: null,
+    }
+    this.connections.add(conn)
+    ws.on('close', () => this.connections.remove(conn))
+    if (!guest) {
+      // A removal or a role change between the check above and the registry would miss this socket: look again.
+      const [now, still] = await Promise.all([findMembership(db, scene.project_id, member!.id), auth.validateSession(session!.id)])
+      if (!still.session) return Room.end(conn, 'signedOut', 'signed out')
+      if (now?.role !== role) return Room.end(conn, now ? 'roleChanged' : 'accessEnded', now ? `your role is now ${now.role}` : 'you are no longer a member of this project')
+      if (ws.readyState !== ws.OPEN) return
     }
     room.connections.set(ws, conn)
     let chain = Promise.resolve()

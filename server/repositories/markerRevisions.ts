@@ -32,19 +32,21 @@ export function insertRevision(
     .executeTakeFirstOrThrow()
 }
 
-export function listRevisions(db: Conn, markerId: string) {
+/** A marker's revisions in one scene (its own: see services/markers.ts historyOf). */
+export function listRevisions(db: Conn, markerId: string, sceneId: string) {
   return db
     .selectFrom('marker_revisions as r')
     .leftJoin('users as u', 'u.id', 'r.user_id')
     .selectAll('r')
     .select('u.name as user_name')
     .where('r.marker_id', '=', markerId)
+    .where('r.scene_id', '=', sceneId)
     .orderBy('r.id')
     .execute()
 }
 
-export function findRevision(db: Conn, markerId: string, id: string) {
-  return db.selectFrom('marker_revisions').selectAll().where('marker_id', '=', markerId).where('id', '=', id).executeTakeFirst()
+export function findRevision(db: Conn, markerId: string, id: string, sceneId: string) {
+  return db.selectFrom('marker_revisions').selectAll().where('marker_id', '=', markerId).where('id', '=', id).where('scene_id', '=', sceneId).executeTakeFirst()
 }
 
 /** Each marker's last revision at or before `at` (deleted ones left out): the scene's markers as they were. */

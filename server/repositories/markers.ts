@@ -42,6 +42,12 @@ export function findMarker(db: Conn, markerId: string) {
   return markerRows(db).where('m.id', '=', markerId).executeTakeFirst()
 }
 
+/** A marker's own columns only (no people, no comment counts): what the write checks need. */
+export function findMarkerCore(db: Conn, markerId: string) {
+  return db.selectFrom('markers').selectAll().where('id', '=', markerId).executeTakeFirst()
+}
+export type MarkerCoreRow = NonNullable<Awaited<ReturnType<typeof findMarkerCore>>>
+
 /** The scene and project of a marker (for links in e-mails and access). */
 export function placeOfMarker(db: Conn, markerId: string) {
   return db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select(['m.id', 'm.scene_id', 's.project_id', 's.name as scene_name']).where('m.id', '=', markerId).executeTakeFirst()
@@ -54,6 +60,35 @@ export function projectOfMarker(db: Conn, markerId: string) {
 export async function countMarkersInScene(db: Conn, sceneId: string): Promise<number> {
   const row = await db.selectFrom('markers').select((e) => e.fn.countAll<string>().as('n')).where('scene_id', '=', sceneId).executeTakeFirstOrThrow()
   return Number(row.n)
+}
+
+/**
+ * The scene a marker id belongs to: its row's, or, once deleted, the scene of its first revision (the scene
+ * it was made in; an id is never taken again, see `markerIdUsed`).
+ */
+export async function sceneOfMarkerId(db: Conn, markerId: string): Promise<{ scene_id: string; project_id: string } | undefined> {
+  const row = await db.selectFrom('markers as m').innerJoin('scenes as s', 's.id', 'm.scene_id').select(['m.scene_id', 's.project_id']).where('m.id', '=', markerId).executeTakeFirst()
+  if (row) return row
+  return db
+    .selectFrom('marker_revisions as r')
+    .innerJoin('scenes as s', 's.id', 'r.scene_id')
+    .select(['r.scene_id', 's.project_id'])
+    .where('r.marker_id', '=', markerId)
+    .orderBy('r.id')
+    .limit(1)
+    .executeTakeFirst()
+}
+
+/** Is this id a marker's now, or was it ever (a revision names it)? */
+export async function markerIdUsed(db: Conn, markerId: string): Promise<boolean> {
+  const hit = await db
+    .selectFrom('markers')
+    .select('id')
+    .where('id', '=', markerId)
+    .unionAll(db.selectFrom('marker_revisions').select('marker_id as id').where('marker_id', '=', markerId))
+    .limit(1)
+    .executeTakeFirst()
+  return hit !== undefined
 }
 
 export function countMarkersOfKind(db: Conn, sceneId: string, kind: MarkerKind) {

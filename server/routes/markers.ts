@@ -1,6 +1,6 @@
 import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerReviewBody, MarkerUpdateBody, SceneParams, SceneStateQuery } from '@shared/schemas'
 import * as markers from '../services/markers'
-import { defineRoute, type RouteDef } from './registry'
+import { actorOf, defineRoute, type RouteDef } from './registry'
 
 export const markerRoutes: RouteDef[] = [
   defineRoute({
@@ -16,7 +16,7 @@ export const markerRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'editMarkers' },
     params: SceneParams,
     body: MarkerCreateBody,
-    handler: async ({ services, params, body, user }) => ({ status: 201, body: { marker: await markers.createMarker(services, params.sceneId, body, user?.id ?? null) } }),
+    handler: async ({ services, params, body, user, membership }) => ({ status: 201, body: { marker: await markers.createMarker(services, params.sceneId, body, actorOf(user, membership)) } }),
   }),
   defineRoute({
     method: 'get',
@@ -39,15 +39,15 @@ export const markerRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'editMarkers' },
     params: MarkerParams,
     body: MarkerUpdateBody,
-    handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.updateMarker(services, params.markerId, body, user?.id ?? null) } }),
+    handler: async ({ services, params, body, user, membership }) => ({ body: { marker: await markers.updateMarker(services, params.markerId, body, actorOf(user, membership)) } }),
   }),
   defineRoute({
     method: 'delete',
     path: '/markers/:markerId',
     access: { kind: 'project', right: 'editMarkers' },
     params: MarkerParams,
-    handler: async ({ services, params, user }) => {
-      await markers.removeMarker(services, params.markerId, { userId: user?.id ?? null })
+    handler: async ({ services, params, user, membership }) => {
+      await markers.removeMarker(services, params.markerId, actorOf(user, membership))
     },
   }),
   defineRoute({
@@ -63,7 +63,7 @@ export const markerRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'editMarkers' },
     params: MarkerParams,
     body: MarkerRestoreBody,
-    handler: async ({ services, params, body, user }) => ({ body: { marker: await markers.restoreMarker(services, params.markerId, body.revisionId, user?.id ?? null) } }),
+    handler: async ({ services, params, body, user, membership }) => ({ body: { marker: await markers.restoreMarker(services, params.markerId, body.revisionId, actorOf(user, membership)) } }),
   }),
   defineRoute({
     method: 'put',

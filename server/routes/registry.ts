@@ -69,3 +69,12 @@ export interface RouteDef<P = any, B = any, Q = any> {
 export function defineRoute<P = Record<string, never>, B = undefined, Q = undefined>(def: RouteDef<P, B, Q>): RouteDef<P, B, Q> {
   return def
 }
+
+/**
+ * The actor of a project route's write (services/markerWrites.ts): the account and the role the mount
+ * checked a moment ago (a rig key acts as a measurer).
+ */
+export function actorOf(user: AuthUser | null, membership: Membership | null): { userId: string | null; role: Role } {
+  if (!membership) throw new Error('actorOf: a project route only')
+  return { userId: user?.id ?? null, role: membership.role }
+}

@@ -1,6 +1,6 @@
 import { InstanceCreateBody, InstanceParams, InstanceUpdateBody, ProjectParams, SceneCreateBody, SceneParams, SceneUpdateBody } from '@shared/schemas'
 import * as scenes from '../services/scenes'
-import { defineRoute, type RouteDef } from './registry'
+import { actorOf, defineRoute, type RouteDef } from './registry'
 
 export const sceneRoutes: RouteDef[] = [
   defineRoute({
@@ -56,7 +56,7 @@ export const sceneRoutes: RouteDef[] = [
     access: { kind: 'project', right: 'editScans' },
     params: InstanceParams,
     body: InstanceUpdateBody,
-    handler: async ({ services, params, body, user }) => ({ body: { instance: await scenes.editInstance(services, params.instanceId, body, user?.id ?? null) } }),
+    handler: async ({ services, params, body, user, membership }) => ({ body: { instance: await scenes.editInstance(services, params.instanceId, body, actorOf(user, membership)) } }),
   }),
   defineRoute({
     method: 'delete',

@@ -7,7 +7,7 @@ import { projectOfScan } from '../repositories/scans'
 import { projectOfInstance, projectOfScene } from '../repositories/scenes'
 import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfComment } from '../repositories/comments'
-import { projectOfMarker } from '../repositories/markers'
+import { sceneOfMarkerId } from '../repositories/markers'
 import { projectOfRegistration } from '../repositories/registrations'
 import { projectOfUploadToken, findLiveUploadToken, markUploadTokenUsed } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
@@ -26,7 +26,8 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   tokenId: async (db, id) => (await projectOfUploadToken(db, id))?.project_id ?? null,
   sceneId: async (db, id) => (await projectOfScene(db, id))?.project_id ?? null,
   instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,
-  markerId: async (db, id) => (await projectOfMarker(db, id))?.project_id ?? null,
+  // A deleted marker keeps its history: its project is found through the scene it was made in.
+  markerId: async (db, id) => (await sceneOfMarkerId(db, id))?.project_id ?? null,
   checkpointId: async (db, id) => (await projectOfCheckpoint(db, id))?.project_id ?? null,
   inviteId: async (db, id) => (await projectOfInvite(db, id))?.project_id ?? null,
   passId: async (db, id) => (await projectOfPass(db, id))?.project_id ?? null,

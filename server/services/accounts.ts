@@ -43,7 +43,10 @@ export async function signIn(s: Services, res: Response, body: SignInBody): Prom
 }
 
 export async function signOut(s: Services, res: Response, sessionId: string | undefined): Promise<void> {
-  if (sessionId) await s.auth.invalidateSession(sessionId)
+  if (sessionId) {
+    await s.auth.invalidateSession(sessionId)
+    s.live.sessionEnded(sessionId)
+  }
   res.appendHeader('Set-Cookie', s.auth.createBlankSessionCookie().serialize())
 }
 
@@ -60,6 +63,7 @@ export async function changePassword(s: Services, res: Response, userId: string,
   }
   await updatePasswordHash(s.db, userId, await s.hasher.hash(body.newPassword))
   await s.auth.invalidateUserSessions(userId)
+  s.live.userSignedOut(userId, 'your password was changed')
   await startSession(s, res, userId)
   await s.mailer.enqueue(s.db, passwordChangedMail(row.email, row.name))
 }
@@ -92,6 +96,7 @@ export async function confirmPasswordReset(s: Services, res: Response, body: Res
     throw new HttpError(400, ErrorCode.invalidToken, `${why} Ask for a new one.`, 'token')
   }
   await s.auth.invalidateUserSessions(user.id)
+  s.live.userSignedOut(user.id, 'your password was reset')
   await startSession(s, res, user.id)
   return toUser(user)
 }

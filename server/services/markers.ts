@@ -1,57 +1,22 @@
-import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
+import { transformPoint } from '@shared/geometry/rigidTransform'
 import type { LiveMarker } from '@shared/collab/documents'
-import { MarkerCreateBody, type Anchor, type Marker, type MarkerKind, type MarkerReviewBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
+import type { Anchor, Marker, MarkerCreateBody, MarkerKind, MarkerReviewBody, MarkerRevision, MarkerUpdateBody } from '@shared/schemas'
 import { CHECK_STATE_LOOK } from '@shared/collab/states'
-import { ErrorCode } from '@shared/schemas/common'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import * as revisions from '../repositories/markerRevisions'
-import { listInstances, touchScene } from '../repositories/scenes'
+import { touchScene } from '../repositories/scenes'
 import { latestAcceptedFits } from '../repositories/registrations'
 import type { Services } from '../types'
 import type { MarkerChecker } from '../markers/checker'
 import { toMarker } from './mappers'
+import { checkMarkerCreate, checkMarkerDelete, checkMarkerUpdate, invalid, placementsOf, type Actor, type Placements } from './markerWrites'
 
 /**
- * Every marker write goes through here, whichever door it came in by (the API now, the live document
- * later): validation against the scene, scene frame to placement frame, the row, the check.
+ * Every marker write goes through here, whichever door it came in by (the REST routes, the live work
+ * document): the checks of ./markerWrites.ts (right, scene, values, references, new ids), then the row, the
+ * revision and the check.
  */
-
-type Placements = Map<string, number[]>
-
-async function placementsOf(s: Services, sceneId: string): Promise<Placements> {
-  return new Map((await listInstances(s.db, sceneId)).map((i) => [i.id, i.matrix]))
-}
-
-function invalid(field: string, message: string): HttpError {
-  return new HttpError(400, ErrorCode.invalidInput, `body.${field}: ${message}`, field)
-}
-
-/** Placements, sections and objects named by the marker must be in its scene. */
-async function validateReferences(s: Services, sceneId: string, body: MarkerCreateBody, placements: Placements, markerId?: string): Promise<void> {
-  body.anchors.forEach((a, i) => {
-    if (!placements.has(a.instanceId)) throw invalid(`anchors.${i}.instanceId`, 'no placement with this id in the scene.')
-  })
-  if (body.kind === 'section') {
-    body.params.instanceIds?.forEach((id, i) => {
-      if (!placements.has(id)) throw invalid(`params.instanceIds.${i}`, 'no placement with this id in the scene.')
-    })
-  }
-  if (body.kind === 'clearance') {
-    if (!placements.has(body.params.objectInstanceId)) throw invalid('params.objectInstanceId', 'no placement with this id in the scene.')
-    const section = await repo.findMarker(s.db, body.params.sectionMarkerId)
-    if (!section || section.scene_id !== sceneId || section.id === markerId) throw invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
-    if (section.kind !== 'section') throw invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)
-    if (!(section.params as { opening?: boolean }).opening) throw invalid('params.sectionMarkerId', 'that section does not look for a free opening; turn "find the free opening" on first.')
-  }
-}
-
-function toLocal(anchors: Anchor[], placements: Placements): repo.StoredAnchor[] {
-  return anchors.map((a) => {
-    const [x, y, z] = transformPoint(invertRigid(placements.get(a.instanceId)!), a.x, a.y, a.z)
-    return { instanceId: a.instanceId, x, y, z }
-  })
-}
 
 /** Same anchors within a nanometre (placement frame): an edit that moved nothing. */
 function sameAnchors(a: readonly repo.StoredAnchor[], b: readonly repo.StoredAnchor[]): boolean {
@@ -91,22 +56,11 @@ export async function getMarker(s: Services, markerId: string): Promise<Marker> 
   return present(s, markerId)
 }
 
-/**
- * A scene holds at most `config.limits.markersPerScene` markers (every one is checked against the points and
- * drawn on every open page): a new one beyond it is refused with 409, saying the limit and what to do.
- */
-async function ensureRoomForMarker(s: Services, sceneId: string): Promise<void> {
-  const cap = s.config.limits.markersPerScene
-  const n = await repo.countMarkersInScene(s.db, sceneId)
-  if (n >= cap) throw HttpError.conflict(`This scene already holds ${n} markers, the most a scene may hold (${cap}). Delete markers that are no longer needed, or place the new ones in another scene.`)
-}
-
-export async function createMarker(s: Services, sceneId: string, body: MarkerCreateBody, userId: string | null): Promise<Marker> {
-  await ensureRoomForMarker(s, sceneId)
-  const placements = await placementsOf(s, sceneId)
-  await validateReferences(s, sceneId, body, placements)
+export async function createMarker(s: Services, sceneId: string, input: MarkerCreateBody, actor: Actor): Promise<Marker> {
+  const userId = actor.userId
+  const { body, anchors } = await checkMarkerCreate(s, actor, sceneId, { frame: 'scene', body: input })
   const label = body.label ?? defaultLabel(body.kind, Number((await repo.countMarkersOfKind(s.db, sceneId, body.kind)).n) + 1)
-  const { id } = await repo.insertMarker(s.db, { sceneId, kind: body.kind, label, anchors: toLocal(body.anchors, placements), params: body.params, userId })
+  const { id } = await repo.insertMarker(s.db, { sceneId, kind: body.kind, label, anchors, params: body.params, userId })
   await touchScene(s.db, sceneId)
   await revisions.insertRevision(s.db, (await repo.findMarker(s.db, id))!, 'created', userId)
   await checker(s).checkNow(id)
@@ -114,22 +68,10 @@ export async function createMarker(s: Services, sceneId: string, body: MarkerCre
   return present(s, id)
 }
 
-export async function updateMarker(s: Services, markerId: string, body: MarkerUpdateBody, userId: string | null, options: { action?: 'edited' | 'restored' } = {}): Promise<Marker> {
-  const row = await repo.findMarker(s.db, markerId)
-  if (!row) throw HttpError.notFound('No such marker.')
-  const placements = await placementsOf(s, row.scene_id)
-  const current = toMarker(row, placements)
+export async function updateMarker(s: Services, markerId: string, body: MarkerUpdateBody, actor: Actor, options: { action?: 'edited' | 'restored' } = {}): Promise<Marker> {
+  const userId = actor.userId
   // The merged marker must be a valid marker of its kind (anchors in the scene frame, as the API takes them).
-  const merged = MarkerCreateBody.safeParse({ kind: row.kind, label: body.label ?? row.label, anchors: body.anchors ?? current.anchors, params: body.params ?? row.params })
-  if (!merged.success) {
-    const issue = merged.error.issues[0]!
-    const field = issue.path.join('.')
-    throw invalid(field, issue.message)
-  }
-  const geometry = body.anchors !== undefined || body.params !== undefined
-  if (geometry) await validateReferences(s, row.scene_id, merged.data, placements, markerId)
-  const anchors = body.anchors !== undefined ? toLocal(merged.data.anchors, placements) : undefined
-  const params = body.params !== undefined ? merged.data.params : undefined
+  const { row, merged, anchors, params, geometry } = await checkMarkerUpdate(s, actor, markerId, { frame: 'scene', body })
   // Anchors come back through the placement's transform: a round trip may differ in the last bits.
   const moved = (anchors !== undefined && !sameAnchors(anchors, row.anchors as repo.StoredAnchor[])) || (params !== undefined && JSON.stringify(params) !== JSON.stringify(row.params))
   await repo.updateMarker(s.db, markerId, { label: body.label, anchors, params, userId })
@@ -138,7 +80,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
   if (geometry) {
     if (moved) await reopenSignedOff(s, row.scene_id, [markerId], options.action === 'restored' ? REOPEN_NOTES.restored : REOPEN_NOTES.geometry, userId, { live: false })
     await checker(s).checkNow(markerId)
-    if (row.kind === 'section') await sectionChanged(s, row.scene_id, merged.data.label ?? row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'changed')
+    if (row.kind === 'section') await sectionChanged(s, row.scene_id, merged.label ?? row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'changed')
   }
   await s.live.markerChanged(row.scene_id, markerId)
   return present(s, markerId)
@@ -201,40 +143,32 @@ export async function reviewMarker(s: Services, markerId: string, body: MarkerRe
 }
 
 /**
- * A marker as a writer left it in the work document (anchors in their placements' frames): validated as the
- * API validates, then stored and checked. Returns null, or why it was refused.
+ * A marker as a writer left it in the work document (anchors in their placements' frames), already checked
+ * before the change was applied (server/collab/liveSync.ts); checked again here against PostgreSQL as it is
+ * now, through the same checks as the API, then stored and checked. Returns null, or why it was refused.
  */
-export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, userId: string | null): Promise<string | null> {
-  const placements = await placementsOf(s, sceneId)
-  const row = await repo.findMarker(s.db, markerId)
-  if (row && (row.scene_id !== sceneId || row.kind !== entry.kind)) return 'a marker keeps its scene and kind'
-  const sceneAnchors = entry.anchors.map((a) => {
-    const m = placements.get(a.instanceId)
-    if (!m) return null
-    const [x, y, z] = transformPoint(m, a.x, a.y, a.z)
-    return { instanceId: a.instanceId, x, y, z }
-  })
-  if (sceneAnchors.some((a) => a === null)) return 'an anchor names a placement that is not in the scene'
-  const parsed = MarkerCreateBody.safeParse({ kind: entry.kind, label: entry.label, anchors: sceneAnchors, params: entry.params })
-  if (!parsed.success) return `${parsed.error.issues[0]!.path.join('.')}: ${parsed.error.issues[0]!.message}`
-  try {
-    if (!row) await ensureRoomForMarker(s, sceneId)
-    await validateReferences(s, sceneId, parsed.data, placements, markerId)
-  } catch (err) {
-    return err instanceof HttpError ? err.message : 'refused'
-  }
-  const same = row && row.label === entry.label && JSON.stringify(row.anchors) === JSON.stringify(entry.anchors) && JSON.stringify(row.params) === JSON.stringify(parsed.data.params)
-  if (same) return null
+export async function applyLiveMarker(s: Services, sceneId: string, markerId: string, entry: LiveMarker, actor: Actor): Promise<string | null> {
+  const userId = actor.userId
+  const row = await repo.findMarkerCore(s.db, markerId)
   let revision: number
-  if (row) {
-    const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(parsed.data.params)
-    const updated = await repo.updateMarker(s.db, markerId, { label: entry.label, anchors: geometry ? entry.anchors : undefined, params: geometry ? parsed.data.params : undefined, userId })
-    revision = updated?.revision ?? row.revision
-    // The caller writes this marker's record entry next (with its review back to open).
-    if (geometry) await reopenSignedOff(s, sceneId, [markerId], REOPEN_NOTES.geometry, userId, { live: false })
-    if (geometry && row.kind === 'section') await sectionChanged(s, sceneId, row.label, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]), userId, 'changed')
-  } else {
-    revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: entry.kind, label: entry.label, anchors: entry.anchors, params: parsed.data.params, userId })).revision
+  try {
+    if (row) {
+      const checked = await checkMarkerUpdate(s, actor, markerId, { frame: 'placement', body: entry }, sceneId, row)
+      const same = row.label === entry.label && JSON.stringify(row.anchors) === JSON.stringify(entry.anchors) && JSON.stringify(row.params) === JSON.stringify(checked.merged.params)
+      if (same) return null
+      const geometry = JSON.stringify(row.anchors) !== JSON.stringify(entry.anchors) || JSON.stringify(row.params) !== JSON.stringify(checked.merged.params)
+      const updated = await repo.updateMarker(s.db, markerId, { label: entry.label, anchors: geometry ? entry.anchors : undefined, params: geometry ? checked.merged.params : undefined, userId })
+      revision = updated?.revision ?? row.revision
+      // The caller writes this marker's record entry next (with its review back to open).
+      if (geometry) await reopenSignedOff(s, sceneId, [markerId], REOPEN_NOTES.geometry, userId, { live: false })
+      if (geometry && row.kind === 'section') await sectionChanged(s, sceneId, row.label, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]), userId, 'changed')
+    } else {
+      const checked = await checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, markerId)
+      revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: checked.body.kind, label: entry.label, anchors: checked.anchors, params: checked.body.params, userId })).revision
+    }
+  } catch (err) {
+    if (err instanceof HttpError) return err.message
+    throw err
   }
   await touchScene(s.db, sceneId)
   if (userId) settleLater(s, markerId, userId, row ? 'edited' : 'created')
@@ -245,13 +179,18 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
   return null
 }
 
-export async function removeMarker(s: Services, markerId: string, options: { fromLive?: boolean; userId?: string | null } = {}): Promise<void> {
-  const row = await repo.findMarker(s.db, markerId)
+/**
+ * Deletes a marker (REST, or a live writer's deletion of its entry). `sceneId`: the live document's scene;
+ * another scene's marker is refused there (404), as every other check is, by ./markerWrites.ts.
+ */
+export async function removeMarker(s: Services, markerId: string, actor: Actor, options: { fromLive?: boolean; sceneId?: string } = {}): Promise<void> {
+  const row = await checkMarkerDelete(s, actor, markerId, options.sceneId)
   if (!row) return
-  await revisions.insertRevision(s.db, row, 'deleted', options.userId ?? null)
+  const userId = actor.userId
+  await revisions.insertRevision(s.db, row, 'deleted', userId)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
-  if (row.kind === 'section') await sectionChanged(s, row.scene_id, row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), options.userId ?? null, 'deleted')
+  if (row.kind === 'section') await sectionChanged(s, row.scene_id, row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'deleted')
   if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 
@@ -301,15 +240,15 @@ function settleLater(s: Services, markerId: string, userId: string, action: 'cre
   settling.set(key, { timer, action: first })
 }
 
-/** The marker's settled edits, oldest first, anchors in the scene frame with today's placements. */
+/**
+ * The marker's settled edits, oldest first, anchors in the scene frame with today's placements. Only the
+ * revisions of the marker's own scene (its row's, or once deleted the scene it was made in): a revision
+ * written under the same id in another scene is never shown here.
+ */
 export async function historyOf(s: Services, markerId: string): Promise<MarkerRevision[]> {
-  const rows = await revisions.listRevisions(s.db, markerId)
-  if (rows.length === 0) {
-    // A marker written before versions were recorded has an empty history; one that never was, none.
-    if (await repo.findMarker(s.db, markerId)) return []
-    throw HttpError.notFound('No such marker.')
-  }
-  return toRevisions(rows, await placementsOf(s, rows[0]!.scene_id))
+  const place = await repo.sceneOfMarkerId(s.db, markerId)
+  if (!place) throw HttpError.notFound('No such marker.')
+  return toRevisions(await revisions.listRevisions(s.db, markerId, place.scene_id), await placementsOf(s, place.scene_id))
 }
 
 /** The scene's markers as they were at `at` (the timeline). */
@@ -342,10 +281,13 @@ function toScene(a: repo.StoredAnchor, placements: Placements): Anchor {
 }
 
 /** An earlier state of the marker becomes its current one, recorded as a new revision ("restored"). */
-export async function restoreMarker(s: Services, markerId: string, revisionId: string, userId: string | null): Promise<Marker> {
-  const revision = await revisions.findRevision(s.db, markerId, revisionId)
+export async function restoreMarker(s: Services, markerId: string, revisionId: string, actor: Actor): Promise<Marker> {
+  const row = await repo.findMarker(s.db, markerId)
+  if (!row) throw HttpError.notFound('No such marker.')
+  // Only a revision of this marker in its own scene.
+  const revision = await revisions.findRevision(s.db, markerId, revisionId, row.scene_id)
   if (!revision) throw invalid('revisionId', 'no revision with this id in the marker\'s history.')
   const state = revision.state as { label: string; anchors: repo.StoredAnchor[]; params: Record<string, unknown> }
   const placements = await placementsOf(s, revision.scene_id)
-  return updateMarker(s, markerId, { label: state.label, anchors: state.anchors.map((a) => toScene(a, placements)), params: state.params }, userId, { action: 'restored' })
+  return updateMarker(s, markerId, { label: state.label, anchors: state.anchors.map((a) => toScene(a, placements)), params: state.params }, actor, { action: 'restored' })
 }

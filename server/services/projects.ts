@@ -43,6 +43,7 @@ export async function renameProject(s: Services, projectId: string, userId: stri
 
 export async function removeProject(s: Services, projectId: string): Promise<void> {
   await deleteProject(s.db, projectId)
+  s.live.projectDeleted(projectId)
 }
 
 /** The project's members; a guest (a viewing pass) sees their names and roles, not their e-mail addresses. */
@@ -80,10 +81,15 @@ async function changeMembership(s: Services, projectId: string, userId: string, 
   })
 }
 
+/** A new role holds on open sockets too: theirs close with "role changed" and reconnect with it. */
 export async function setMemberRole(s: Services, projectId: string, userId: string, role: Role): Promise<Member> {
-  return (await changeMembership(s, projectId, userId, role))!
+  const member = (await changeMembership(s, projectId, userId, role))!
+  s.live.membershipChanged(projectId, userId, role)
+  return member
 }
 
+/** Removed (or leaving): their open sockets on the project's scenes close at once. */
 export async function removeMember(s: Services, projectId: string, userId: string): Promise<void> {
   await changeMembership(s, projectId, userId, null)
+  s.live.membershipChanged(projectId, userId, null)
 }

@@ -1,12 +1,13 @@
-import type { Instance, InstanceCreateBody, InstanceUpdateBody, Scene, SceneSummary } from '@shared/schemas'
+import type { Instance, InstanceCreateBody, Scene, SceneSummary } from '@shared/schemas'
 import { ErrorCode } from '@shared/schemas/common'
-import { IDENTITY, rigidProblem } from '@shared/geometry/rigidTransform'
+import { IDENTITY } from '@shared/geometry/rigidTransform'
 import { HttpError } from '../errors'
 import { findScan } from '../repositories/scans'
 import * as repo from '../repositories/scenes'
 import type { Services } from '../types'
 import { toInstance, toSceneSummary } from './mappers'
 import { placementChanged } from './markers'
+import { checkPlacementEdit, SERVER_ACTOR, type Actor } from './markerWrites'
 
 /** Display colours for placements, in turn: Spanmark's own, distinct from the marker colours. */
 export const PLACEMENT_COLOURS = ['#E3B65C', '#7FA8CC', '#B68FD0', '#8DC48B', '#DC8F6E', '#CFC77C', '#6FC1B8', '#D98FB3']
@@ -53,28 +54,22 @@ export async function addInstance(s: Services, sceneId: string, projectId: strin
   return toInstance((await repo.findInstance(s.db, id))!)
 }
 
-export async function editInstance(s: Services, instanceId: string, body: InstanceUpdateBody, userId: string | null = null): Promise<Instance> {
-  const before = await repo.findInstance(s.db, instanceId)
-  await repo.updateInstance(s.db, instanceId, body)
+/**
+ * Moves, shows or colours a placement: the REST PATCH, a registration's accept (the server's actor) and a
+ * live writer's change to its instances entry (`sceneId`: the document's scene) all come here, through the
+ * same check (services/markerWrites.ts `checkPlacementEdit`).
+ */
+export async function editInstance(s: Services, instanceId: string, body: unknown, actor: Actor = SERVER_ACTOR, options: { sceneId?: string; fromLive?: boolean } = {}): Promise<Instance> {
+  const { before, change } = await checkPlacementEdit(s, actor, instanceId, body, options.sceneId)
+  await repo.updateInstance(s.db, instanceId, change)
   const row = await repo.findInstance(s.db, instanceId)
   if (!row) throw HttpError.notFound('No such placement.')
   await repo.touchScene(s.db, row.scene_id)
   // Visibility and colour change nothing measured; a new transform moves the markers with it.
-  const moved = body.matrix !== undefined && (!before || before.matrix.some((v, i) => Number(v) !== body.matrix![i]))
-  if (moved) await placementChanged(s, row.scene_id, instanceId, { how: 'moved', name: row.scan_name, userId })
-  await s.live.instanceChanged(row.scene_id, instanceId)
+  const moved = change.matrix !== undefined && before.matrix.some((v, i) => Number(v) !== change.matrix![i])
+  if (moved) await placementChanged(s, row.scene_id, instanceId, { how: 'moved', name: row.scan_name, userId: actor.userId })
+  if (!options.fromLive) await s.live.instanceChanged(row.scene_id, instanceId)
   return toInstance(row)
-}
-
-/** A placement as a writer left it in the work document: a rigid matrix, visibility, colour. */
-export async function editInstanceMatrixFromLive(s: Services, instanceId: string, entry: { matrix: number[]; visible: boolean; color: string }, userId: string | null): Promise<boolean> {
-  if (rigidProblem(entry.matrix) !== null || !/^#[0-9a-fA-F]{6}$/.test(entry.color)) return false
-  const before = await repo.findInstance(s.db, instanceId)
-  if (!before) return false
-  await repo.updateInstance(s.db, instanceId, { matrix: entry.matrix, visible: entry.visible, color: entry.color })
-  await repo.touchScene(s.db, before.scene_id)
-  if (before.matrix.some((v, i) => v !== entry.matrix[i])) await placementChanged(s, before.scene_id, instanceId, { how: 'moved', name: before.scan_name, userId })
-  return true
 }
 
 export async function removeInstance(s: Services, instanceId: string, userId: string | null = null): Promise<void> {

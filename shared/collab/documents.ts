@@ -46,8 +46,36 @@ export const CLOSE_CODES = {
   badOrigin: 4400,
   /** The server is shutting down; reconnect later. */
   goingAway: 1001,
+  /** The server failed on something of its own; reconnect. */
+  serverError: 1011,
+  /**
+   * A change the connection sent was refused before it was applied (another scene's id, a value that does
+   * not parse, a server-only map); the reason names the marker or placement and the problem. The page
+   * drops its copy of the document and loads the server's again.
+   */
+  refused: 4422,
+  /** A read-only connection (mentor, guest, anyone on the record document) sent a change. */
+  readOnly: 4405,
+  /** The person's role in the project changed: reconnect, and the new role holds. */
+  roleChanged: 4409,
+  /** The person was signed out (signing out, a new password): sign in again. */
+  signedOut: 4419,
+  /** The person is no longer a member, or the project was deleted. */
+  accessEnded: 4410,
 } as const
 export type CloseCodeName = keyof typeof CLOSE_CODES
+
+/** A WebSocket close reason is at most 123 bytes (RFC 6455 section 5.5: 125 less the 2-byte code). */
+export const CLOSE_REASON_MAX_BYTES = 123
+
+/** Cuts a reason to fit a close frame, on a character boundary. */
+export function closeReason(text: string): string {
+  const bytes = new TextEncoder().encode(text)
+  if (bytes.byteLength <= CLOSE_REASON_MAX_BYTES) return text
+  let out = text
+  while (new TextEncoder().encode(out + '…').byteLength > CLOSE_REASON_MAX_BYTES) out = out.slice(0, -1)
+  return out + '…'
+}
 
 /** Awareness (presence) limits per connection. */
 export const AWARENESS_LIMITS = { maxBytes: 2048, perSecond: 20 } as const

@@ -39,11 +39,14 @@ async function until(check: () => boolean, ms = 5000): Promise<void> {
     await new Promise((r) => setTimeout(r, 20))
   }
 }
-const closeCode = (p: WebsocketProvider) =>
-  new Promise<number>((resolve) => p.on('connection-close', (event: CloseEvent | null) => {
+const closeCode = (p: WebsocketProvider) => closeEvent(p).then((e) => e.code)
+const closeEvent = (p: WebsocketProvider) =>
+  new Promise<{ code: number; reason: string }>((resolve) => p.on('connection-close', (event: CloseEvent | null) => {
     p.shouldConnect = false
-    resolve(event?.code ?? -1)
+    resolve({ code: event?.code ?? -1, reason: String(event?.reason ?? '') })
   }))
+const M1 = '5e0e0000-0000-4000-8000-0000000000c1', M2 = '5e0e0000-0000-4000-8000-0000000000c2'
+const entry = (label: string, x = 0) => ({ kind: 'distance', label, anchors: [{ instanceId, x, y: 0, z: 0 }, { instanceId, x: x + 1, y: 0, z: 0 }], params: {} })
 
 beforeAll(async () => {
   t = await startTestServer()
@@ -67,35 +70,38 @@ describe('live documents', () => {
   it('converges two writers, and stores every update before it is sent', async () => {
     const a = client(cookies.owner!), b = client(cookies.measurer!)
     await Promise.all([synced(a.provider), synced(b.provider)])
-    a.markers.set('m1', { kind: 'distance', label: 'from A' })
-    b.markers.set('m2', { kind: 'angle', label: 'from B' })
+    a.markers.set(M1, entry('from A'))
+    b.markers.set(M2, entry('from B', 1))
     await until(() => a.markers.size === 2 && b.markers.size === 2)
-    expect(b.markers.get('m1')).toEqual({ kind: 'distance', label: 'from A' })
+    expect(b.markers.get(M1)).toEqual(entry('from A'))
     // Whatever a client has seen is in the store: a document loaded from it alone has both.
     const stored = await Room.load(t.server.services.db, sceneId, 'work', pino({ level: 'silent' }))
     expect(stored.doc.getMap(WORK_MAPS.markers).toJSON()).toEqual(a.markers.toJSON())
   })
 
-  it('drops every update a mentor sends, and keeps serving the mentor the document', async () => {
+  it('serves a mentor the document, and closes their socket (read-only) when they send a change, storing none of it', async () => {
     const mentor = client(cookies.mentor!)
     await synced(mentor.provider)
-    expect(mentor.markers.has('m1')).toBe(true)
+    expect(mentor.markers.has(M1)).toBe(true)
     const before = Number((await countUpdates(t.server.services.db, sceneId, 'work')).n)
-    mentor.markers.set('forged', { kind: 'distance', label: 'mentor wrote this' })
-    await new Promise((r) => setTimeout(r, 500))
+    const closed = closeEvent(mentor.provider)
+    mentor.markers.set('5e0e0000-0000-4000-8000-0000000000c3', entry('mentor wrote this'))
+    expect(await closed).toMatchObject({ code: CLOSE_CODES.readOnly, reason: expect.stringMatching(/mentor/) })
     const fresh = client(cookies.owner!)
     await synced(fresh.provider)
-    expect(fresh.markers.has('forged')).toBe(false)
+    expect(fresh.markers.has('5e0e0000-0000-4000-8000-0000000000c3')).toBe(false)
     expect(Number((await countUpdates(t.server.services.db, sceneId, 'work')).n)).toBe(before)
   })
 
-  it('lets nobody write the record document', async () => {
+  it('lets nobody write the record document (closed, read-only)', async () => {
     const owner = client(cookies.owner!, `${sceneId}/record`)
     await synced(owner.provider)
-    owner.doc.getMap('markers').set('m1', { state: 'checked' })
-    await new Promise((r) => setTimeout(r, 400))
+    const closed = closeCode(owner.provider)
+    owner.doc.getMap('markers').set(M1, { state: 'checked' })
+    expect(await closed).toBe(CLOSE_CODES.readOnly)
     const stored = await Room.load(t.server.services.db, sceneId, 'record', pino({ level: 'silent' }))
-    expect(stored.doc.getMap('markers').size).toBe(0)
+    expect(stored.doc.getMap('markers').get(M1)).not.toEqual({ state: 'checked' })
+    expect(stored.doc.getMap('markers').get(M1)).toMatchObject({ revision: 1 })
   })
 
   it('refuses an outsider, a caller without a session and a foreign origin with named close codes', async () => {
@@ -173,17 +179,20 @@ describe('one model: the API and the live documents', () => {
     expect(found).toMatchObject({ label: 'made live', createdBy: { name: 'Live Measurer' } })
   })
 
-  it('puts back a live marker the service refuses (a distance with one anchor)', async () => {
-    const w = client(cookies.measurer!)
-    await synced(w.provider)
+  it('refuses a live marker the checks refuse (a distance with one anchor) before applying it: closed, naming the field', async () => {
+    const w = client(cookies.measurer!), other = client(cookies.owner!)
+    await Promise.all([synced(w.provider), synced(other.provider)])
     const id = '5e0e0000-0000-4000-8000-000000000002'
+    const closed = closeEvent(w.provider)
     w.markers.set(id, { kind: 'distance', label: 'one anchor', anchors: anchors().slice(0, 1), params: {} })
-    await until(() => !w.markers.has(id))
+    // The same words as the API's 400 for this body (shared MarkerCreateBody), after the marker's id.
+    expect(await closed).toMatchObject({ code: CLOSE_CODES.refused, reason: expect.stringMatching(new RegExp(`^marker ${id}: anchors`)) })
+    expect(other.markers.has(id)).toBe(false)
     const list = (await ownerAgent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers
     expect(list.some((m: { id: string }) => m.id === id)).toBe(false)
   })
 
-  it('moves a placement live, as the API then returns it, and puts back a matrix that is not rigid', async () => {
+  it('moves a placement live, as the API then returns it, and refuses a matrix that is not rigid', async () => {
     const w = client(cookies.measurer!)
     await synced(w.provider)
     const instances = w.doc.getMap<{ scanId: string; matrix: number[]; visible: boolean; color: string }>(WORK_MAPS.instances)
@@ -198,8 +207,9 @@ describe('one model: the API and the live documents', () => {
       await new Promise((r) => setTimeout(r, 50))
     }
     expect(matrix).toEqual(moved)
+    const closed = closeEvent(w.provider)
     instances.set(instanceId, { ...instances.get(instanceId)!, matrix: [2, 0, 0, 0, 0, 2, 0, 0, 0, 0, 2, 0, 0, 0, 0, 1] })
-    await until(() => instances.get(instanceId)!.matrix[0] === 1)
+    expect(await closed).toMatchObject({ code: CLOSE_CODES.refused, reason: expect.stringMatching(new RegExp(`^placement ${instanceId}: matrix`)) })
     expect((await ownerAgent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.instances[0].matrix).toEqual(moved)
   })
 })
@@ -277,7 +287,7 @@ describe('roles, forgeries and reconnecting', () => {
   it.each([
     ['owner', 'stored', true],
     ['measurer', 'stored', true],
-    ['mentor', 'dropped', false],
+    ['mentor', 'refused', false],
   ] as const)('at the socket, a live edit by the %s is %s', async (role, _word, writes) => {
     const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: `for the ${role}`, anchors: anchors(2) }).expect(201)).body.marker
     const c = client(cookies[role]!)
@@ -294,7 +304,7 @@ describe('roles, forgeries and reconnecting', () => {
     expect(label).toBe(writes ? `renamed by the ${role}` : `for the ${role}`)
   })
 
-  it('lets no forged check, author or sign-off of a measurer reach the API, the record or the history', async () => {
+  it('lets no forged check, author or sign-off of a measurer reach the API, the record or the history (each refused and closed)', async () => {
     const made = (await ownerAgent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'distance', label: 'honest', anchors: anchors(3) }).expect(201)).body.marker
     const before = await apiMarker(made.id)
     const historyBefore = (await ownerAgent.get(`/api/markers/${made.id}/history`).expect(200)).body.revisions
@@ -302,17 +312,23 @@ describe('roles, forgeries and reconnecting', () => {
     await Promise.all([synced(w.provider), synced(r.provider)])
     await until(() => w.markers.has(made.id) && r.doc.getMap('markers').has(made.id))
     const recordBefore = JSON.stringify(r.doc.getMap('markers').get(made.id))
-    // Into the work document: a check, an author and a review beside the marker's own fields.
+    // Into the work document: a check, an author and a review beside the marker's own fields (refused, closed).
     const forgedCheck = { state: 'checked', value: 9.999, expandedUncertainty: 0 }
+    let closed = closeEvent(w.provider)
     w.markers.set(made.id, { kind: 'distance', label: 'honest', anchors: anchors(3), params: {}, check: forgedCheck, author: { name: 'Someone Else' }, review: 'signed-off' })
+    expect(await closed).toMatchObject({ code: CLOSE_CODES.refused, reason: expect.stringMatching(/Unrecognized key/i) })
     // A marker of its own with the same extras.
+    const w2 = client(cookies.measurer!)
+    await synced(w2.provider)
     const forgedId = '5e0e0000-0000-4000-8000-0000000000f0'
-    w.markers.set(forgedId, { kind: 'distance', label: 'forged', anchors: anchors(4), params: {}, check: forgedCheck, review: 'signed-off' })
+    closed = closeEvent(w2.provider)
+    w2.markers.set(forgedId, { kind: 'distance', label: 'forged', anchors: anchors(4), params: {}, check: forgedCheck, review: 'signed-off' })
+    expect((await closed).code).toBe(CLOSE_CODES.refused)
     // Into the record document directly: a check and a sign-off, whole and well formed, as the server writes one.
     const forgedReview = { state: 'signed-off', by: { id: before!.createdBy!.id, name: 'Live Mentor' }, at: new Date().toISOString(), note: 'forged' }
+    closed = closeEvent(r.provider)
     r.doc.getMap('markers').set(made.id, { ...JSON.parse(recordBefore), check: { ...forgedCheck }, review: forgedReview })
-    // The work document is put back (the entry as stored; the new one gone).
-    await until(() => !w.markers.has(forgedId) && !('check' in (w.markers.get(made.id) as object)))
+    expect((await closed).code).toBe(CLOSE_CODES.readOnly)
     await new Promise((res) => setTimeout(res, 400))
     const after = await apiMarker(made.id)
     expect(after).toEqual(before)

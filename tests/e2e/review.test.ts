@@ -158,3 +158,29 @@ it('lets the mentor comment on a marker and sign it off, shows both live to its 
   await measurer.context.close()
   await mentor.context.close()
 })
+
+it('carries a new role to the open scene page: it reconnects with it by itself and says so in the top bar', { timeout: 90_000 }, async () => {
+  const owner = t.agent()
+  await owner.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS.find((a) => a.role === 'owner')!.email, password: DEMO_PASSWORD }).expect(200)
+  const members = (await owner.get(`/api/projects/${projectId}/members`).expect(200)).body.members as { userId: string; email: string }[]
+  const mentorId = members.find((m) => m.email === account('mentor').email)!.userId
+  // Signed in through the API in the browser's context (its cookie jar), then straight to the scene.
+  const context = await browser.newContext({ viewport: { width: 1600, height: 900 } })
+  const page = await context.newPage()
+  const mentor = { page, context, problems: watchConsole(page) }
+  const signIn = await context.request.post(`${t.url}/api/auth/sign-in`, { headers: { origin: t.url }, data: { email: account('mentor').email, password: DEMO_PASSWORD } })
+  expect(signIn.status()).toBe(200)
+  await page.goto(`${t.url}/projects/${projectId}/scenes/${scene.id}`)
+  await expect.poll(() => page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
+  await expect.poll(() => page.getByTestId('scene-role').getAttribute('data-role')).toBe('mentor')
+  await owner.patch(`/api/projects/${projectId}/members/${mentorId}`).send({ role: 'measurer' }).expect(200)
+  await expect.poll(() => mentor.page.getByTestId('live-notice').innerText().catch(() => ''), { timeout: 5_000 }).toMatch(/role here is now measurer/)
+  expect(await mentor.page.getByTestId('live-notice').getAttribute('data-tone')).toBe('info')
+  await expect.poll(() => mentor.page.getByTestId('scene-role').getAttribute('data-role'), { timeout: 5_000 }).toBe('measurer')
+  await expect.poll(() => mentor.page.getByTestId('live-status').innerText(), { timeout: 10_000 }).toBe('live')
+  await shot(mentor.page, '68-role-changed-live')
+  await owner.patch(`/api/projects/${projectId}/members/${mentorId}`).send({ role: 'mentor' }).expect(200)
+  await expect.poll(() => mentor.page.getByTestId('scene-role').getAttribute('data-role'), { timeout: 5_000 }).toBe('mentor')
+  expect(mentor.problems).toEqual([])
+  await mentor.context.close()
+})
