@@ -35,6 +35,7 @@ const NO_LIVE: LiveSync = {
   sessionEnded: () => {},
   userSignedOut: () => {},
   projectDeleted: () => {},
+  sceneDeleted: () => {},
 }
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'

@@ -91,6 +91,8 @@ export interface LiveSync {
   userSignedOut(userId: string, reason: string): void
   /** The project was deleted: every socket on its scenes closes with accessEnded. */
   projectDeleted(projectId: string): void
+  /** The scene was deleted: every socket on its documents closes with accessEnded. */
+  sceneDeleted(sceneId: string): void
 }
 
 export interface SnappedPoint {

@@ -50,6 +50,8 @@ export class LiveDocumentsSync implements LiveSync {
     private readonly closePass: (passId: string) => void = () => {},
     /** The socket server's open connections, by account, session and project. */
     private readonly connections: Pick<ConnectionRegistry, 'membershipChanged' | 'sessionEnded' | 'userSignedOut' | 'projectDeleted'> | null = null,
+    /** Ends every connection to a scene's documents and forgets its rooms (the socket server's). */
+    private readonly closeScene: (sceneId: string) => void = () => {},
   ) {}
 
   passEnded(passId: string): void {
@@ -70,6 +72,10 @@ export class LiveDocumentsSync implements LiveSync {
 
   projectDeleted(projectId: string): void {
     this.connections?.projectDeleted(projectId)
+  }
+
+  sceneDeleted(sceneId: string): void {
+    this.closeScene(sceneId)
   }
 
   /**

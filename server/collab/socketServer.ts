@@ -42,7 +42,7 @@ export class CollabServer {
   ) {
     this.log = services.log.child({ part: 'collab' })
     this.allowedOrigins = allowedOrigins
-    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId), this.connections)
+    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId), this.connections, (sceneId) => this.closeScene(sceneId))
   }
 
   private readonly allowedOrigins: () => string[]
@@ -164,6 +164,25 @@ export class CollabServer {
   /** Closes every open socket of a viewing pass (revoked, or its guest left). */
   closePass(passId: string): void {
     for (const ws of this.passSockets.get(passId) ?? []) ws.close(CLOSE_CODES.forbidden, 'viewing pass revoked')
+  }
+
+  /**
+   * The scene was deleted: everyone on its two documents is cut off at once (nothing more of theirs is
+   * applied) with accessEnded, and its rooms are forgotten (their stored updates went with the scene).
+   */
+  closeScene(sceneId: string): void {
+    for (const kind of ['work', 'record'] as const) {
+      const key = `${sceneId}:${kind}`
+      const room = this.rooms.get(key)
+      if (!room) continue
+      this.rooms.delete(key)
+      void room.then(
+        (r) => {
+          for (const conn of r.connections.values()) Room.end(conn, 'accessEnded', 'this scene was deleted')
+        },
+        () => undefined,
+      )
+    }
   }
 
   /** The room of a scene's document, loaded once. */

@@ -34,6 +34,7 @@ export async function renameScene(s: Services, sceneId: string, name: string): P
 
 export async function removeScene(s: Services, sceneId: string): Promise<void> {
   await repo.deleteScene(s.db, sceneId)
+  s.live.sceneDeleted(sceneId)
 }
 
 /** Places a ready scan of the same project in the scene. */

@@ -381,6 +381,13 @@ describe('roles bind open sockets', () => {
     expect(closed.reason).toMatch(/deleted/)
   })
 
+  it('deleting a scene closes everyone’s sockets on it (access ended)', async () => {
+    const p = await scene(people.owner, places['this scene'].projectId)
+    const live = await measurerOnline(places['this scene'].projectId, p.sceneId)
+    const closed = await cutOff(live, () => people.owner.agent.delete(`/api/scenes/${p.sceneId}`).expect(204), 'accessEnded', p.instanceId)
+    expect(closed.reason).toMatch(/scene was deleted/)
+  })
+
   it('a role change closes with "role changed", and the reconnected socket holds the new role', async () => {
     const live = await measurerOnline()
     await cutOff(live, () => people.owner.agent.patch(`/api/projects/${places['this scene'].projectId}/members/${live.person.user.id}`).send({ role: 'mentor' }).expect(200), 'roleChanged')
