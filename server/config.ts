@@ -1,4 +1,5 @@
 import os from 'node:os'
+import { PRODUCTION_LIVE_LIMITS, type LiveLimits } from './collab/limits'
 import { z } from 'zod'
 
 /**
@@ -69,6 +70,8 @@ export interface Config {
   ingestStaleMs: number
   /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
   liveSettleMs: number
+  /** What one live connection may cost (server/collab/limits.ts). */
+  live: LiveLimits
   /**
    * E-mail to a marker's author about others' comments: one message per person gathers what arrived within
    * `gapMs` of the first waiting comment (5 min; short in tests); the job looks every `sweepMs`.
@@ -175,6 +178,8 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     worker: e.WORKER,
     ingestStaleMs: test ? 3000 : 30_000,
     liveSettleMs: test ? 300 : 2000,
+    // Tests leave rooms in memory a moment only, so a test of unloading does not wait half a minute.
+    live: test ? { ...PRODUCTION_LIVE_LIMITS, unloadGraceMs: 500 } : PRODUCTION_LIVE_LIMITS,
     commentMail: test ? { gapMs: 1500, sweepMs: 200 } : { gapMs: 5 * 60_000, sweepMs: 15_000 },
   }
 }

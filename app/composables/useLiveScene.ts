@@ -178,6 +178,11 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
         // Signed out elsewhere, or a new password: with a new session in this browser (a password changed
         // here) the connection comes back; without one the server answers "sign in first" and the page says so.
         setTimeout(() => closedProvider.connect(), 0)
+      } else if (code === CLOSE_CODES.tooMuch) {
+        // One of the connection's caps (too many messages a second, too much left unread): nothing it holds is
+        // lost; it reconnects after a pause and sends what the server lacks.
+        say(`Live connection paused: ${reason || 'too much at once'}. Reconnecting.`, 'info')
+        setTimeout(() => closedProvider.connect(), 2000)
       } else if (code === CLOSE_CODES.refused || code === CLOSE_CODES.readOnly) {
         // The server refused a change this page made and applied none of it. Sending the same document again
         // would be refused again: start afresh from the server's, and say what was not kept.

@@ -9,6 +9,7 @@ import { AWARENESS_LIMITS, CLOSE_CODES, RECORD_MAPS, WORK_MAPS, closeReason, typ
 import type { Role } from '@shared/auth/roles'
 import type { Db } from '../db'
 import { insertUpdate, loadDocumentLog, writeSnapshot } from '../repositories/sceneUpdates'
+import { ConnectionBudget, LIMIT_REASONS, PRODUCTION_LIVE_LIMITS, watchBacklog, type LiveLimits } from './limits'
 
 /** y-websocket's message types (its protocol: a varUint type, then the y-protocols payload). */
 export const MESSAGE_SYNC = 0
@@ -36,6 +37,8 @@ export interface Connection {
    * changed, project deleted): nothing it sent is applied after that, even if the socket is still closing.
    */
   ended: { code: CloseCodeName; reason: string } | null
+  /** Its counters against the live caps (server/collab/limits.ts). */
+  budget: ConnectionBudget
 }
 
 /**
@@ -77,6 +80,8 @@ export class Room {
   readonly doc = new Y.Doc({ gc: true })
   readonly awareness: awarenessProtocol.Awareness
   readonly connections = new Map<WebSocket, Connection>()
+  /** Sockets being admitted to this room right now (it is not unloaded while any is). */
+  pins = 0
   private queue: Promise<void> = Promise.resolve()
   /** Incoming updates, one at a time per room: nothing can slip in between an update's check and its apply. */
   private writes: Promise<void> = Promise.resolve()
@@ -94,6 +99,7 @@ export class Room {
     readonly sceneId: string,
     readonly kind: DocumentKind,
     private readonly log: pino.Logger,
+    readonly limits: LiveLimits,
   ) {
     this.awareness = new awarenessProtocol.Awareness(this.doc)
     // The server holds no presence of its own.
@@ -111,8 +117,8 @@ export class Room {
     })
   }
 
-  static async load(db: Db, sceneId: string, kind: DocumentKind, log: pino.Logger): Promise<Room> {
-    const room = new Room(db, sceneId, kind, log)
+  static async load(db: Db, sceneId: string, kind: DocumentKind, log: pino.Logger, limits: LiveLimits = PRODUCTION_LIVE_LIMITS): Promise<Room> {
+    const room = new Room(db, sceneId, kind, log, limits)
     const stored = await loadDocumentLog(db, sceneId, kind)
     Y.transact(
       room.doc,
@@ -167,23 +173,35 @@ export class Room {
   }
 
   broadcast(message: Uint8Array, except: WebSocket | null): void {
-    for (const socket of this.connections.keys()) if (socket !== except) send(socket, message)
+    for (const socket of this.connections.keys()) if (socket !== except) this.send(socket, message)
   }
 
   /** Handles one message from a connection (the y-websocket protocol). */
   async receive(conn: Connection, data: Uint8Array): Promise<void> {
     if (conn.ended) return
+    const budget = conn.budget
+    if (!conn.writable && data.byteLength > budget.limits.readOnlyBaseBytes) {
+      // A read-only connection sends its sync request (a state vector) and its presence, nothing bigger.
+      const cap = budget.readOnlyCap(Y.encodeStateVector(this.doc).byteLength)
+      if (data.byteLength > cap) return Room.end(conn, 'tooMuch', LIMIT_REASONS.readOnly(data.byteLength))
+    }
     const decoder = decoding.createDecoder(data)
     const type = decoding.readVarUint(decoder)
     if (type === MESSAGE_SYNC) {
       const subType = decoding.readVarUint(decoder)
+      const now = Date.now()
+      if (subType === syncProtocol.messageYjsSyncStep1 && !budget.syncs.take(now)) return Room.end(conn, 'tooMuch', LIMIT_REASONS.syncRequests(budget.limits.syncRequestsPerSecond))
+      if (subType !== syncProtocol.messageYjsSyncStep1) {
+        if (data.byteLength > budget.limits.writeBytes) return Room.end(conn, 'tooMuch', LIMIT_REASONS.writeBytes(budget.limits.writeBytes))
+        if (!budget.writes.take(now)) return Room.end(conn, 'tooMuch', LIMIT_REASONS.writes(budget.limits.writesPerSecond))
+      }
       if (subType === syncProtocol.messageYjsSyncStep1) {
         // A sync request: answered once every stored update has gone out.
         await this.flushed()
         const encoder = encoding.createEncoder()
         encoding.writeVarUint(encoder, MESSAGE_SYNC)
         syncProtocol.readSyncStep1(decoder, encoder, this.doc)
-        send(conn.socket, encoding.toUint8Array(encoder))
+        this.send(conn.socket, encoding.toUint8Array(encoder))
       } else if (subType === syncProtocol.messageYjsSyncStep2 || subType === syncProtocol.messageYjsUpdate) {
         await this.receiveUpdate(conn, decoding.readVarUint8Array(decoder))
       }
@@ -343,14 +361,34 @@ export class Room {
     const encoder = encoding.createEncoder()
     encoding.writeVarUint(encoder, MESSAGE_SYNC)
     syncProtocol.writeSyncStep1(encoder, this.doc)
-    send(conn.socket, encoding.toUint8Array(encoder))
+    this.send(conn.socket, encoding.toUint8Array(encoder))
     const states = [...this.awareness.getStates().keys()]
     if (states.length > 0) {
       const a = encoding.createEncoder()
       encoding.writeVarUint(a, MESSAGE_AWARENESS)
       encoding.writeVarUint8Array(a, awarenessProtocol.encodeAwarenessUpdate(this.awareness, states))
-      send(conn.socket, encoding.toUint8Array(a))
+      this.send(conn.socket, encoding.toUint8Array(a))
     }
+  }
+
+  /** Frees the document's memory (the socket server's unload, once nobody has it open). */
+  destroy(): void {
+    this.awareness.destroy()
+    this.shadow?.destroy()
+    this.shadow = null
+    this.doc.destroy()
+  }
+
+  /** Sends a message, and cuts off a socket whose unsent data stays over the backlog cap. */
+  private send(socket: WebSocket, message: Uint8Array): void {
+    if (socket.readyState !== socket.OPEN) return
+    socket.send(message, (err) => err && socket.terminate())
+    watchBacklog(socket, this.limits, () => {
+      const conn = this.connections.get(socket)
+      if (conn) conn.ended ??= { code: 'tooMuch', reason: LIMIT_REASONS.backlog(this.limits.backlogBytes, this.limits.backlogMs) }
+      this.log.info({ sceneId: this.sceneId, doc: this.kind, userId: conn?.userId, bufferedAmount: socket.bufferedAmount }, 'a live connection left too much unread: cut off')
+      socket.terminate()
+    })
   }
 
   leave(conn: Connection): void {
@@ -361,10 +399,6 @@ export class Room {
 
 const LOADING = Symbol('loading')
 const SERVER = Symbol('server')
-
-function send(socket: WebSocket, message: Uint8Array): void {
-  if (socket.readyState === socket.OPEN) socket.send(message, (err) => err && socket.terminate())
-}
 
 function equalBytes(a: Uint8Array, b: Uint8Array): boolean {
   return a.byteLength === b.byteLength && a.every((v, i) => v === b[i])

@@ -3,7 +3,7 @@ import type { Duplex } from 'node:stream'
 import type pino from 'pino'
 import { WebSocketServer, type WebSocket } from 'ws'
 import { can } from '@shared/auth/roles'
-import { CLOSE_CODES, type DocumentKind } from '@shared/collab/documents'
+import { CLOSE_CODES, closeReason, type DocumentKind } from '@shared/collab/documents'
 import { GUEST_COOKIE, readCookie } from '../auth/guestSessions'
 import { hashSecret } from '../auth/tokens'
 import { findMembership } from '../repositories/memberships'
@@ -12,6 +12,7 @@ import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
 import { ConnectionRegistry } from './connections'
 import { LiveDocumentsSync } from './liveSync'
+import { ConnectionBudget, EarlyMessages, LIMIT_REASONS } from './limits'
 import { Room, type Connection } from './room'
 
 const PATH = /^\/collab\/([0-9a-f-]{36})(\/record)?$/i
@@ -73,14 +74,16 @@ export class CollabServer {
   }
 
   private async admit(ws: WebSocket, req: http.IncomingMessage, sceneId: string, kind: DocumentKind): Promise<void> {
-    // The client speaks first (its sync step 1) while the session is still being checked: hold its messages.
-    const early: Uint8Array[] = []
+    // The client speaks first (its sync step 1) while the session is still being checked: hold its messages,
+    // within a cap (a socket that floods before it is admitted is closed and what it sent dropped).
+    const limits = this.services.config.live
+    const early = new EarlyMessages(limits)
     let deliver: ((bytes: Uint8Array) => void) | null = null
     ws.binaryType = 'nodebuffer'
     ws.on('message', (data: Buffer) => {
       const bytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength)
       if (deliver) deliver(bytes)
-      else early.push(bytes)
+      else if (!early.push(bytes) && ws.readyState === ws.OPEN) ws.close(CLOSE_CODES.tooMuch, closeReason(LIMIT_REASONS.early(limits.earlyMessages, limits.earlyBytes)))
     })
     const refuse = (code: keyof typeof CLOSE_CODES, reason: string) => ws.close(CLOSE_CODES[code], reason)
     if (!this.originAllowed(req)) return refuse('badOrigin', 'bad origin')
@@ -100,6 +103,37 @@ export class CollabServer {
     if (!scene || !role) return refuse('forbidden', 'not a member of this scene')
     if (!can(role, 'view')) return refuse('forbidden', 'not allowed')
     const room = await this.room(sceneId, kind)
+    // Held in memory while this socket is being admitted (a room nobody has open is unloaded after a while).
+    room.pins++
+    try {
+      await this.admitTo(ws, room, { sceneId, kind, guest, member, session, role, projectId: scene.project_id }, early, (d) => (deliver = d))
+    } finally {
+      room.pins--
+      this.unloadLater(sceneId, kind, room)
+    }
+  }
+
+  /** The rest of admitting a socket, once its room is loaded and held. */
+  private async admitTo(
+    ws: WebSocket,
+    room: Room,
+    who: {
+      sceneId: string
+      kind: DocumentKind
+      guest: NonNullable<Awaited<ReturnType<typeof findPassBySession>>> | null
+      member: { id: string; name: string } | null
+      session: { id: string } | null
+      role: Connection['role']
+      projectId: string
+    },
+    early: EarlyMessages,
+    setDeliver: (deliver: (bytes: Uint8Array) => void) => void,
+  ): Promise<void> {
+    const { sceneId, kind, guest, member, session, role } = who
+    const { auth, db } = this.services
+    const limits = this.services.config.live
+    const refuse = (code: keyof typeof CLOSE_CODES, reason: string) => ws.close(CLOSE_CODES[code], reason)
+    const scene = { project_id: who.projectId }
     if (ws.readyState !== ws.OPEN) return
     if (guest) {
       this.holdPass(ws, guest.id, guest.expires_at)
@@ -119,6 +153,7 @@ export class CollabServer {
       role,
       sessionId: guest ? null : session!.id,
       ended: null,
+      budget: new ConnectionBudget(limits),
     }
     this.connections.add(conn)
     ws.on('close', () => this.connections.remove(conn))
@@ -132,12 +167,16 @@ export class CollabServer {
     room.connections.set(ws, conn)
     let chain = Promise.resolve()
     // One message at a time per connection, in order.
-    deliver = (bytes) => {
+    const deliver = (bytes: Uint8Array) => {
       chain = chain.then(() => room.receive(conn, bytes)).catch((err) => this.log.warn({ err }, 'a live message was refused'))
     }
-    ws.on('close', () => room.leave(conn))
+    setDeliver(deliver)
+    ws.on('close', () => {
+      room.leave(conn)
+      this.unloadLater(sceneId, kind, room)
+    })
     room.greet(conn)
-    for (const bytes of early.splice(0)) deliver(bytes)
+    for (const bytes of early.take()) deliver(bytes)
   }
 
   /** Keeps a guest socket findable by its pass, and closes it when the pass expires. */
@@ -176,6 +215,8 @@ export class CollabServer {
       const room = this.rooms.get(key)
       if (!room) continue
       this.rooms.delete(key)
+      clearTimeout(this.unloadTimers.get(key))
+      this.unloadTimers.delete(key)
       void room.then(
         (r) => {
           for (const conn of r.connections.values()) Room.end(conn, 'accessEnded', 'this scene was deleted')
@@ -185,12 +226,45 @@ export class CollabServer {
     }
   }
 
+  private readonly unloadTimers = new Map<string, NodeJS.Timeout>()
+
+  /**
+   * A room nobody has open (and nobody is joining) is dropped from memory `config.live.unloadGraceMs` after
+   * it was last used, once everything it took is stored; the next connection or API write loads it again from
+   * PostgreSQL. Every use restarts the wait.
+   */
+  private unloadLater(sceneId: string, kind: DocumentKind, room: Room): void {
+    if (room.connections.size > 0 || room.pins > 0) return
+    const key = `${sceneId}:${kind}`
+    clearTimeout(this.unloadTimers.get(key))
+    const timer = setTimeout(() => {
+      this.unloadTimers.delete(key)
+      void this.unload(key, room).catch((err) => this.log.warn({ err, sceneId, doc: kind }, 'a live document could not be unloaded'))
+    }, this.services.config.live.unloadGraceMs)
+    timer.unref()
+    this.unloadTimers.set(key, timer)
+  }
+
+  private async unload(key: string, room: Room): Promise<void> {
+    const current = this.rooms.get(key)
+    if (!current || (await current.catch(() => null)) !== room) return
+    await room.flushed()
+    if (room.connections.size > 0 || room.pins > 0 || this.rooms.get(key) !== current || this.unloadTimers.has(key)) return
+    this.rooms.delete(key)
+    room.destroy()
+  }
+
+  /** Is this document in memory now? (tests and the bench) */
+  isLoaded(sceneId: string, kind: DocumentKind): boolean {
+    return this.rooms.has(`${sceneId}:${kind}`)
+  }
+
   /** The room of a scene's document, loaded once. */
   room(sceneId: string, kind: DocumentKind): Promise<Room> {
     const key = `${sceneId}:${kind}`
     let room = this.rooms.get(key)
     if (!room) {
-      room = Room.load(this.services.db, sceneId, kind, this.log).then(async (loaded) => {
+      room = Room.load(this.services.db, sceneId, kind, this.log, this.services.config.live).then(async (loaded) => {
         this.sync.watch(loaded)
         await this.sync.seed(loaded)
         return loaded
@@ -198,6 +272,8 @@ export class CollabServer {
       room.catch(() => this.rooms.delete(key))
       this.rooms.set(key, room)
     }
+    // Used now (an API write, a socket joining): it stays in memory at least another grace period.
+    void room.then((r) => this.unloadLater(sceneId, kind, r), () => undefined)
     return room
   }
 

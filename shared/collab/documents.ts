@@ -62,6 +62,12 @@ export const CLOSE_CODES = {
   signedOut: 4419,
   /** The person is no longer a member, or the project was deleted. */
   accessEnded: 4410,
+  /**
+   * The connection passed one of its caps (sync requests or changes a second, a change's size, messages before
+   * sign-in was checked, a read-only connection's message size, data left unread); the reason names it. The
+   * page waits a moment and reconnects.
+   */
+  tooMuch: 4429,
 } as const
 export type CloseCodeName = keyof typeof CLOSE_CODES
 
