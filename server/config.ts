@@ -58,7 +58,12 @@ export interface Config {
   /** The dev mailbox: mail kept by the fake SMTP server and its /dev/mail page and API (SPANMARK_DEV_MAILBOX). */
   devMail: boolean
   secureCookies: boolean
-  trustProxy: string | boolean
+  /**
+   * Express's `trust proxy`: which proxies' X-Forwarded-For to believe for `req.ip`, which keys the rate
+   * limits. Off by default (the header is ignored); a hop count (`1`), or names and addresses
+   * (`loopback`, `10.0.0.0/8`, comma-separated).
+   */
+  trustProxy: string | number | boolean
   logLevel: string
   argon2: { memoryCost: number; timeCost: number; parallelism: number }
   /** invite: invitations and viewing passes sent, per person; tokenUse: e-mailed links looked up, accepted or opened, per address. */
@@ -111,6 +116,14 @@ export function isLoopbackHost(host: string): boolean {
 /** 3 free failures, then 1 s, 2 s, 4 s ... up to 60 s between tries for that address. */
 export const PRODUCTION_SIGN_IN_DELAY = { free: 3, baseMs: 1000, capMs: 60_000 }
 
+function parseTrustProxy(value: string | undefined): string | number | boolean {
+  if (value === undefined || value === '' || value === 'false') return false
+  if (value === 'true') return true
+  // Express reads a number as a hop count, but a string '1' as an address: make the count a number.
+  if (/^\d+$/.test(value)) return Number(value)
+  return value
+}
+
 export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
   const parsed = Env.safeParse(source)
   if (!parsed.success) {
@@ -140,7 +153,7 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     seedDemo,
     devMail,
     secureCookies: publicUrl?.startsWith('https://') ?? false,
-    trustProxy: e.TRUST_PROXY === undefined ? false : e.TRUST_PROXY === 'true' ? true : e.TRUST_PROXY,
+    trustProxy: parseTrustProxy(e.TRUST_PROXY),
     logLevel: e.LOG_LEVEL ?? (test ? 'silent' : 'info'),
     argon2: test ? { memoryCost: 1024, timeCost: 1, parallelism: 1 } : PRODUCTION_ARGON2,
     rateLimits: test
