@@ -1,6 +1,7 @@
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
+import { sql } from 'kysely'
 import pino from 'pino'
 import supertest from 'supertest'
 import { loadConfig, type Config } from '../../server/config'
@@ -111,9 +112,7 @@ export async function signUpAs(t: TestServer, email: string, name = 'Test Person
     if (confirmed.status !== 200) throw new Error(`confirmation failed: ${confirmed.status} ${JSON.stringify(confirmed.body)}`)
     user = confirmed.body.user
   }
-  // The confirmation mail is delivered before the test goes on, so a later waitForMail(email, since) finds
-  // the mail it waits for rather than this one.
-  if (t.config.mail.fake) await t.server.services.mailer.flush()
+  await settleMail(t, email)
   return { agent, email, password, user }
 }
 
@@ -163,7 +162,25 @@ export async function joinProject(
     const promoted = await owner.patch(`/api/projects/${projectId}/members/${me.body.user.id}`).send({ role: 'owner' })
     if (promoted.status !== 200) throw new Error(`not promoted: ${promoted.status} ${JSON.stringify(promoted.body)}`)
   }
-  if (t.config.mail.fake) await t.server.services.mailer.flush()
+  await settleMail(t, person.email)
+}
+
+/**
+ * The helpers read their links from the outbox; their mails must not arrive later and be taken by a test's
+ * waitForMail(email, since) for the mail it waits for. Unclaimed ones are marked sent (never delivered: cheap);
+ * one a sender has claimed already is waited for.
+ */
+async function settleMail(t: TestServer, email: string): Promise<void> {
+  const db = t.server.services.db
+  await db
+    .updateTable('mail_outbox')
+    .set({ sent_at: new Date(), text_body: '', html_body: null })
+    .where('to_address', '=', email)
+    .where('sent_at', 'is', null)
+    .where('next_attempt_at', '<=', sql<Date>`now()`)
+    .execute()
+  const inFlight = await db.selectFrom('mail_outbox').select('id').where('to_address', '=', email).where('sent_at', 'is', null).executeTakeFirst()
+  if (inFlight && t.config.mail.fake) await t.server.services.mailer.flush()
 }
 
 /** The one-time token of an e-mailed link: it rides in the URL fragment (`#token=...`). */
