@@ -2,7 +2,7 @@
 // `npm start`: everything from a fresh machine to a running Spanmark. Plain Node on purpose: it runs
 // before node_modules exists. Installs what is missing, starts a private PostgreSQL cluster (kept between
 // runs), builds the client and starts the server, which applies migrations, seeds the demo project into
-// an empty database and starts the local mail fake. Ctrl-C stops what this script started.
+// an empty database and starts the dev mailbox (both asked for by flags here, never by default). Ctrl-C stops what this script started.
 import { ensureNodeModules, fail, localBin, log, run, startChild } from './lib/system.mjs'
 import { chooseDataDir, ensurePostgresInstalled, startCluster, stopCluster } from './lib/postgres.mjs'
 
@@ -27,9 +27,11 @@ async function main() {
     SPANMARK_ENV: process.env.SPANMARK_ENV ?? 'development',
     DATABASE_URL: cluster.url,
     PORT: process.env.SPANMARK_PORT ?? process.env.PORT ?? '5480',
-    MAIL_FAKE: process.env.MAIL_FAKE ?? '1',
+    HOST: process.env.HOST ?? '127.0.0.1',
     S3_FAKE: process.env.S3_FAKE ?? '1',
-    SEED_DEMO: process.env.SEED_DEMO ?? '1',
+    // The development conveniences (dev mailbox, demo seeding): asked for here, never a server default.
+    SPANMARK_DEV_MAILBOX: process.env.SPANMARK_DEV_MAILBOX ?? '1',
+    SPANMARK_DEMO: process.env.SPANMARK_DEMO ?? '1',
   }
   const server = startChild(localBin('tsx'), ['server/index.ts'], { env })
 

@@ -4,7 +4,12 @@ import { z } from 'zod'
 
 /**
  * Everything the server reads from its environment, parsed once. Three modes: development (`npm start`:
- * local fakes, the dev mailbox), test (cheap hashing, loose rate limits) and production.
+ * local fakes), test (cheap hashing, loose rate limits) and production.
+ *
+ * The development conveniences (the dev mailbox: a fake SMTP server that keeps every mail in `dev_mail`,
+ * shown at `/dev/mail`; the demo seeding) run only when asked for by their flag (`SPANMARK_DEV_MAILBOX=1`,
+ * `SPANMARK_DEMO=1`, or `SPANMARK_DEV=1` for both) and only on a loopback listener; a production server
+ * refuses to start with either asked for.
  */
 const Flag = z.enum(['0', '1', 'true', 'false']).transform((v) => v === '1' || v === 'true')
 
@@ -17,8 +22,11 @@ const Env = z.object({
   SMTP_HOST: z.string().default('127.0.0.1'),
   SMTP_PORT: z.coerce.number().int().min(0).max(65535).default(2525),
   MAIL_FROM: z.string().default('Spanmark <no-reply@spanmark.example>'),
+  /** Test servers only: whether the fake SMTP server runs (elsewhere it runs with the dev mailbox). */
   MAIL_FAKE: Flag.default(false),
-  SEED_DEMO: Flag.default(false),
+  SPANMARK_DEV: Flag.default(false),
+  SPANMARK_DEV_MAILBOX: Flag.optional(),
+  SPANMARK_DEMO: Flag.optional(),
   TRUST_PROXY: z.string().optional(),
   S3_ENDPOINT: z.url().optional(),
   S3_REGION: z.string().default('us-east-1'),
@@ -47,10 +55,17 @@ export interface Config {
   publicUrl: string | null
   databaseUrl: string
   mail: { host: string; port: number; from: string; fake: boolean }
+  /** Seeds the demo project into an empty database (SPANMARK_DEMO). */
   seedDemo: boolean
+  /** The dev mailbox: mail kept by the fake SMTP server and its /dev/mail page and API (SPANMARK_DEV_MAILBOX). */
   devMail: boolean
   secureCookies: boolean
-  trustProxy: string | boolean
+  /**
+   * Express's `trust proxy`: which proxies' X-Forwarded-For to believe for `req.ip`, which keys the rate
+   * limits. Off by default (the header is ignored); a hop count (`1`), or names and addresses
+   * (`loopback`, `10.0.0.0/8`, comma-separated).
+   */
+  trustProxy: string | number | boolean
   logLevel: string
   argon2: { memoryCost: number; timeCost: number; parallelism: number }
   /** invite: invitations and viewing passes sent, per person; tokenUse: e-mailed links looked up, accepted or opened, per address. */
@@ -59,6 +74,14 @@ export interface Config {
   limits: CostLimits
   jsonLimit: string
   passwordResetTtlMs: number
+  /** How long an address confirmation link works. */
+  emailConfirmTtlMs: number
+  /**
+   * Failed sign-ins for one address: the first `free` cost nothing; after that the address must wait
+   * `baseMs`, doubling with every further failure up to `capMs`, after its last failure (429 with
+   * Retry-After until then). A correct password after the wait signs in: nobody is locked out.
+   */
+  signInDelay: { free: number; baseMs: number; capMs: number }
   clientDir: string
   /** Folder for local state that is not in PostgreSQL: upload spool, the fake S3's files. */
   dataDir: string
@@ -127,6 +150,24 @@ export const PRODUCTION_RATE_LIMITS = {
   upload: { windowMs: 60 * 60_000, limit: 60 },
 }
 
+const LOOPBACK = new Set(['127.0.0.1', '::1', 'localhost', '[::1]'])
+
+/** Whether a listener on `host` is reachable only from this machine. */
+export function isLoopbackHost(host: string): boolean {
+  return LOOPBACK.has(host.toLowerCase()) || /^127\.\d+\.\d+\.\d+$/.test(host)
+}
+
+/** 3 free failures, then 1 s, 2 s, 4 s ... up to 60 s between tries for that address. */
+export const PRODUCTION_SIGN_IN_DELAY = { free: 3, baseMs: 1000, capMs: 60_000 }
+
+function parseTrustProxy(value: string | undefined): string | number | boolean {
+  if (value === undefined || value === '' || value === 'false') return false
+  if (value === 'true') return true
+  // Express reads a number as a hop count, but a string '1' as an address: make the count a number.
+  if (/^\d+$/.test(value)) return Number(value)
+  return value
+}
+
 export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
   const parsed = Env.safeParse(source)
   if (!parsed.success) {
@@ -137,17 +178,26 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
   const test = e.SPANMARK_ENV === 'test'
   const production = e.SPANMARK_ENV === 'production'
   const publicUrl = e.PUBLIC_URL ?? null
+  const devMail = e.SPANMARK_DEV_MAILBOX ?? e.SPANMARK_DEV
+  const seedDemo = e.SPANMARK_DEMO ?? e.SPANMARK_DEV
+  const asked = [devMail && 'SPANMARK_DEV_MAILBOX', seedDemo && 'SPANMARK_DEMO'].filter(Boolean).join(' and ')
+  if (asked && production) {
+    throw new Error(`bad environment: ${asked} (or SPANMARK_DEV) is a development convenience and is refused with SPANMARK_ENV=production; unset it`)
+  }
+  if (asked && !isLoopbackHost(e.HOST)) {
+    throw new Error(`bad environment: ${asked} (or SPANMARK_DEV) needs a loopback listener (HOST 127.0.0.1, ::1 or localhost), not HOST=${e.HOST}`)
+  }
   return {
     env: e.SPANMARK_ENV,
     host: e.HOST,
     port: e.PORT,
     publicUrl,
     databaseUrl: e.DATABASE_URL,
-    mail: { host: e.SMTP_HOST, port: e.SMTP_PORT, from: e.MAIL_FROM, fake: e.MAIL_FAKE && !production },
-    seedDemo: e.SEED_DEMO,
-    devMail: !production,
+    mail: { host: e.SMTP_HOST, port: e.SMTP_PORT, from: e.MAIL_FROM, fake: test ? e.MAIL_FAKE : devMail },
+    seedDemo,
+    devMail,
     secureCookies: publicUrl?.startsWith('https://') ?? false,
-    trustProxy: e.TRUST_PROXY === undefined ? false : e.TRUST_PROXY === 'true' ? true : e.TRUST_PROXY,
+    trustProxy: parseTrustProxy(e.TRUST_PROXY),
     logLevel: e.LOG_LEVEL ?? (test ? 'silent' : 'info'),
     argon2: test ? { memoryCost: 1024, timeCost: 1, parallelism: 1 } : PRODUCTION_ARGON2,
     rateLimits: test
@@ -163,6 +213,8 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     limits: PRODUCTION_LIMITS,
     jsonLimit: '256kb',
     passwordResetTtlMs: 60 * 60_000,
+    emailConfirmTtlMs: 48 * 60 * 60_000,
+    signInDelay: test ? { free: 3, baseMs: 300, capMs: 600 } : PRODUCTION_SIGN_IN_DELAY,
     clientDir: new URL('../dist', import.meta.url).pathname,
     dataDir: e.DATA_DIR ?? new URL('../.data', import.meta.url).pathname,
     storage: {

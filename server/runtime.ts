@@ -6,7 +6,7 @@ import type pino from 'pino'
 import { createLucia } from './auth/lucia'
 import { createPasswordHasher } from './auth/password'
 import { createApp } from './app'
-import type { Config } from './config'
+import { isLoopbackHost, type Config } from './config'
 import { createDb, createPool } from './db'
 import { migrateToLatest } from './db/migrate'
 import { seedDemo, seedDemoGuest } from './demo/seed'
@@ -42,6 +42,17 @@ import { ObjectStore } from './storage/objects'
 import type { Services } from './types'
 
 /**
+ * loadConfig refuses these already; this guards a Config built by hand (tests, scripts) the same way: the
+ * dev mailbox and the demo seeding never run in production nor on a listener others can reach.
+ */
+function refuseDevConveniences(config: Config): void {
+  const on = [config.devMail && 'the dev mailbox (SPANMARK_DEV_MAILBOX)', config.seedDemo && 'the demo seeding (SPANMARK_DEMO)'].filter(Boolean).join(' and ')
+  if (!on) return
+  if (config.env === 'production') throw new Error(`${on} is refused with SPANMARK_ENV=production; unset it`)
+  if (!isLoopbackHost(config.host)) throw new Error(`${on} needs a loopback listener (HOST 127.0.0.1, ::1 or localhost), not HOST=${config.host}`)
+}
+
+/**
  * Owns everything the process runs: the pool, the local fakes, the job queue and its worker process,
  * the mail sender and the HTTP server. Starts them in order and stops them in reverse.
  */
@@ -64,6 +75,7 @@ export class SpanmarkServer {
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
+    refuseDevConveniences(config)
     const pool = createPool(config.databaseUrl)
     const db = createDb(pool)
     const started: { close(): Promise<void> | void }[] = [{ close: () => db.destroy() }]

@@ -9,7 +9,8 @@ import { takeFragmentToken } from './useFragmentToken'
 import { queryKeys } from './queryKeys'
 
 /** The tab keeps the token while its person signs up or signs in and comes back (never in a URL). */
-const KEPT = 'spanmark.invite-token'
+export const KEPT_INVITE_TOKEN = 'spanmark.invite-token'
+const KEPT = KEPT_INVITE_TOKEN
 
 /**
  * The invitation page: the token from the link's fragment (kept for this tab), what it invites to, and the

@@ -28,6 +28,12 @@ const routes: RouteRecordRaw[] = [
     meta: { public: true, guestOnly: true, layout: 'auth', title: 'Create an account' },
   },
   {
+    path: '/confirm-email',
+    name: 'confirm-email',
+    component: () => import('@/views/ConfirmEmailView.vue'),
+    meta: { public: true, layout: 'auth', title: 'Confirm your address' },
+  },
+  {
     path: '/forgot-password',
     name: 'forgot-password',
     component: () => import('@/views/ForgotPasswordView.vue'),

@@ -1,6 +1,6 @@
 import { computed, ref } from 'vue'
 import { defineStore } from 'pinia'
-import type { GuestSession, SessionInfo, SignInBody, SignUpBody, User } from '@shared/schemas'
+import type { GuestSession, SessionInfo, SignInBody, SignUpAccepted, SignUpBody, User } from '@shared/schemas'
 import * as authApi from '@/api/auth'
 import { getSession } from '@/api/session'
 import { queryClient } from '@/plugins/query'
@@ -54,10 +54,9 @@ export const useSessionStore = defineStore('session', () => {
     return me
   }
 
-  async function signUp(body: SignUpBody): Promise<User> {
-    const me = await authApi.signUp(body)
-    setUser(me)
-    return me
+  /** Signs nobody in: the account is made (or its owner told) and the confirmation link is in the mailbox. */
+  function signUp(body: SignUpBody): Promise<SignUpAccepted> {
+    return authApi.signUp(body)
   }
 
   /** Signs out, and ends a viewing pass held in this browser too (the server clears both cookies). */

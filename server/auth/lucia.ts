@@ -9,7 +9,7 @@ export function createLucia(pool: pg.Pool, secureCookies: boolean) {
     sessionExpiresIn: new TimeSpan(30, 'd'),
     sessionCookie: { name: SESSION_COOKIE, attributes: { secure: secureCookies, sameSite: 'lax' } },
     // The adapter selects every user column; only these leave the server.
-    getUserAttributes: (a) => ({ email: a.email, name: a.name, createdAt: a.created_at }),
+    getUserAttributes: (a) => ({ email: a.email, name: a.name, createdAt: a.created_at, emailConfirmed: a.email_confirmed_at !== null }),
   })
 }
 
@@ -18,6 +18,6 @@ export type Auth = ReturnType<typeof createLucia>
 declare module 'lucia' {
   interface Register {
     Lucia: Auth
-    DatabaseUserAttributes: { email: string; name: string; created_at: Date }
+    DatabaseUserAttributes: { email: string; name: string; created_at: Date; email_confirmed_at: Date | null }
   }
 }

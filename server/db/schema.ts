@@ -9,8 +9,26 @@ export interface UsersTable {
   email: string
   name: string
   password_hash: string
+  /** Null until the address is confirmed by its e-mailed link. */
+  email_confirmed_at: Date | null
   created_at: Timestamp
   updated_at: Timestamp
+}
+
+export interface EmailConfirmationsTable {
+  id: Generated<string>
+  user_id: string
+  token_hash: string
+  expires_at: Date
+  used_at: Date | null
+  created_at: Generated<Date>
+}
+
+/** Failed sign-ins per address typed (known or not), for the growing delay. */
+export interface SignInFailuresTable {
+  email: string
+  failures: number
+  last_failed_at: Date
 }
 
 export interface SessionsTable {
@@ -345,6 +363,8 @@ export interface Database {
   users: UsersTable
   sessions: SessionsTable
   password_resets: PasswordResetsTable
+  email_confirmations: EmailConfirmationsTable
+  sign_in_failures: SignInFailuresTable
   projects: ProjectsTable
   memberships: MembershipsTable
   mail_outbox: MailOutboxTable

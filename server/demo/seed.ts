@@ -27,7 +27,7 @@ export async function seedDemo(s: Services): Promise<boolean> {
   const passwordHash = await s.hasher.hash(DEMO_PASSWORD)
   const { projectId, measurerId } = await s.db.transaction().execute(async (tx) => {
     const users = []
-    for (const a of DEMO_ACCOUNTS) users.push({ ...a, row: await insertUser(tx, { email: a.email, name: a.name, password_hash: passwordHash }) })
+    for (const a of DEMO_ACCOUNTS) users.push({ ...a, row: await insertUser(tx, { email: a.email, name: a.name, password_hash: passwordHash, email_confirmed_at: new Date() }) })
     const owner = users.find((u) => u.role === 'owner')!
     const { id } = await insertProject(tx, { ...DEMO_PROJECT, createdBy: owner.row.id })
     for (const u of users) await insertMembership(tx, id, u.row.id, u.role)

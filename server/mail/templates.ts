@@ -23,6 +23,36 @@ export function passwordResetMail(to: string, name: string, link: string, ttlMin
   }
 }
 
+export function confirmEmailMail(to: string, name: string, link: string, ttlHours: number): OutgoingMail {
+  const lines = [
+    `Hello ${name},`,
+    `welcome to Spanmark. The link below confirms that ${to} is your address and signs you in; it works once, for ${ttlHours} hours.`,
+    'If you did not sign up, ignore this message: the account stays unconfirmed and cannot join any project.',
+  ]
+  return {
+    to,
+    subject: 'Confirm your address for Spanmark',
+    text: `${lines.join('\n\n')}\n\n${link}\n\nSpanmark`,
+    html: html(lines, { href: link, label: 'Confirm my address' }),
+  }
+}
+
+/** To the owner of an address someone tried to sign up with again: no new account was made. */
+export function signUpAttemptMail(to: string, name: string, signInLink: string, resetLink: string): OutgoingMail {
+  const lines = [
+    `Hello ${name},`,
+    `someone tried to sign up for Spanmark with your address, ${to}. You already have an account, so nothing was changed.`,
+    `If it was you, sign in (${signInLink}) or, if you forgot your password, reset it (${resetLink}).`,
+    'If it was not you, ignore this message.',
+  ]
+  return {
+    to,
+    subject: 'Someone tried to sign up with your address',
+    text: `${lines.join('\n\n')}\n\nSpanmark`,
+    html: html(lines, { href: signInLink, label: 'Sign in' }),
+  }
+}
+
 export function passwordChangedMail(to: string, name: string): OutgoingMail {
   const text = `Hello ${name},\n\nthe password of your Spanmark account was just changed, and every other session was signed out. If this was not you, reset the password at once and tell your project's owner.\n\nSpanmark`
   return { to, subject: 'Your Spanmark password was changed', text }

@@ -1,4 +1,4 @@
-import { ChangePasswordBody, ResetConfirmBody, ResetRequestBody, SignInBody, SignUpBody, UpdateMeBody } from '@shared/schemas'
+import { ChangePasswordBody, ConfirmEmailBody, ResetConfirmBody, ResetRequestBody, SignInBody, SignUpBody, UpdateMeBody } from '@shared/schemas'
 import { GUEST_COOKIE } from '../auth/guestSessions'
 import * as accounts from '../services/accounts'
 import { toUser } from '../services/mappers'
@@ -12,7 +12,26 @@ export const authRoutes: RouteDef[] = [
     access: { kind: 'public' },
     limiter: 'signUp',
     body: SignUpBody,
-    handler: async ({ services, res, body }) => ({ status: 201, body: { user: await accounts.signUp(services, res, body) } }),
+    // 202 and no session whether or not the address had an account: the next step is in the mailbox.
+    handler: async ({ services, body }) => ({ status: 202, body: await accounts.signUp(services, body) }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/auth/confirm-email',
+    access: { kind: 'public' },
+    limiter: 'tokenUse',
+    body: ConfirmEmailBody,
+    handler: async ({ services, res, body }) => ({ body: { user: await accounts.confirmEmail(services, res, body.token) } }),
+  }),
+  defineRoute({
+    method: 'post',
+    path: '/me/confirm-email/resend',
+    access: { kind: 'user' },
+    limiter: 'signUp',
+    handler: async ({ services, user }) => {
+      await accounts.resendConfirmation(services, user!.id)
+      return { status: 202, body: { ok: true } }
+    },
   }),
   defineRoute({
     method: 'post',

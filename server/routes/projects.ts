@@ -1,4 +1,4 @@
-import { MemberAddBody, MemberParams, MemberUpdateBody, ProjectCreateBody, ProjectParams, ProjectUpdateBody } from '@shared/schemas'
+import { MemberParams, MemberUpdateBody, ProjectCreateBody, ProjectParams, ProjectUpdateBody } from '@shared/schemas'
 import * as projects from '../services/projects'
 import { defineRoute, type RouteDef } from './registry'
 
@@ -47,14 +47,8 @@ export const projectRoutes: RouteDef[] = [
     params: ProjectParams,
     handler: async ({ services, params, membership }) => ({ body: { members: await projects.members(services, params.projectId, membership!.role) } }),
   }),
-  defineRoute({
-    method: 'post',
-    path: '/projects/:projectId/members',
-    access: { kind: 'project', right: 'manage' },
-    params: ProjectParams,
-    body: MemberAddBody,
-    handler: async ({ services, params, body }) => ({ status: 201, body: { member: await projects.addMember(services, params.projectId, body) } }),
-  }),
+  // People join only through an e-mailed invitation (routes/invites.ts): adding an address straight would
+  // tell any owner whether that address has an account.
   defineRoute({
     method: 'patch',
     path: '/projects/:projectId/members/:userId',

@@ -125,7 +125,14 @@ export async function acceptInvite(s: Services, user: AuthUser, token: string): 
         `This invitation is for ${invite.email}, and you are signed in as ${account?.email ?? 'someone else'}. Sign out, then sign in or create an account with ${invite.email}; or ask the owner to invite ${account?.email ?? 'your address'}.`,
       )
     }
-    // Someone already a member (added by hand meanwhile) keeps the role they have.
+    if (!account.email_confirmed_at) {
+      throw new HttpError(
+        403,
+        ErrorCode.emailUnconfirmed,
+        `Confirm your address ${account.email} before joining: open the confirmation link we e-mailed you, or ask for a new one (POST /api/me/confirm-email/resend, or "Send the link again" on this page).`,
+      )
+    }
+    // Someone already a member keeps the role they have.
     await insertMembership(tx, invite.project_id, user.id, invite.role)
     await markInviteAccepted(tx, invite.id, user.id)
     const membership = (await findMembership(tx, invite.project_id, user.id))!

@@ -14,8 +14,8 @@ import type { UploadTokenWithCreatorRow } from '../repositories/uploadTokens'
 
 /** Database rows (snake_case) to API objects (camelCase): the only place the two spellings meet. */
 export function toUser(row: UserRow | AuthUser): User {
-  if ('password_hash' in row) return { id: row.id, email: row.email, name: row.name, createdAt: row.created_at.toISOString() }
-  return { id: row.id, email: row.email, name: row.name, createdAt: new Date(row.createdAt).toISOString() }
+  if ('password_hash' in row) return { id: row.id, email: row.email, name: row.name, createdAt: row.created_at.toISOString(), emailConfirmed: row.email_confirmed_at !== null }
+  return { id: row.id, email: row.email, name: row.name, createdAt: new Date(row.createdAt).toISOString(), emailConfirmed: row.emailConfirmed }
 }
 
 export function toProject(row: ProjectWithRoleRow): Project {

@@ -1,4 +1,4 @@
-import type { Member, MemberAddBody, Project, ProjectCreateBody, ProjectUpdateBody } from '@shared/schemas'
+import type { Member, Project, ProjectCreateBody, ProjectUpdateBody } from '@shared/schemas'
 import type { Role } from '@shared/auth/roles'
 import { HttpError } from '../errors'
 import type { Conn } from '../db'
@@ -50,14 +50,6 @@ export async function removeProject(s: Services, projectId: string): Promise<voi
 export async function members(s: Services, projectId: string, asRole: Role): Promise<Member[]> {
   const list = (await listMembers(s.db, projectId)).map(toMember)
   return asRole === 'guest' ? list.map((m) => ({ ...m, email: null })) : list
-}
-
-export async function addMember(s: Services, projectId: string, body: MemberAddBody): Promise<Member> {
-  const user = await findUserByEmail(s.db, body.email)
-  if (!user) throw new HttpError(404, 'not-found', 'No account uses that e-mail address.', 'email')
-  const added = await insertMembership(s.db, projectId, user.id, body.role)
-  if (!added) throw HttpError.conflict(`${user.name} is already a member of this project.`, 'email')
-  return toMember((await findMember(s.db, projectId, user.id))!)
 }
 
 /**

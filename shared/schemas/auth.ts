@@ -30,11 +30,26 @@ export const ResetConfirmBody = z.object({
 })
 export type ResetConfirmBody = z.infer<typeof ResetConfirmBody>
 
+/** The one-time token of an address confirmation link (from the link's `#token=` fragment). */
+export const ConfirmEmailBody = z.object({
+  token: z.string({ error: 'must be text' }).regex(/^[A-Za-z0-9_-]{20,100}$/, { error: 'is not a confirmation token' }),
+})
+export type ConfirmEmailBody = z.infer<typeof ConfirmEmailBody>
+
+/**
+ * What sign-up answers, the same whether or not the address had an account (202, no session): the next step
+ * is in the mailbox, a confirmation link for a new account or a note for the owner of a taken address.
+ */
+export const SignUpAccepted = z.object({ email: z.string(), next: z.literal('check-inbox') })
+export type SignUpAccepted = z.infer<typeof SignUpAccepted>
+
 export const User = z.object({
   id: Id,
   email: z.string(),
   name: z.string(),
   createdAt: Timestamp,
+  /** Whether the address has been proven by its e-mailed link; an unconfirmed account cannot accept invitations. */
+  emailConfirmed: z.boolean(),
 })
 export type User = z.infer<typeof User>
 

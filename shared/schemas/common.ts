@@ -49,6 +49,8 @@ export const ErrorCode = {
   invalidToken: 'invalid-token',
   /** An invitation addressed to another e-mail than the signed-in account's. */
   wrongAccount: 'wrong-account',
+  /** The account's e-mail address is not confirmed yet (invitations need a proven address). */
+  emailUnconfirmed: 'email-unconfirmed',
   internal: 'internal',
   unavailable: 'unavailable',
 } as const

@@ -96,7 +96,5 @@ export const MemberList = z.object({ members: z.array(Member) })
 export const MemberResponse = z.object({ member: Member })
 
 /** Adds a person who already has an account; people without one are invited by e-mail. */
-export const MemberAddBody = z.object({ email: Email, role: MemberRoleSchema })
-export type MemberAddBody = z.infer<typeof MemberAddBody>
 export const MemberUpdateBody = z.object({ role: MemberRoleSchema })
 export type MemberUpdateBody = z.infer<typeof MemberUpdateBody>

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { confirmationLink, signUpAgent, startTestServer, tokenOf, type TestServer } from '../utils/server'
 
 let t: TestServer
 beforeAll(async () => {
@@ -19,8 +19,11 @@ describe('accounts', () => {
     await agent.get('/api/me').expect(401)
   })
 
-  it('sets an HttpOnly, SameSite=Lax session cookie that is not Secure over plain http', async () => {
-    const res = await t.agent().post('/api/auth/sign-up').send({ email: 'cookie@spanmark.example', password: 'long enough pw', name: 'C' }).expect(201)
+  it('sets an HttpOnly, SameSite=Lax session cookie that is not Secure over plain http, on confirming', async () => {
+    const email = 'cookie@spanmark.example'
+    const since = new Date()
+    await t.agent().post('/api/auth/sign-up').send({ email, password: 'long enough pw', name: 'C' }).expect(202)
+    const res = await t.agent().post('/api/auth/confirm-email').send({ token: tokenOf(await confirmationLink(t, email, since)) }).expect(200)
     const cookie = String(res.headers['set-cookie'])
     expect(cookie).toMatch(/spanmark_session=/)
     expect(cookie).toMatch(/HttpOnly/)
@@ -28,10 +31,11 @@ describe('accounts', () => {
     expect(cookie).not.toMatch(/Secure/)
   })
 
-  it('lowercases e-mail and refuses a second account for it with 409 on the email field', async () => {
-    await t.agent().post('/api/auth/sign-up').send({ email: 'Twice@Spanmark.example', password: 'long enough pw', name: 'T' }).expect(201)
-    const res = await t.agent().post('/api/auth/sign-up').send({ email: 'twice@spanmark.example', password: 'long enough pw', name: 'T' }).expect(409)
-    expect(res.body.error).toMatchObject({ code: 'conflict', field: 'email' })
+  it('lowercases e-mail and makes no second account for it', async () => {
+    await t.agent().post('/api/auth/sign-up').send({ email: 'Twice@Spanmark.example', password: 'long enough pw', name: 'T' }).expect(202)
+    await t.agent().post('/api/auth/sign-up').send({ email: 'twice@spanmark.example', password: 'other long pw', name: 'T2' }).expect(202)
+    const rows = await t.server.services.db.selectFrom('users').select(['email', 'name']).where('email', 'ilike', 'twice@spanmark.example').execute()
+    expect(rows).toEqual([{ email: 'twice@spanmark.example', name: 'T' }])
   })
 
   it('names the bad field in a 400', async () => {
@@ -118,5 +122,138 @@ describe('accounts', () => {
     const row = await t.server.services.db.selectFrom('users').select('password_hash').where('email', '=', email).executeTakeFirstOrThrow()
     expect(row.password_hash.startsWith('$argon2id$')).toBe(true)
     expect(row.password_hash).not.toContain(password)
+  })
+})
+
+describe('sign-up reveals no account', () => {
+  it('answers a taken address exactly as a free one: 202, same body, no session; the owner is told by e-mail', async () => {
+    const owner = await signUpAgent(t, 'Taken Owner')
+    const freeEmail = `free-${Date.now()}@spanmark.example`
+    const since = new Date()
+    const taken = await t.agent().post('/api/auth/sign-up').send({ email: owner.email, password: 'someone elses pw', name: 'Intruder' })
+    const free = await t.agent().post('/api/auth/sign-up').send({ email: freeEmail, password: 'someone elses pw', name: 'Newcomer' })
+    expect(taken.status).toBe(202)
+    expect(free.status).toBe(202)
+    expect(Object.keys(taken.body).sort()).toEqual(Object.keys(free.body).sort())
+    expect(taken.body).toEqual({ email: owner.email, next: 'check-inbox' })
+    expect(taken.headers['set-cookie']).toBeUndefined()
+    expect(free.headers['set-cookie']).toBeUndefined()
+    const note = await t.waitForMail(owner.email, since)
+    expect(note.subject).toMatch(/tried to sign up/)
+    expect(note.text).toMatch(/sign in/)
+    expect(note.text).toMatch(/reset/)
+    expect(note.links.some((l) => l.includes('/confirm-email'))).toBe(false)
+    // The owner's password is untouched and the intruder's does not sign in.
+    await t.agent().post('/api/auth/sign-in').send({ email: owner.email, password: 'someone elses pw' }).expect(401)
+    await t.agent().post('/api/auth/sign-in').send({ email: owner.email, password: owner.password }).expect(200)
+    expect((await t.waitForMail(freeEmail, since)).subject).toMatch(/Confirm your address/)
+  })
+
+  it('hashes the password on the taken path as well (the answer takes as long)', async () => {
+    const owner = await signUpAgent(t)
+    const hasher = t.server.services.hasher
+    const original = hasher.hash.bind(hasher)
+    let hashed = 0
+    hasher.hash = async (p: string) => {
+      hashed++
+      return original(p)
+    }
+    try {
+      await t.agent().post('/api/auth/sign-up').send({ email: owner.email, password: 'another long pw', name: 'Again' }).expect(202)
+    } finally {
+      hasher.hash = original
+    }
+    expect(hashed).toBe(1)
+  })
+})
+
+describe('address confirmation', () => {
+  it('stores the link only as its SHA-256, confirms once, signs in, and confirms the account', async () => {
+    const email = `confirm-${Date.now()}@spanmark.example`
+    const since = new Date()
+    await t.agent().post('/api/auth/sign-up').send({ email, password: 'long enough pw', name: 'Cora Confirm' }).expect(202)
+    const link = await confirmationLink(t, email, since)
+    expect(link).toMatch(/\/confirm-email#token=/)
+    const token = tokenOf(link)
+    const rows = await t.server.services.db.selectFrom('email_confirmations').select('token_hash').execute()
+    const { createHash } = await import('node:crypto')
+    expect(rows.map((r) => r.token_hash)).toContain(createHash('sha256').update(token).digest('hex'))
+    expect(rows.map((r) => r.token_hash)).not.toContain(token)
+    const agent = t.agent()
+    const confirmed = await agent.post('/api/auth/confirm-email').send({ token }).expect(200)
+    expect(confirmed.body.user).toMatchObject({ email, emailConfirmed: true })
+    expect((await agent.get('/api/me').expect(200)).body.user.emailConfirmed).toBe(true)
+    const again = await t.agent().post('/api/auth/confirm-email').send({ token }).expect(400)
+    expect(again.body.error).toMatchObject({ code: 'invalid-token', field: 'token' })
+    expect(again.body.error.message).toMatch(/used already/)
+  })
+
+  it('lets an unconfirmed account sign in, refuses it an invitation with 403, and resends the link', async () => {
+    const owner = await signUpAgent(t, 'Inviting Owner')
+    const projectId = (await owner.agent.post('/api/projects').send({ name: 'Proof' }).expect(201)).body.project.id
+    const fresh = await signUpAgent(t, 'Unconfirmed Una', { confirm: false })
+    expect(fresh.user.emailConfirmed).toBe(false)
+    const since = new Date()
+    await owner.agent.post(`/api/projects/${projectId}/invites`).send({ email: fresh.email, role: 'measurer' }).expect(201)
+    const invite = (await t.waitForMail(fresh.email, since)).links.find((l) => l.includes('/invites/accept#token='))!
+    const refused = await fresh.agent.post('/api/invites/accept').send({ token: tokenOf(invite) }).expect(403)
+    expect(refused.body.error.code).toBe('email-unconfirmed')
+    expect(refused.body.error.message).toMatch(/Confirm your address/)
+    expect(refused.body.error.message).toMatch(/resend/)
+    await owner.agent.get(`/api/projects/${projectId}/members`).expect(200).then((r) => expect(r.body.members).toHaveLength(1))
+    const resentSince = new Date()
+    await fresh.agent.post('/api/me/confirm-email/resend').expect(202)
+    const fresher = tokenOf(await confirmationLink(t, fresh.email, resentSince))
+    await fresh.agent.post('/api/auth/confirm-email').send({ token: fresher }).expect(200)
+    await fresh.agent.post('/api/invites/accept').send({ token: tokenOf(invite) }).expect(200)
+    await fresh.agent.post('/api/me/confirm-email/resend').expect(409)
+  })
+
+  it('refuses a confirmation token that is not one, naming the field', async () => {
+    const res = await t.agent().post('/api/auth/confirm-email').send({ token: 'x' }).expect(400)
+    expect(res.body.error.field).toBe('token')
+    const unknown = await t.agent().post('/api/auth/confirm-email').send({ token: 'a'.repeat(43) }).expect(400)
+    expect(unknown.body.error.message).toMatch(/not known/)
+  })
+})
+
+describe('failed sign-ins slow down per address', () => {
+  // Test config: 3 free failures, then 300 ms doubling up to 600 ms.
+  it('answers 429 with Retry-After after the free failures, and the right password signs in once the wait is over', async () => {
+    const { email, password } = await signUpAgent(t)
+    // The three free failures are answered at once; the third starts the wait.
+    for (let i = 0; i < 3; i++) await t.agent().post('/api/auth/sign-in').send({ email, password: 'wrong password' }).expect(401)
+    const early = await t.agent().post('/api/auth/sign-in').send({ email, password }).expect(429)
+    expect(early.headers['retry-after']).toBe('1')
+    expect(early.body.error.code).toBe('too-many-requests')
+    // Another address is not slowed by this one.
+    const other = await signUpAgent(t)
+    await t.agent().post('/api/auth/sign-in').send({ email: other.email, password: other.password }).expect(200)
+    const stored = await t.server.services.db.selectFrom('sign_in_failures').selectAll().where('email', '=', email).executeTakeFirstOrThrow()
+    expect(stored.failures).toBe(3)
+    await new Promise((r) => setTimeout(r, 320))
+    // Never locked out: the right password after the wait signs in and clears the count.
+    await t.agent().post('/api/auth/sign-in').send({ email, password }).expect(200)
+    expect(await t.server.services.db.selectFrom('sign_in_failures').selectAll().where('email', '=', email).executeTakeFirst()).toBeUndefined()
+  })
+
+  it('slows an unknown address alike, so the delay tells nothing about accounts', async () => {
+    const email = `nobody-${Date.now()}@spanmark.example`
+    for (let i = 0; i < 3; i++) await t.agent().post('/api/auth/sign-in').send({ email, password: 'wrong password' }).expect(401)
+    const early = await t.agent().post('/api/auth/sign-in').send({ email, password: 'wrong password' }).expect(429)
+    expect(early.headers['retry-after']).toBe('1')
+  })
+
+  it('doubles the wait up to the cap', async () => {
+    const { loadConfig, PRODUCTION_SIGN_IN_DELAY } = await import('../../server/config')
+    expect(loadConfig({ DATABASE_URL: 'postgres://x/y', SPANMARK_ENV: 'production' }).signInDelay).toEqual(PRODUCTION_SIGN_IN_DELAY)
+    const { email } = await signUpAgent(t)
+    const db = t.server.services.db
+    // Ten failures long ago, one just now: the wait is the cap (600 ms in tests), not 300 * 2^7.
+    await db.insertInto('sign_in_failures').values({ email, failures: 10, last_failed_at: new Date() }).execute()
+    const res = await t.agent().post('/api/auth/sign-in').send({ email, password: 'whatever' }).expect(429)
+    expect(res.headers['retry-after']).toBe('1')
+    await db.updateTable('sign_in_failures').set({ last_failed_at: new Date(Date.now() - 601) }).where('email', '=', email).execute()
+    await t.agent().post('/api/auth/sign-in').send({ email, password: 'whatever' }).expect(401)
   })
 })

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { can, MEMBER_ROLES, ROLES, type MemberRole } from '@shared/auth/roles'
 import { apiRoutes } from '../../server/routes'
 import type { RouteDef } from '../../server/routes/registry'
-import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 type Agent = Awaited<ReturnType<typeof signUpAgent>>
@@ -55,7 +55,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
   const res = await people.owner.agent.post('/api/projects').send({ name: 'Matrix' }).expect(201)
   const projectId = res.body.project.id as string
   for (const role of MEMBER_ROLES.filter((r) => r !== 'owner')) {
-    await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
+    await joinProject(t, people.owner.agent, projectId, people[role], role)
   }
   const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
   const token = await people.owner.agent.post(`/api/projects/${projectId}/upload-tokens`).send({ label: 'matrix rig' }).expect(201)

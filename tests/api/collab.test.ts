@@ -12,7 +12,7 @@ import { CLOSE_CODES, WORK_MAPS } from '@shared/collab/documents'
 import { Room } from '../../server/collab/room'
 import { countUpdates } from '../../server/repositories/sceneUpdates'
 import { liveClient, synced } from '../utils/live'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 let sceneId: string
@@ -52,7 +52,7 @@ beforeAll(async () => {
   t = await startTestServer()
   const people = { owner: await signUpAgent(t, 'Live Owner'), measurer: await signUpAgent(t, 'Live Measurer'), mentor: await signUpAgent(t, 'Live Mentor'), outsider: await signUpAgent(t, 'Live Outsider') }
   const projectId = (await people.owner.agent.post('/api/projects').send({ name: 'Live' }).expect(201)).body.project.id
-  for (const role of ['measurer', 'mentor'] as const) await people.owner.agent.post(`/api/projects/${projectId}/members`).send({ email: people[role].email, role }).expect(201)
+  for (const role of ['measurer', 'mentor'] as const) await joinProject(t, people.owner.agent, projectId, people[role], role)
   sceneId = (await people.owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Live scene' }).expect(201)).body.scene.id
   // A placement of a scan marked ready by hand (no worker here: its markers stay pending, which is enough).
   const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)

@@ -60,7 +60,9 @@ afterAll(async () => {
 it('keeps every update a client saw when the server is killed with SIGKILL and started again', { timeout: 90_000 }, async () => {
   let url = await startServer()
   const agent = supertest.agent(url).set('Origin', url)
-  await agent.post('/api/auth/sign-up').send({ email: 'restart@spanmark.example', password: 'correct horse battery', name: 'Restart Owner' }).expect(201)
+  // Sign-up answers 202 with no session (it reveals no account); an unconfirmed account signs in with its password.
+  await agent.post('/api/auth/sign-up').send({ email: 'restart@spanmark.example', password: 'correct horse battery', name: 'Restart Owner' }).expect(202)
+  await agent.post('/api/auth/sign-in').send({ email: 'restart@spanmark.example', password: 'correct horse battery' }).expect(200)
   const cookie = String((await supertest(url).post('/api/auth/sign-in').set('Origin', url).send({ email: 'restart@spanmark.example', password: 'correct horse battery' }).expect(200)).headers['set-cookie']![0]).split(';')[0]!
   const projectId = (await agent.post('/api/projects').send({ name: 'Restart' }).expect(201)).body.project.id
   const sceneId = (await agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Restart scene' }).expect(201)).body.scene.id

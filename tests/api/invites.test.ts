@@ -4,7 +4,7 @@
 // rate limit.
 import crypto from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { signUpAgent, startTestServer, tokenOf, type TestServer } from '../utils/server'
+import { joinProject, signUpAgent, signUpAs, startTestServer, tokenOf, type TestServer } from '../utils/server'
 
 let t: TestServer
 beforeAll(async () => {
@@ -59,8 +59,7 @@ describe('invitations', () => {
     // Without an account there is nobody to join yet.
     await t.agent().post('/api/invites/accept').send({ token }).expect(401)
 
-    const agent = t.agent()
-    await agent.post('/api/auth/sign-up').send({ email, password: 'a long enough password', name: 'Nell Newcomer' }).expect(201)
+    const { agent } = await signUpAs(t, email, 'Nell Newcomer')
     const joined = await agent.post('/api/invites/accept').send({ token }).expect(200)
     expect(joined.body).toEqual({ projectId, role: 'measurer' })
     expect((await agent.get(`/api/projects/${projectId}`).expect(200)).body.project.role).toBe('measurer')
@@ -114,8 +113,7 @@ describe('invitations', () => {
     expect(second).not.toBe(first.token)
     const old = await t.agent().post('/api/invites/lookup').send({ token: first.token }).expect(400)
     expect(old.body.error.message).toMatch(/newer invitation/)
-    const agent = t.agent()
-    await agent.post('/api/auth/sign-up').send({ email, password: 'a long enough password', name: 'Rhea Resent' }).expect(201)
+    const { agent } = await signUpAs(t, email, 'Rhea Resent')
     expect((await agent.post('/api/invites/accept').send({ token: first.token }).expect(400)).body.error.message).toMatch(/newer invitation/)
     await agent.post('/api/invites/accept').send({ token: second }).expect(200)
     const accepted = await owner.agent.post(`/api/invites/${first.invite.id}/resend`).expect(409)
@@ -130,8 +128,7 @@ describe('invitations', () => {
     await owner.agent.delete(`/api/invites/${created.id}`).expect(204)
     const res = await t.agent().post('/api/invites/lookup').send({ token }).expect(400)
     expect(res.body.error.message).toMatch(/withdrawn/)
-    const agent = t.agent()
-    await agent.post('/api/auth/sign-up').send({ email, password: 'a long enough password', name: 'Wyn Withdrawn' }).expect(201)
+    const { agent } = await signUpAs(t, email, 'Wyn Withdrawn')
     expect((await agent.post('/api/invites/accept').send({ token }).expect(400)).body.error.message).toMatch(/withdrawn/)
     await agent.get(`/api/projects/${projectId}`).expect(404)
     expect((await owner.agent.get(`/api/projects/${projectId}/invites`).expect(200)).body.invites).toEqual([])
@@ -155,7 +152,7 @@ describe('invitations', () => {
   it('answers 409 for someone already a member and for an address with an invitation waiting', async () => {
     const { owner, projectId } = await ownerWithProject()
     const member = await signUpAgent(t, 'Mo Member')
-    await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: member.email, role: 'measurer' }).expect(201)
+    await joinProject(t, owner.agent, projectId, member, 'measurer')
     const dup = await owner.agent.post(`/api/projects/${projectId}/invites`).send({ email: member.email, role: 'mentor' }).expect(409)
     expect(dup.body.error).toMatchObject({ code: 'conflict', field: 'email' })
     expect(dup.body.error.message).toBe(`Mo Member (${member.email}) is already a member of this project.`)

@@ -17,7 +17,7 @@ import { can, type Role } from '@shared/auth/roles'
 import { CLOSE_CODES, RECORD_MAPS, WORK_MAPS, type CloseCodeName } from '@shared/collab/documents'
 import { LIVE_OPERATIONS, type LiveOperationName } from '@shared/collab/operations'
 import { liveClient, synced, type LiveClient } from '../utils/live'
-import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 type Agent = Awaited<ReturnType<typeof signUpAgent>>
@@ -63,7 +63,7 @@ async function scene(owner: Agent, projectId: string): Promise<Omit<Place, 'proj
 }
 
 async function addMember(owner: Agent, projectId: string, person: Agent, role: 'measurer' | 'mentor'): Promise<void> {
-  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: person.email, role }).expect(201)
+  await joinProject(t, owner.agent, projectId, person, role)
 }
 
 const ownerOf = (target: Target) => (target === 'another project’s scene' ? people.stranger : people.owner)

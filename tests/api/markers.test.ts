@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Matrix4 } from 'three'
 import type { Marker } from '@shared/schemas'
 import { upload, waitForScan } from '../utils/scans'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid, drumSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
 import { parse } from 'csv-parse/sync'
 
@@ -64,7 +64,7 @@ beforeAll(async () => {
   owner = await signUpAgent(t, 'Marker Owner')
   mentor = await signUpAgent(t, 'Marker Mentor')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Markers' }).expect(201)).body.project.id
-  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
+  await joinProject(t, owner.agent, projectId, mentor, 'mentor')
   const solids: Record<Name, SurfaceSampler> = {
     wide: wallWithOpening({ width: 1.4, height: 2.1, seed: 1 }),
     medium: wallWithOpening({ width: 0.9, height: 2.1, seed: 2 }),

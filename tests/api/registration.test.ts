@@ -12,7 +12,7 @@ import type { Marker, Registration, RegistrationReport, Sheet } from '@shared/sc
 import { WORK_MAPS } from '@shared/collab/documents'
 import { liveClient } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
-import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { wallWithOpening } from '../utils/solids'
 
 type V = [number, number, number]
@@ -103,7 +103,7 @@ beforeAll(async () => {
   owner = await signUpAgent(t, 'Align Owner')
   mentor = await signUpAgent(t, 'Align Mentor')
   const projectId = (await owner.agent.post('/api/projects').send({ name: 'Align' }).expect(201)).body.project.id
-  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
+  await joinProject(t, owner.agent, projectId, mentor, 'mentor')
   guest = { agent: (await guestAgent(t, owner.agent, projectId)).agent }
   const heldScan = (await upload(owner.agent, projectId, site(1).ply(), 'site.ply').expect(202)).body.scan.id
   movingScanId = (await upload(owner.agent, projectId, site(2).transformed(S.clone().invert().elements).ply(), 'station.ply').expect(202)).body.scan.id
@@ -264,7 +264,7 @@ describe('ICP refinement as a job', () => {
     // A second person, to refine in the same scene while the first refinement runs.
     const other = await signUpAgent(t, 'Align Second')
     const projectId = (await owner.agent.get(`/api/scenes/${sceneId}`).expect(200)).body.scene.projectId
-    await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: other.email, role: 'measurer' }).expect(201)
+    await joinProject(t, owner.agent, projectId, other, 'measurer')
     const a = (await fit({ pairs: spherePairs() })).body.registration as Registration
     await owner.agent.post(`/api/scenes/${sceneId}/registrations/refine`).send({ movingInstanceId: movingId, heldInstanceId: heldId, registrationId: a.id }).expect(202)
     const b = (await other.agent.post(`/api/scenes/${sceneId}/registrations/refine`).send({ movingInstanceId: movingId, heldInstanceId: heldId, maxDistance: 0.2 }).expect(202)).body.registration as Registration

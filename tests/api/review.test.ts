@@ -16,7 +16,7 @@ import { startFakeSmtp } from '../../server/fakes/smtp'
 import { listDevMail } from '../../server/repositories/mail'
 import { liveClient, synced } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
-import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid } from '../utils/solids'
 
 type Person = Awaited<ReturnType<typeof signUpAgent>>
@@ -83,7 +83,7 @@ beforeAll(async () => {
   outsider = await signUpAgent(t, 'Olga Outsider')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Review' }).expect(201)).body.project.id
   for (const [p, role] of [[measurer, 'measurer'], [mentor, 'mentor']] as const) {
-    await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: p.email, role }).expect(201)
+    await joinProject(t, owner.agent, projectId, p, role)
   }
   const pass = await guestAgent(t, owner.agent, projectId)
   guest = { agent: pass.agent, cookie: pass.cookie }
@@ -188,13 +188,14 @@ describe('comments', () => {
 })
 
 describe('the author’s e-mail', () => {
-  const mailTo = async (email: string) => (await listDevMail(t.server.services.db)).filter((r) => r.to_addresses.includes(email))
+  // Comment notices only: the author also got their address confirmation and their invitation.
+  const mailTo = async (email: string) => (await listDevMail(t.server.services.db)).filter((r) => r.to_addresses.includes(email) && /comment/i.test(r.subject))
   const gap = () => t.config.commentMail.gapMs
   const settle = () => new Promise((r) => setTimeout(r, gap() + 4 * t.config.commentMail.sweepMs + 300))
 
   it('gathers others’ comments within the gap into one message to the author, and none about their own', async () => {
     const author = await signUpAgent(t, 'Ada Author')
-    await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: author.email, role: 'measurer' }).expect(201)
+    await joinProject(t, owner.agent, projectId, author, 'measurer')
     const door = await topDistance(author, 'lid width')
     const base = await post({ kind: 'distance', label: 'base width', anchors: [{ instanceId: boxPlacement, x: -0.4, y: -0.3, z: 0.1 }, { instanceId: boxPlacement, x: 0.4, y: -0.3, z: 0.1 }] }, author)
     // The author's own comment tells nobody; the mentor's two, on two markers, come in one message.
@@ -260,7 +261,7 @@ describe('an SMTP outage', () => {
       const author = await signUpAgent(down, 'Outage Author')
       const critic = await signUpAgent(down, 'Outage Mentor')
       const pid = (await author.agent.post('/api/projects').send({ name: 'Outage' }).expect(201)).body.project.id
-      await author.agent.post(`/api/projects/${pid}/members`).send({ email: critic.email, role: 'mentor' }).expect(201)
+      await joinProject(down, author.agent, pid, critic, 'mentor')
       const scan = await upload(author.agent, pid, Buffer.from('0 0 0\n1 0 0\n'), 'two.xyz').expect(202)
       await down.server.services.db.updateTable('scans').set({ status: 'ready' }).where('id', '=', scan.body.scan.id).execute()
       const sid = (await author.agent.post(`/api/projects/${pid}/scenes`).send({ name: 'Outage scene' }).expect(201)).body.scene.id
@@ -270,7 +271,8 @@ describe('an SMTP outage', () => {
       const db = down.server.services.db
       // The job moved the notice into the outbox; the send failed and is to be retried.
       const waiting = await until(async () => {
-        const row = await db.selectFrom('mail_outbox').selectAll().where('to_address', '=', author.email).executeTakeFirst()
+        // The comment notice (the author's confirmation and invitation mails wait in the outbox too).
+        const row = await db.selectFrom('mail_outbox').selectAll().where('to_address', '=', author.email).where('subject', 'ilike', '%comment%').executeTakeFirst()
         return row && row.attempts > 0 ? row : null
       }, 15_000, 'a failed attempt')
       expect(waiting.sent_at).toBeNull()
@@ -283,7 +285,7 @@ describe('an SMTP outage', () => {
       try {
         const delivered = await until(async () => {
           await down.server.services.mailer.flush()
-          const rows = (await listDevMail(db)).filter((r) => r.to_addresses.includes(author.email))
+          const rows = (await listDevMail(db)).filter((r) => r.to_addresses.includes(author.email) && /comment/i.test(r.subject))
           return rows.length > 0 ? rows : null
         }, 40_000, 'delivery after the outage')
         expect(delivered).toHaveLength(1)

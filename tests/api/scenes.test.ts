@@ -3,7 +3,7 @@ import fs from 'node:fs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Matrix4, Vector3 } from 'three'
 import { upload, waitForScan } from '../utils/scans'
-import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 let t: TestServer
 let owner: Awaited<ReturnType<typeof signUpAgent>>
@@ -16,7 +16,7 @@ beforeAll(async () => {
   owner = await signUpAgent(t, 'Scene Owner')
   mentor = await signUpAgent(t, 'Scene Mentor')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Scenes' }).expect(201)).body.project.id
-  await owner.agent.post(`/api/projects/${projectId}/members`).send({ email: mentor.email, role: 'mentor' }).expect(201)
+  await joinProject(t, owner.agent, projectId, mentor, 'mentor')
   scanId = (await upload(owner.agent, projectId, fs.readFileSync('tests/fixtures/crate.las'), 'crate.las').expect(202)).body.scan.id
   await waitForScan(owner.agent, scanId)
 })

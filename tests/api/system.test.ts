@@ -74,17 +74,84 @@ describe('settings', () => {
   })
 })
 
+describe('development conveniences', () => {
+  const base = { DATABASE_URL: 'postgres://x/y' }
+
+  it('are off by default', () => {
+    const c = loadConfig(base)
+    expect(c.devMail).toBe(false)
+    expect(c.seedDemo).toBe(false)
+    expect(c.mail.fake).toBe(false)
+  })
+
+  it('are refused in production, naming the setting', () => {
+    expect(() => loadConfig({ ...base, SPANMARK_ENV: 'production', SPANMARK_DEV_MAILBOX: '1' })).toThrow(/SPANMARK_DEV_MAILBOX.*SPANMARK_ENV=production/)
+    expect(() => loadConfig({ ...base, SPANMARK_ENV: 'production', SPANMARK_DEMO: '1' })).toThrow(/SPANMARK_DEMO.*SPANMARK_ENV=production/)
+    expect(() => loadConfig({ ...base, SPANMARK_ENV: 'production', SPANMARK_DEV: '1' })).toThrow(/SPANMARK_ENV=production/)
+  })
+
+  it('are refused on a listener others can reach', () => {
+    expect(() => loadConfig({ ...base, HOST: '0.0.0.0', SPANMARK_DEV_MAILBOX: '1' })).toThrow(/loopback.*HOST=0\.0\.0\.0/)
+    expect(() => loadConfig({ ...base, HOST: '192.0.2.7', SPANMARK_DEMO: '1' })).toThrow(/SPANMARK_DEMO.*loopback/)
+    expect(loadConfig({ ...base, HOST: '::1', SPANMARK_DEV: '1' })).toMatchObject({ devMail: true, seedDemo: true })
+  })
+
+  it('a server without the flags has no /dev/mail route and seeds no demo', async () => {
+    const plain = await startTestServer({}, { SPANMARK_DEV_MAILBOX: '0' })
+    try {
+      expect(plain.config.devMail).toBe(false)
+      const res = await plain.agent().get('/api/dev/mail').expect(404)
+      expect(res.body.error.code).toBeDefined()
+      await plain.agent().delete('/api/dev/mail').expect(404)
+      const users = await plain.server.services.db.selectFrom('users').select('id').execute()
+      expect(users).toEqual([])
+    } finally {
+      await plain.stop()
+    }
+  })
+
+  it('a server refuses to start in production with the dev mailbox or the demo on', async () => {
+    const { SpanmarkServer } = await import('../../server/runtime')
+    const pino = (await import('pino')).default
+    const prod = { ...loadConfig(base), env: 'production' as const, devMail: true }
+    await expect(SpanmarkServer.start(prod, pino({ level: 'silent' }))).rejects.toThrow(/dev mailbox.*SPANMARK_ENV=production/)
+    const open = { ...loadConfig(base), host: '0.0.0.0', seedDemo: true }
+    await expect(SpanmarkServer.start(open, pino({ level: 'silent' }))).rejects.toThrow(/demo seeding.*loopback/)
+  })
+})
+
 describe('rate limits', () => {
   it('limits sign-in attempts with a 429 in the error shape', async () => {
     const limited = await startTestServer({ rateLimits: { ...t.config.rateLimits, signIn: { windowMs: 60_000, limit: 3 }, passwordReset: { windowMs: 60_000, limit: 2 }, signUp: { windowMs: 60_000, limit: 100 } } })
     try {
-      for (let i = 0; i < 3; i++) await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(401)
-      const res = await limited.agent().post('/api/auth/sign-in').send({ email: 'x@spanmark.example', password: 'nope' }).expect(429)
+      // Different addresses each time: this is the per-IP limit, not the per-address slow-down (auth.test.ts).
+      for (let i = 0; i < 3; i++) await limited.agent().post('/api/auth/sign-in').send({ email: `x${i}@spanmark.example`, password: 'nope' }).expect(401)
+      const res = await limited.agent().post('/api/auth/sign-in').send({ email: 'x9@spanmark.example', password: 'nope' }).expect(429)
       expect(res.body.error.code).toBe('too-many-requests')
       for (let i = 0; i < 2; i++) await limited.agent().post('/api/auth/password-reset').send({ email: 'x@spanmark.example' }).expect(202)
       await limited.agent().post('/api/auth/password-reset').send({ email: 'x@spanmark.example' }).expect(429)
+      // Without TRUST_PROXY a forwarded address is ignored: a client cannot buy a fresh budget by naming one.
+      expect(limited.config.trustProxy).toBe(false)
+      await limited.agent().post('/api/auth/password-reset').set('X-Forwarded-For', '203.0.113.9').send({ email: 'x@spanmark.example' }).expect(429)
     } finally {
       await limited.stop()
+    }
+  })
+
+  it('behind a proxy (TRUST_PROXY=1), keys the limits by the forwarded client address', async () => {
+    // Express "trust proxy": a number is the count of proxy hops whose X-Forwarded-For entries are believed.
+    const proxied = await startTestServer({ rateLimits: { ...t.config.rateLimits, passwordReset: { windowMs: 60_000, limit: 2 } } }, { TRUST_PROXY: '1' })
+    try {
+      expect(proxied.config.trustProxy).toBe(1)
+      const reset = (client: string) => proxied.agent().post('/api/auth/password-reset').set('X-Forwarded-For', client).send({ email: 'x@spanmark.example' })
+      for (let i = 0; i < 2; i++) expect((await reset('203.0.113.1')).status).toBe(202)
+      expect((await reset('203.0.113.1')).status).toBe(429)
+      // Another client behind the same proxy has a budget of its own.
+      expect((await reset('203.0.113.2')).status).toBe(202)
+      // Only the last hop is believed: a client prepending a made-up address is still itself.
+      expect((await reset('198.51.100.7, 203.0.113.1')).status).toBe(429)
+    } finally {
+      await proxied.stop()
     }
   })
 })

@@ -86,6 +86,10 @@ it('lets the owner invite a new person, who follows the e-mailed link, signs up 
   await person.page.getByTestId('sign-up-name').fill('Wren Abernathy')
   await person.page.getByTestId('sign-up-password').fill('a long enough password')
   await person.page.getByTestId('sign-up-submit').click()
+  // The address is proven by the e-mailed link before the invitation can be used; confirming brings the
+  // person back to the invitation kept in this tab.
+  await person.page.getByTestId('sign-up-sent').waitFor()
+  await followMail(person.page, /Confirm your address/, '/confirm-email')
   await person.page.waitForURL(/\/invites\/accept$/)
   await person.page.getByTestId('invite-join').waitFor()
   await shot(person.page, '52-invite-accept-signed-up')
