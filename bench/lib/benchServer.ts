@@ -41,8 +41,10 @@ export async function startBenchServer(): Promise<BenchServer> {
   const url = server.url
   const json = { 'content-type': 'application/json', Origin: url }
   const email = `bench-${Date.now()}@spanmark.example`
-  const signUp = await fetch(`${url}/api/auth/sign-up`, { method: 'POST', headers: json, body: JSON.stringify({ email, password: 'bench password 1', name: 'Bench' }) })
-  const headers = { cookie: signUp.headers.get('set-cookie')!.split(';')[0]!, Origin: url }
+  // Sign-up answers 202 with no session; the (unconfirmed) account signs in with its password.
+  await fetch(`${url}/api/auth/sign-up`, { method: 'POST', headers: json, body: JSON.stringify({ email, password: 'bench password 1', name: 'Bench' }) })
+  const signIn = await fetch(`${url}/api/auth/sign-in`, { method: 'POST', headers: json, body: JSON.stringify({ email, password: 'bench password 1' }) })
+  const headers = { cookie: signIn.headers.get('set-cookie')!.split(';')[0]!, Origin: url }
   const project = (await (await fetch(`${url}/api/projects`, { method: 'POST', headers: { ...headers, ...json }, body: JSON.stringify({ name: 'Bench' }) })).json()) as { project: { id: string } }
   return {
     server,
