@@ -20,6 +20,8 @@ export interface Guest {
   name: string
   email: string
   expiresAt: Date
+  /** The owner let this pass download original scan files. */
+  allowDownload: boolean
   /** SHA-256 of the guest session cookie's value. */
   sessionHash: string
 }

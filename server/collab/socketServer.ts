@@ -10,6 +10,7 @@ import { findMembership } from '../repositories/memberships'
 import { findPassBySession } from '../repositories/passes'
 import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
+import { originMatches } from '../middleware/origin'
 import { ConnectionRegistry } from './connections'
 import { LiveDocumentsSync } from './liveSync'
 import { ConnectionBudget, EarlyMessages, LIMIT_REASONS } from './limits'
@@ -65,12 +66,10 @@ export class CollabServer {
   private originAllowed(req: http.IncomingMessage): boolean {
     const origin = req.headers.origin
     if (!origin) return false
-    try {
-      const host = new URL(origin).host
-      return host === req.headers.host || this.allowedOrigins().some((o) => new URL(o).host === host)
-    } catch {
-      return false
-    }
+    // Scheme and host, as the REST guard does; a TLS connection is https, a trusted proxy may say so.
+    const forwarded = this.services.config.trustProxy ? String(req.headers['x-forwarded-proto'] ?? '').split(',')[0]!.trim() : ''
+    const scheme = forwarded || ((req.socket as { encrypted?: boolean }).encrypted ? 'https' : 'http')
+    return originMatches(origin, scheme, req.headers.host, this.allowedOrigins())
   }
 
   private async admit(ws: WebSocket, req: http.IncomingMessage, sceneId: string, kind: DocumentKind): Promise<void> {

@@ -32,6 +32,7 @@ export interface SignInFailuresTable {
 }
 
 export interface SessionsTable {
+  /** SHA-256 (hex) of the session id the cookie carries (server/auth/lucia.ts), never the id itself. */
   id: string
   user_id: string
   expires_at: RequiredTimestamp
@@ -143,6 +144,8 @@ export interface GuestLinksTable {
   opened_at: Date | null
   last_used_at: Date | null
   revoked_at: Date | null
+  /** The owner let this pass download original scan files (off by default). */
+  allow_download: Generated<boolean>
 }
 
 /** bigint columns come back from pg as strings; the mappers turn them into numbers. */

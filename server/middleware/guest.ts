@@ -19,7 +19,7 @@ export function guestMiddleware(services: Services): RequestHandler {
       res.appendHeader('Set-Cookie', blankGuestCookie(services.config.secureCookies))
       return next()
     }
-    req.guest = { passId: row.id, projectId: row.project_id, projectName: row.project_name, name: row.name, email: row.email, expiresAt: row.expires_at, sessionHash }
+    req.guest = { passId: row.id, projectId: row.project_id, projectName: row.project_name, name: row.name, email: row.email, expiresAt: row.expires_at, allowDownload: row.allow_download, sessionHash }
     void touchPass(services.db, row.id).catch((err) => services.log.warn({ err }, 'viewing pass last-used time not stored'))
     next()
   }

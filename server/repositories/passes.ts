@@ -11,10 +11,10 @@ const passRows = (db: Conn) =>
 
 export type PassWithPeopleRow = NonNullable<Awaited<ReturnType<typeof findPass>>>
 
-export function insertPass(db: Conn, v: { projectId: string; email: string; name: string; tokenHash: string; createdBy: string; expiresAt: Date }) {
+export function insertPass(db: Conn, v: { projectId: string; email: string; name: string; allowDownload: boolean; tokenHash: string; createdBy: string; expiresAt: Date }) {
   return db
     .insertInto('guest_links')
-    .values({ project_id: v.projectId, email: v.email, name: v.name, token_hash: v.tokenHash, created_by: v.createdBy, expires_at: v.expiresAt })
+    .values({ project_id: v.projectId, email: v.email, name: v.name, allow_download: v.allowDownload, token_hash: v.tokenHash, created_by: v.createdBy, expires_at: v.expiresAt })
     .returning('id')
     .executeTakeFirstOrThrow()
 }

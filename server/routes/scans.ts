@@ -12,7 +12,25 @@ import {
 import { HttpError } from '../errors'
 import { getTile, listTiles } from '../repositories/scans'
 import * as scans from '../services/scans'
-import { defineRoute, type RouteDef } from './registry'
+import type { Guest } from '../types'
+import { defineRoute, type Membership, type RouteDef } from './registry'
+
+/** Members keep tiles a day: they never change while a scan stays ready (a new run gives a new ETag). */
+const TILE_MAX_AGE_S = 86_400
+
+/** The guest of a route answered through a viewing pass (a member holding a pass is answered as a member). */
+function passGuest(membership: Membership | null, guest: Guest | null): Guest | null {
+  return membership?.role === 'guest' ? guest : null
+}
+
+/**
+ * A guest's copy of the points must not outlive the pass: private (no shared cache keeps it) and kept no
+ * longer than the pass has left (RFC 9111 section 5.2.2.1 max-age, 5.2.2.7 private).
+ */
+function guestTileCacheControl(guest: Guest): string {
+  const left = Math.max(0, Math.floor((guest.expiresAt.getTime() - Date.now()) / 1000))
+  return `private, max-age=${Math.min(TILE_MAX_AGE_S, left)}`
+}
 
 export const scanRoutes: RouteDef[] = [
   defineRoute({
@@ -63,7 +81,8 @@ export const scanRoutes: RouteDef[] = [
   defineRoute({
     method: 'get',
     path: '/scans/:scanId/original',
-    access: { kind: 'project', right: 'view' },
+    // Members, and a guest whose viewing pass allows downloads (services/access.ts).
+    access: { kind: 'project', right: 'downloadOriginals' },
     params: ScanParams,
     handler: async ({ services, params, res }) => {
       const scan = await scans.getScan(services, params.scanId)
@@ -80,7 +99,9 @@ export const scanRoutes: RouteDef[] = [
     path: '/scans/:scanId/hierarchy',
     access: { kind: 'project', right: 'view' },
     params: ScanParams,
-    handler: async ({ services, params }) => {
+    handler: async ({ services, params, membership, guest, res }) => {
+      // Members revalidate by ETag as before; a guest's browser keeps no copy at all.
+      if (passGuest(membership, guest)) res.setHeader('Cache-Control', 'private, no-store')
       const scan = await scans.getScan(services, params.scanId)
       if (scan.status !== 'ready' || !scan.bounds) throw new HttpError(409, ErrorCode.conflict, `The scan is ${scan.status}; its tiles exist once it is ready.`)
       const nodes = (await listTiles(services.db, params.scanId)).map((t) => ({
@@ -98,13 +119,14 @@ export const scanRoutes: RouteDef[] = [
     path: '/scans/:scanId/tiles/:nodeKey',
     access: { kind: 'project', right: 'view' },
     params: TileParams,
-    handler: async ({ services, params, req, res }) => {
+    handler: async ({ services, params, membership, guest, req, res }) => {
       const scan = await scans.getScan(services, params.scanId)
       if (scan.status !== 'ready') throw new HttpError(409, ErrorCode.conflict, `The scan is ${scan.status}; its tiles exist once it is ready.`)
       // Tiles never change while a scan stays ready; a new processing run gives a new readyAt.
       const etag = `"${scan.id}.${scan.readyAt ? Date.parse(scan.readyAt) : 0}.${params.nodeKey}"`
+      const asGuest = passGuest(membership, guest)
       res.setHeader('ETag', etag)
-      res.setHeader('Cache-Control', 'private, max-age=86400')
+      res.setHeader('Cache-Control', asGuest ? guestTileCacheControl(asGuest) : `private, max-age=${TILE_MAX_AGE_S}`)
       if (req.headers['if-none-match'] === etag) {
         res.status(304).end()
         return

@@ -63,12 +63,21 @@ export async function authorize(db: Conn, caller: Caller, params: Record<string,
   const role = membership?.role ?? (projectId && caller.guest?.projectId === projectId ? 'guest' : null)
   // Not a member: the same answer as a project that does not exist, so ids reveal nothing.
   if (!projectId || !role) throw HttpError.notFound(NOT_FOUND)
-  if (!can(role, right)) {
+  if (!can(role, right) && !passGrants(membership ? null : caller.guest, right)) {
     throw HttpError.forbidden(
-      membership ? `Your role in this project (${role}) does not allow this.` : 'A viewing pass only shows this project; it changes nothing.',
+      membership
+        ? `Your role in this project (${role}) does not allow this.`
+        : right === 'downloadOriginals'
+          ? 'This viewing pass shows the scans but does not let you download their original files. Ask the project’s owner for a pass that allows downloads.'
+          : 'A viewing pass only shows this project; it changes nothing.',
     )
   }
   return { projectId, role }
+}
+
+/** What a viewing pass adds to the guest role: downloading originals, when the owner allowed it on that pass. */
+function passGrants(guest: Guest | null, right: Right): boolean {
+  return guest !== null && right === 'downloadOriginals' && guest.allowDownload
 }
 
 /** Rig keys act as a measurer of their own project, for the routes that accept them (uploads). */

@@ -140,14 +140,18 @@ export async function rename(s: Services, userId: string, name: string): Promise
   return toUser(await updateUserName(s.db, userId, name))
 }
 
-/** A new password signs out every other session; this one is replaced by a fresh session. */
+/** A new password signs out every other session and voids every reset link still out; this one is replaced by a fresh session. */
 export async function changePassword(s: Services, res: Response, userId: string, body: ChangePasswordBody): Promise<void> {
   const row = await findUserById(s.db, userId)
   if (!row) throw HttpError.unauthenticated()
   if (!(await s.hasher.verify(row.password_hash, body.currentPassword))) {
     throw new HttpError(400, ErrorCode.invalidCredentials, 'The current password is not right.', 'currentPassword')
   }
-  await updatePasswordHash(s.db, userId, await s.hasher.hash(body.newPassword))
+  await s.db.transaction().execute(async (tx) => {
+    await updatePasswordHash(tx, userId, await s.hasher.hash(body.newPassword))
+    // A reset link e-mailed before the change would otherwise still set a password after it.
+    await voidPasswordResets(tx, userId)
+  })
   await s.auth.invalidateUserSessions(userId)
   s.live.userSignedOut(userId, 'your password was changed')
   await startSession(s, res, userId)

@@ -190,9 +190,10 @@ export function toPass(row: PassWithPeopleRow): Pass {
     openedAt: row.opened_at?.toISOString() ?? null,
     lastUsedAt: row.last_used_at?.toISOString() ?? null,
     revokedAt: row.revoked_at?.toISOString() ?? null,
+    allowDownload: row.allow_download,
   }
 }
 
 export function toGuestSession(row: PassWithPeopleRow): GuestSession {
-  return { passId: row.id, projectId: row.project_id, projectName: row.project_name, name: row.name, expiresAt: row.expires_at.toISOString() }
+  return { passId: row.id, projectId: row.project_id, projectName: row.project_name, name: row.name, expiresAt: row.expires_at.toISOString(), allowDownload: row.allow_download }
 }

@@ -25,7 +25,7 @@ export async function listPasses(s: Services, projectId: string): Promise<Pass[]
 export async function createPass(s: Services, projectId: string, creatorId: string, body: PassCreateBody): Promise<Pass> {
   const id = await s.db.transaction().execute(async (tx) => {
     const token = newSecret()
-    const { id } = await insertPass(tx, { projectId, email: body.email, name: body.name, tokenHash: hashSecret(token), createdBy: creatorId, expiresAt: new Date(Date.now() + body.days * DAY_MS) })
+    const { id } = await insertPass(tx, { projectId, email: body.email, name: body.name, allowDownload: body.allowDownload, tokenHash: hashSecret(token), createdBy: creatorId, expiresAt: new Date(Date.now() + body.days * DAY_MS) })
     const row = (await findPass(tx, id))!
     const sender = (await findUserById(tx, creatorId))?.name ?? 'An owner'
     await s.mailer.enqueue(tx, passMail(row.email, { name: row.name, sender, projectName: row.project_name, link: passLink(s, token), expiresAt: row.expires_at }))
@@ -78,5 +78,5 @@ export async function leavePass(s: Services, res: Response, guest: Guest | null)
 }
 
 export function guestSessionOf(guest: Guest): GuestSession {
-  return { passId: guest.passId, projectId: guest.projectId, projectName: guest.projectName, name: guest.name, expiresAt: guest.expiresAt.toISOString() }
+  return { passId: guest.passId, projectId: guest.projectId, projectName: guest.projectName, name: guest.name, expiresAt: guest.expiresAt.toISOString(), allowDownload: guest.allowDownload }
 }

@@ -11,6 +11,7 @@ export type MemberRole = (typeof MEMBER_ROLES)[number]
 
 export const RIGHTS = [
   'view', // scenes, markers, values, history, the measurement sheet
+  'downloadOriginals', // take the original scan files away (a guest only when the owner allowed it on the pass)
   'editScans', // upload scans, place and move scans in a scene, align stations
   'editMarkers', // create, edit, delete markers
   'comment', // comment on markers
@@ -21,9 +22,9 @@ export const RIGHTS = [
 export type Right = (typeof RIGHTS)[number]
 
 const TABLE: Record<Role, readonly Right[]> = {
-  owner: ['view', 'editScans', 'editMarkers', 'comment', 'review', 'manage', 'deleteProject'],
-  measurer: ['view', 'editScans', 'editMarkers', 'comment'],
-  mentor: ['view', 'comment', 'review'],
+  owner: ['view', 'downloadOriginals', 'editScans', 'editMarkers', 'comment', 'review', 'manage', 'deleteProject'],
+  measurer: ['view', 'downloadOriginals', 'editScans', 'editMarkers', 'comment'],
+  mentor: ['view', 'downloadOriginals', 'comment', 'review'],
   guest: ['view'],
 }
 

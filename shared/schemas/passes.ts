@@ -14,6 +14,8 @@ export const PassCreateBody = z.object({
     .min(PASS_DAYS.min, { error: `must be at least ${PASS_DAYS.min} day` })
     .max(PASS_DAYS.max, { error: `must be at most ${PASS_DAYS.max} days` })
     .default(PASS_DAYS.default),
+  /** The guest may also download the original scan files (off unless the owner asks for it). */
+  allowDownload: z.boolean({ error: 'must be true or false' }).default(false),
 })
 export type PassCreateBody = z.infer<typeof PassCreateBody>
 
@@ -34,6 +36,7 @@ export const Pass = z.object({
   openedAt: Timestamp.nullable(),
   lastUsedAt: Timestamp.nullable(),
   revokedAt: Timestamp.nullable(),
+  allowDownload: z.boolean().default(false),
 })
 export type Pass = z.infer<typeof Pass>
 export const PassList = z.object({ passes: z.array(Pass) })
@@ -46,6 +49,8 @@ export const GuestSession = z.object({
   projectName: z.string(),
   name: z.string(),
   expiresAt: Timestamp,
+  /** Whether this pass may download original scan files. */
+  allowDownload: z.boolean().default(false),
 })
 export type GuestSession = z.infer<typeof GuestSession>
 export const PassOpened = z.object({ guest: GuestSession })

@@ -1,5 +1,10 @@
+import crypto from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { confirmationLink, signUpAgent, startTestServer, tokenOf, type TestServer } from '../utils/server'
+import { hashSecret } from '../../server/auth/tokens'
+import { insertPasswordReset } from '../../server/repositories/passwordResets'
+import { CLOSE_CODES } from '@shared/collab/documents'
+import { liveClient } from '../utils/live'
 
 let t: TestServer
 beforeAll(async () => {
@@ -81,6 +86,48 @@ describe('accounts', () => {
     await other.get('/api/me').expect(401)
     await t.agent().post('/api/auth/sign-in').send({ email, password: 'a brand new password' }).expect(200)
     expect((await t.waitForMail(email, since)).subject).toMatch(/password was changed/)
+  })
+
+  it('voids every outstanding reset link when the password changes, and when one link is used (issue 12, point 9)', async () => {
+    const { agent, email, password, user } = await signUpAgent(t, 'Void Links')
+    const db = t.server.services.db
+    const later = new Date(Date.now() + 3600_000)
+    // Two links e-mailed earlier (tokens stored as SHA-256, as the service stores them).
+    const [first, second, third] = ['first-reset-token', 'second-reset-token', 'third-reset-token'].map((v) => `${v}-${process.pid}`)
+    await insertPasswordReset(db, user.id, hashSecret(first!), later)
+    await insertPasswordReset(db, user.id, hashSecret(second!), later)
+    await agent.post('/api/me/password').send({ currentPassword: password, newPassword: 'changed after the links' }).expect(204)
+    for (const token of [first, second]) {
+      const res = await t.agent().post('/api/auth/password-reset/confirm').send({ token, password: 'set through an old link' }).expect(400)
+      expect(res.body.error).toMatchObject({ code: 'invalid-token', field: 'token' })
+    }
+    await t.agent().post('/api/auth/sign-in').send({ email, password: 'changed after the links' }).expect(200)
+
+    // Using one link voids the others.
+    await insertPasswordReset(db, user.id, hashSecret(first! + 'x'), later)
+    await insertPasswordReset(db, user.id, hashSecret(third!), later)
+    await t.agent().post('/api/auth/password-reset/confirm').send({ token: third, password: 'set through the third' }).expect(200)
+    await t.agent().post('/api/auth/password-reset/confirm').send({ token: first! + 'x', password: 'set through another' }).expect(400)
+    await t.agent().post('/api/auth/sign-in').send({ email, password: 'set through the third' }).expect(200)
+  })
+
+  it('refuses an Origin with the right host but another scheme, over REST and at the socket (issue 12, point 9)', async () => {
+    // RFC 6454 section 5: same origin means same scheme, host and port.
+    const { agent } = await signUpAgent(t, 'Scheme Check')
+    const wrongScheme = t.url.replace(/^http:/, 'https:')
+    const res = await agent.post('/api/auth/sign-out').set('Origin', wrongScheme).expect(403)
+    expect(res.body.error.code).toBe('bad-origin')
+    await agent.get('/api/me').expect(200)
+    const client = liveClient(t.url, null, crypto.randomUUID(), wrongScheme)
+    const code = await new Promise<number>((resolve) =>
+      client.provider.on('connection-close', (event: CloseEvent | null) => {
+        client.provider.shouldConnect = false
+        resolve(event?.code ?? -1)
+      }),
+    )
+    client.provider.destroy()
+    expect(code).toBe(CLOSE_CODES.badOrigin)
+    await agent.post('/api/auth/sign-out').set('Origin', t.url).expect(204)
   })
 
   it('resets a password through the e-mailed link, once', async () => {

@@ -19,6 +19,8 @@ let projectId: string
 let sceneId: string
 let instanceId: string
 let markerId: string
+let scanId: string
+const SCAN_FILE = Buffer.from('0 0 0\n1 0 0\n0 1 0\n')
 const open: WebsocketProvider[] = []
 
 /** Every line the server logs, at every level, through the same redaction as production. */
@@ -35,8 +37,12 @@ beforeAll(async () => {
   owner = await signUpAgent(t, 'Pia Owner')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Lighthouse lantern room' }).expect(201)).body.project.id
   sceneId = (await owner.agent.post(`/api/projects/${projectId}/scenes`).send({ name: 'Lantern room' }).expect(201)).body.scene.id
-  const scan = await owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
-  await t.server.services.db.updateTable('scans').set({ status: 'ready' }).where('id', '=', scan.body.scan.id).execute()
+  const scan = await owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', SCAN_FILE, 'three.xyz').expect(202)
+  scanId = scan.body.scan.id
+  // Ready with one stored tile, so the hierarchy and tile routes answer as for a processed scan.
+  const bounds = { min_x: 0, min_y: 0, min_z: 0, max_x: 1, max_y: 1, max_z: 0 }
+  await t.server.services.db.updateTable('scans').set({ status: 'ready', ready_at: new Date(), point_count: 3, spacing: 1, ...bounds }).where('id', '=', scanId).execute()
+  await t.server.services.db.insertInto('scan_tiles').values({ scan_id: scanId, node_key: 'r', level: 0, point_count: 3, byte_size: 4, data: Buffer.from([1, 2, 3, 4]), ...bounds }).execute()
   instanceId = (await owner.agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scan.body.scan.id }).expect(201)).body.instance.id
   markerId = (
     await owner.agent
@@ -291,5 +297,59 @@ describe('viewing passes', () => {
     expect(all).not.toContain(value)
     // The socket's URL is the scene's path: the pass travels only in the cookie.
     expect(work.provider.url).toBe(`${t.url.replace(/^http/, 'ws')}/collab/${sceneId}`)
+  })
+})
+
+describe('guests see, they do not take (issue 12, point 8)', () => {
+  it('refuses a guest the original scan file unless the owner allowed downloads on that very pass', async () => {
+    // Off by default: a pass issued without the option.
+    const { agent, pass } = await guestAgent(t, owner.agent, projectId)
+    expect(pass).toMatchObject({ allowDownload: false })
+    await agent.get(`/api/scans/${scanId}`).expect(200)
+    const refused = await agent.get(`/api/scans/${scanId}/original`).expect(403)
+    expect(refused.body.error.code).toBe('forbidden')
+    expect(refused.body.error.message).toMatch(/does not let you download their original files/)
+    expect((await agent.get('/api/session').expect(200)).body.guest).toMatchObject({ allowDownload: false })
+
+    // Allowed on the pass: the guest gets the very bytes uploaded; the owner's list says so.
+    const allowed = await guestAgent(t, owner.agent, projectId, undefined, { allowDownload: true })
+    expect(allowed.pass).toMatchObject({ allowDownload: true })
+    const file = await allowed.agent.get(`/api/scans/${scanId}/original`).buffer(true).expect(200)
+    expect(Buffer.compare(file.body as Buffer, SCAN_FILE)).toBe(0)
+    expect((await allowed.agent.get('/api/session').expect(200)).body.guest).toMatchObject({ allowDownload: true })
+    const listed = (await owner.agent.get(`/api/projects/${projectId}/passes`).expect(200)).body.passes as { id: string; allowDownload: boolean }[]
+    expect(listed.find((p) => p.id === pass.id)!.allowDownload).toBe(false)
+    expect(listed.find((p) => p.id === allowed.pass.id)!.allowDownload).toBe(true)
+
+    // Members keep downloading; a bad option is a 400 naming it.
+    await owner.agent.get(`/api/scans/${scanId}/original`).expect(200)
+    const bad = await owner.agent.post(`/api/projects/${projectId}/passes`).send({ email: 'opt@spanmark.example', name: 'Opt', allowDownload: 'yes' }).expect(400)
+    expect(bad.body.error.message).toMatch(/^body\.allowDownload: must be true or false/)
+  })
+
+  it("keeps a guest's tiles and hierarchy out of caches beyond the pass's life; members cache as before", async () => {
+    const { agent, pass } = await guestAgent(t, owner.agent, projectId, undefined, { days: 1 })
+    const maxAge = (header: string | undefined) => Number(/(?:^|,\s*)max-age=(\d+)/.exec(header ?? '')?.[1])
+
+    // RFC 9111 section 5.2.2: `private` keeps shared caches out; max-age bounds the browser's copy.
+    const tile = await agent.get(`/api/scans/${scanId}/tiles/r`).expect(200)
+    expect(tile.headers['cache-control']).toMatch(/^private, /)
+    expect(maxAge(tile.headers['cache-control'])).toBeLessThanOrEqual(24 * 3600)
+    const hierarchy = await agent.get(`/api/scans/${scanId}/hierarchy`).expect(200)
+    expect(hierarchy.body.nodes).toHaveLength(1)
+    expect(hierarchy.headers['cache-control']).toBe('private, no-store')
+
+    // A pass with ten minutes left: the tile may be kept ten minutes at most, a revalidation (304) included.
+    await t.server.services.db.updateTable('guest_links').set({ expires_at: new Date(Date.now() + 600_000) }).where('id', '=', pass.id).execute()
+    const short = await agent.get(`/api/scans/${scanId}/tiles/r`).expect(200)
+    expect(maxAge(short.headers['cache-control'])).toBeGreaterThan(590)
+    expect(maxAge(short.headers['cache-control'])).toBeLessThanOrEqual(600)
+    const again = await agent.get(`/api/scans/${scanId}/tiles/r`).set('If-None-Match', String(short.headers.etag)).expect(304)
+    expect(maxAge(again.headers['cache-control'])).toBeLessThanOrEqual(600)
+
+    // Members: a day, as before; the hierarchy carries no Cache-Control of its own.
+    const member = await owner.agent.get(`/api/scans/${scanId}/tiles/r`).expect(200)
+    expect(member.headers['cache-control']).toBe('private, max-age=86400')
+    expect((await owner.agent.get(`/api/scans/${scanId}/hierarchy`).expect(200)).headers['cache-control']).toBeUndefined()
   })
 })

@@ -5,6 +5,8 @@ import { can, RIGHTS, ROLES, type Right, type Role } from '@shared/auth/roles'
 
 const DESIGN_SECTION_2: Record<Right, Record<Role, boolean>> = {
   view: { owner: true, measurer: true, mentor: true, guest: true },
+  // Seeing is not taking: a guest downloads original scans only through a pass that allows it (issue 12, point 8).
+  downloadOriginals: { owner: true, measurer: true, mentor: true, guest: false },
   editScans: { owner: true, measurer: true, mentor: false, guest: false },
   editMarkers: { owner: true, measurer: true, mentor: false, guest: false },
   comment: { owner: true, measurer: true, mentor: true, guest: false },

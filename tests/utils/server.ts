@@ -194,9 +194,16 @@ export function tokenOf(link: string): string {
  * Sends a viewing pass from `owner` to `email` and opens it as a guest's browser would (the token from
  * the e-mail swapped for the guest session cookie). Returns the guest's agent and the pass.
  */
-export async function guestAgent(t: TestServer, owner: ReturnType<TestServer['agent']>, projectId: string, email = `guest${++counter}-${process.pid}@spanmark.example`) {
+export async function guestAgent(
+  t: TestServer,
+  owner: ReturnType<TestServer['agent']>,
+  projectId: string,
+  email = `guest${++counter}-${process.pid}@spanmark.example`,
+  /** More fields of the pass (`allowDownload`, `days`). */
+  extra: Record<string, unknown> = {},
+) {
   const since = new Date()
-  const created = await owner.post(`/api/projects/${projectId}/passes`).send({ email, name: 'Gale Guest' })
+  const created = await owner.post(`/api/projects/${projectId}/passes`).send({ email, name: 'Gale Guest', ...extra })
   if (created.status !== 201) throw new Error(`pass not issued: ${created.status} ${JSON.stringify(created.body)}`)
   const mail = await t.waitForMail(email, since)
   const link = mail.links.find((l) => l.includes('/passes/open#token='))
