@@ -21,8 +21,8 @@ import { convexHull } from './polygon'
  *
  * Limits: the band must hold only the surface that bounds the edge; points of another surface within a few
  * sigma of it (an end cap just inside a drum's outline, a door stop) pull the fit towards them. Sharp
- * corners are not fitted: they are closed by the neighbouring faces' half-planes (a sharp corner, never
- * cut).
+ * corners are not fitted: a direction without a smooth face keeps the half-plane through its extreme point
+ * (the larger, safe side, and never outside the points' own hull).
  * Units: metres, 2D section frame (u, v).
  */
 
@@ -213,7 +213,14 @@ export function fittedOpening(o: FreeOpening, sigma: number): OpeningEdges | { o
   const bottom = fitSurface(o.points, [uCol, vB], [0, -1], band)
   const top = fitSurface(o.points, [uCol, vT], [0, 1], band)
   const named = { left, right, bottom, top }
-  for (const [edge, f] of Object.entries(named)) if (!f.ok) return { ok: false, reason: 'edge-not-fitted', edge }
+  // A fitted surface lies beyond the innermost point by a few sigma (the extreme's own offset), give or
+  // take a cell: a fit outside that range found another surface in its band (a sill, a frame's stop, a
+  // streak of stray points), and the edge is not taken from it.
+  for (const [edge, f] of Object.entries(named)) {
+    if (!f.ok) return { ok: false, reason: 'edge-not-fitted', edge }
+    const s = Math.max(sigma, f.rms)
+    if (f.offset < -(o.radius + 2 * cell) || f.offset > 5 * s + 2 * cell) return { ok: false, reason: 'edge-not-fitted', edge }
+  }
   const L = left as SurfaceFit, R = right as SurfaceFit, B = bottom as SurfaceFit, T = top as SurfaceFit
   const eL = uL - L.offset, eR = uR + R.offset, eB = vB - B.offset, eT = vT + T.offset
   return {
@@ -241,7 +248,7 @@ export interface FittedOutline {
  * An object's silhouette (u v points, any order) as the intersection of the half-planes of its fitted
  * support: in each of `directions` directions the band of points near the extreme one is fitted (see the
  * header) and the fitted curve's largest offset is the support; a band that does not fit one smooth surface
- * (a corner: two faces in the window) gives no half-plane, and its neighbours' half-planes close the corner.
+ * (a corner: two faces in the window) gives the half-plane through the extreme point.
  */
 export function fittedOutline(xy: Float64Array, sigma: number, spacing: number, directions = 72): FittedOutline | { ok: false; reason: 'degenerate-silhouette' } {
   const hull = convexHull(xy)
@@ -286,6 +293,11 @@ export function fittedOutline(xy: Float64Array, sigma: number, spacing: number, 
       supports.push(best + top)
       uMax = Math.max(uMax, f.u)
       fitted++
+    } else {
+      // No smooth face here (a corner, a partly scanned side): the extreme point's half-plane, which never
+      // cuts the object and keeps the outline within the points' own hull.
+      dirs.push(a)
+      supports.push(best)
     }
   }
   // The outline: the intersection of the fitted half-planes n . p <= support (the crossings of any two
@@ -362,7 +374,9 @@ export function fittedMargin(o: FreeOpening, placed: Float64Array, sigma: number
     const nx = (pts[2 * c.q]! - sx) / c.d, ny = (pts[2 * c.q + 1]! - sy) / c.d
     const f = fitSurface(pts, [sx, sy], [nx, ny], { sigma, halfWindow: h, near: c.d - (o.spacing + 4 * sigma), far: c.d + 8 * sigma + 2 * o.spacing })
     // Only a smooth surface across the window (not a corner of the opening): as for an outline.
-    if (f.ok && f.cover >= 0.75 && f.rms <= 1.5 * Math.max(sigma, o.spacing / 4) && Math.abs(f.coef[2]) * h * h <= Math.max(4 * sigma, 2 * o.spacing))
+    // and beyond the nearest point by a few sigma at most (as for an opening's edges, fittedOpening).
+    const beyond = f.ok ? f.offset - c.d : NaN
+    if (f.ok && f.cover >= 0.75 && f.rms <= 1.5 * Math.max(sigma, o.spacing / 4) && Math.abs(f.coef[2]) * h * h <= Math.max(4 * sigma, 2 * o.spacing) && beyond >= -(o.spacing + 2 * cell) && beyond <= 5 * Math.max(sigma, f.rms) + 2 * cell)
       found.push({ gap: f.offset, nx, ny, u: f.u })
   }
   if (found.length === 0) return { ok: false, reason: 'no-contact' }
