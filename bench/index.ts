@@ -1,5 +1,6 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
 // DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
+import { formatEdgeBench, runEdgeBench } from './edges'
 import { formatIngestBench, runIngestBench } from './ingest'
 import { formatLiveBench, runLiveBench } from './live'
 import { formatMarkerBench, runMarkerBench } from './markers'
@@ -15,7 +16,7 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, live, registration). */
+/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, live, registration, edges). */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -43,6 +44,8 @@ if (wanted('registration')) {
     `${formatRegistrationBench(await runRegistrationBench(log))}\n${formatRegistrationServiceBench(await runRegistrationServiceBench(log))}`,
   )
 }
+
+if (wanted('edges')) section('Edges under noise: coverage of U (k = 2) over 200 fixed-seed trials per level (goal >= 91 %)', formatEdgeBench(runEdgeBench(undefined, undefined, log)))
 
 // Every section has printed: leave now rather than wait on handles a bench left open (the live bench's run
 // did not end by itself once, after its figures were out; see the closing note of the live issue).

@@ -4,6 +4,7 @@ import { measureAngle } from '@shared/measure/angle'
 import { decideFit, fitResolution, fitThrough } from '@shared/measure/clearance'
 import { measureDistance } from '@shared/measure/distance'
 import { freeOpening, type FreeOpening } from '@shared/measure/opening'
+import { fittedMargin, fittedOpening, fittedOutline, marginEdgeParts } from '@shared/measure/edges'
 import { concaveOutline, polygonArea } from '@shared/measure/polygon'
 import { planeFrame, type SlabFrame } from '@shared/measure/slab'
 import { anchorBudget, combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from '@shared/measure/uncertainty'
@@ -369,7 +370,7 @@ const round = (x: number) => Math.round(x * 1e5) / 1e5
 const ring = (xy: ArrayLike<number>) => Array.from(xy, round)
 
 const OPENING_METHOD =
-  'Free opening: the points of the slab are grown by one point spacing and rasterised at half a spacing; the region reached from the seed by a flood fill is the opening. Clear width is its narrowest row and clear height its lowest column, both within the middle half, each corrected by twice the growth radius.'
+  'Free opening: the points of the slab are grown by one point spacing and rasterised at half a spacing; the region reached from the seed by a flood fill is the opening. Clear width is taken at its narrowest row and clear height at its lowest column, both within the middle half; each edge there is a local least-squares fit of the points beside it (the surface they sample, not the innermost noisy point).'
 
 interface OpeningOutcome {
   opening: FreeOpening
@@ -388,26 +389,36 @@ function openingOf(sec: SectionComputation): OpeningOutcome | { problem: string 
     }
     return { problem: words[found.reason] ?? `the opening could not be found (${found.reason}).` }
   }
-  // Each edge is found by the points beside it: point uncertainty per edge, the grid's resolution as a
-  // rectangular half-width (GUM 4.3.7), registration per edge.
-  const parts: CheckPart[] = [
-    { name: 'edge points', u: Math.SQRT2 * sec.pointUncertainty },
-    { name: 'grid resolution', u: found.resolution / Math.sqrt(3) },
+  // Each edge is fitted to the points beside it (shared/measure/edges.ts): the fits' parts, registration
+  // per edge.
+  // An edge that cannot be fitted (another surface in its band) leaves both figures at the grid's
+  // extreme-point values, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
+  const fittedEdges = fittedOpening(found, sec.pointUncertainty)
+  const edges = fittedEdges.ok
+    ? fittedEdges
+    : { clearWidth: found.clearWidthCorrected, clearHeight: found.clearHeightCorrected, uWidth: Math.hypot(Math.SQRT2 * sec.pointUncertainty, found.resolution / Math.sqrt(3)), uHeight: Math.hypot(Math.SQRT2 * sec.pointUncertainty, found.resolution / Math.sqrt(3)) }
+  const edgeName = fittedEdges.ok ? 'edge fits' : 'edge points and grid resolution'
+  const widthParts: CheckPart[] = [
+    { name: edgeName, u: edges.uWidth },
     { name: 'registration', u: Math.SQRT2 * sec.registrationRms },
   ]
-  const u = combineInQuadrature(parts)
-  const U = u.ok ? u.expanded : NaN
+  const heightParts: CheckPart[] = [
+    { name: edgeName, u: edges.uHeight },
+    { name: 'registration', u: Math.SQRT2 * sec.registrationRms },
+  ]
+  const uw = combineInQuadrature(widthParts), uh = combineInQuadrature(heightParts)
+  const parts = widthParts
   return {
     opening: found,
     result: {
       seed: [round(sec.seedUv[0]), round(sec.seedUv[1])],
       outline: ring(found.outline),
       area: found.area,
-      clearWidth: found.clearWidthCorrected,
+      clearWidth: edges.clearWidth,
       clearWidthAtV: found.clearWidthAtV,
-      clearHeight: found.clearHeightCorrected,
+      clearHeight: edges.clearHeight,
       clearHeightAtU: found.clearHeightAtU,
-      uncertainty: { width: U, height: U, parts },
+      uncertainty: { width: uw.ok ? uw.expanded : NaN, height: uh.ok ? uh.expanded : NaN, parts },
       resolution: found.resolution,
       method: OPENING_METHOD,
     },
@@ -499,23 +510,29 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
     silhouette[2 * i + 1] = sec.frame.v[0] * qx + sec.frame.v[1] * qy + sec.frame.v[2] * qz
   }
   const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
-  // Margin uncertainty: the opening's edge points, the object's points, the grid, both registrations.
+  // The object's outline fitted to its points (shared/measure/edges.ts), placed by the fit, and the margin
+  // measured to the opening's fitted surfaces.
+  const outline = fittedOutline(silhouette, objectScan.pointUncertainty ?? 0, objectScan.spacing ?? sec.spacing)
+  if (!outline.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${outline.reason}).`)
+  const fit = fitThrough(opening.opening, outline.xy, requiredMargin, 0, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
+  if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
+  const fitted = fit.margin > 0 ? fittedMargin(opening.opening, fit.placed, sec.pointUncertainty) : null
+  // Margin uncertainty: the edge fits on both sides, both registrations; an overlap (negative margin) is
+  // measured on the grid, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
   const parts: CheckPart[] = [
-    { name: 'opening points', u: sec.pointUncertainty },
-    { name: 'object points', u: objectScan.pointUncertainty ?? 0 },
-    { name: 'grid resolution', u: fitResolution(opening.opening) / Math.sqrt(3) },
+    ...(fitted?.ok ? marginEdgeParts(fitted, outline) : [{ name: 'grid resolution', u: fitResolution(opening.opening) / Math.sqrt(3) }]),
     { name: 'registration (opening)', u: sec.registrationRms },
     { name: 'registration (object)', u: object.registrationU },
   ]
   const budget = combineInQuadrature(parts)
   if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)
-  const fit = fitThrough(opening.opening, silhouette, requiredMargin, budget.expanded, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
-  if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
+  const margin = fitted?.ok ? fitted.margin : fit.margin
+  const collides = margin + budget.expanded < 0
   const sectionPart = sectionResult(sec, opening)
   const clearance: ClearanceResult = {
-    outcome: decideFit(fit.margin, budget.expanded, requiredMargin),
-    collides: fit.collides,
-    margin: fit.margin,
+    outcome: decideFit(margin, budget.expanded, requiredMargin),
+    collides,
+    margin,
     requiredMargin,
     rotationDegrees: fit.rotationDegrees,
     translation: [round(fit.translation[0]), round(fit.translation[1])],
@@ -533,13 +550,13 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   }
   return {
     ...base,
-    value: fit.margin,
+    value: margin,
     unit: 'm',
     standardUncertainty: budget.total,
     expandedUncertainty: budget.expanded,
     parts: budget.parts,
     section: sectionPart,
     clearance,
-    reason: fit.collides ? 'The object collides with the opening: even the margin plus its uncertainty is below zero.' : null,
+    reason: collides ? 'The object collides with the opening: even the margin plus its uncertainty is below zero.' : null,
   }
 }
