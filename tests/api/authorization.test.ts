@@ -7,7 +7,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { can, MEMBER_ROLES, ROLES, type MemberRole } from '@shared/auth/roles'
 import { apiRoutes } from '../../server/routes'
 import type { RouteDef } from '../../server/routes/registry'
-import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { guestAgent, signUpAgent, startTestServer, type TestServer } from '../utils/server'
+import { insertMembership } from '../../server/repositories/memberships'
 
 let t: TestServer
 type Agent = Awaited<ReturnType<typeof signUpAgent>>
@@ -54,8 +55,10 @@ let invited = 0
 async function freshProject(withGuest = false): Promise<Fixture> {
   const res = await people.owner.agent.post('/api/projects').send({ name: 'Matrix' }).expect(201)
   const projectId = res.body.project.id as string
+  // Members are written straight to the table: how people join is tested in invites.test.ts, and a fresh
+  // project is made for every role of every route here (an e-mailed invitation each would double the walk).
   for (const role of MEMBER_ROLES.filter((r) => r !== 'owner')) {
-    await joinProject(t, people.owner.agent, projectId, people[role], role)
+    await insertMembership(t.server.services.db, projectId, people[role].user.id, role)
   }
   const scan = await people.owner.agent.post(`/api/projects/${projectId}/scans`).attach('file', Buffer.from('0 0 0\n1 0 0\n0 1 0\n'), 'three.xyz').expect(202)
   const token = await people.owner.agent.post(`/api/projects/${projectId}/upload-tokens`).send({ label: 'matrix rig' }).expect(201)
@@ -182,10 +185,15 @@ describe('authorization matrix', () => {
       const foreignGuest = await call(strangerGuest, route, path)
       expect(foreignGuest.status, 'guest of another project').toBe(404)
       expect(foreignGuest.body).toEqual(outsider.body)
-      for (const role of ROLES) {
-        // A project of its own for each role: an allowed call may delete the project or a member.
-        const f = await freshProject(role === 'guest')
-        const res = await call(role === 'guest' ? f.guest! : people[role].agent, route, fillPath(route, f))
+      // A project of its own for each role (an allowed call may delete the project or a member), so the roles'
+      // calls are independent and run side by side.
+      const answers = await Promise.all(
+        ROLES.map(async (role) => {
+          const f = await freshProject(role === 'guest')
+          return { role, res: await call(role === 'guest' ? f.guest! : people[role].agent, route, fillPath(route, f)) }
+        }),
+      )
+      for (const { role, res } of answers) {
         if (can(role, right)) expect([401, 403, 404], `${role} is allowed`).not.toContain(res.status)
         else {
           expect(res.status, `${role} lacks ${right}`).toBe(403)
