@@ -38,7 +38,7 @@ export const paper = {
 } as const
 
 /**
- * State ramps from BRAND.md replace the base's red, green, blue and yellow, so severities (danger buttons,
+ * Spanmark's state ramps replace the base's red, green, blue and yellow, so severities (danger buttons,
  * error messages, toasts) speak Spanmark's colours. 500 is the brand shade; 600, used for message text on
  * the 50 tint, keeps at least 4.5:1 (brick 6.1, moss 5.7, slate 6.4, ochre 5.2).
  */

@@ -27,7 +27,7 @@ export interface MarkerStroke {
   dashed?: boolean
 }
 
-/** A state as the label shows it: its words and its shape (BRAND.md: never colour alone). */
+/** A state as the label shows it: its words and its shape (never colour alone). */
 export interface MarkerLabelState {
   word: string
   shape: 'disc' | 'ring-cross' | 'half-disc' | 'spinner' | 'ring'
@@ -84,7 +84,7 @@ void main() {
   if (r > 1.0) discard;
   vec3 rim = vec3(0.118, 0.106, 0.094);
   if (vHollow > 0.5) {
-    // Off the points: a hollow ring with a cross (BRAND.md's shape for "off the points").
+    // Off the points: a hollow ring with a cross (Spanmark's shape for "off the points").
     bool ring = r > 0.62;
     bool cross = abs(d.x - d.y) < 0.09 || abs(d.x + d.y) < 0.09;
     if (!ring && !cross) discard;

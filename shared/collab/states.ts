@@ -1,6 +1,6 @@
 /**
  * The one table of state names (DESIGN section 6): API, live documents and screens all use these codes;
- * the words people read are Spanmark's own (BRAND.md). State is never told by colour alone, so every state
+ * the words people read are Spanmark's own (Spanmark's own). State is never told by colour alone, so every state
  * also names its shape (drawn by the client's StateMark).
  */
 
@@ -13,9 +13,9 @@ export type ClearanceOutcome = (typeof CLEARANCE_OUTCOMES)[number]
 export const REVIEW_STATES = ['open', 'changes-asked', 'signed-off'] as const
 export type ReviewState = (typeof REVIEW_STATES)[number]
 
-/** Shapes of BRAND.md: filled disc, hollow ring with a cross, half disc, small spinner. */
+/** Spanmark's state shapes: filled disc, hollow ring with a cross, half disc, small spinner. */
 export type StateShape = 'disc' | 'ring-cross' | 'half-disc' | 'spinner' | 'ring'
-/** Colour roles of BRAND.md (the client maps them to its theme's shades). */
+/** Spanmark's colour roles (the client maps them to its theme's shades). */
 export type StateTone = 'good' | 'bad' | 'unsure' | 'neutral'
 
 export interface StateLook {

@@ -133,7 +133,7 @@ export function formatDegrees(degrees: number | null | undefined, decimals = 2):
 }
 
 /**
- * "value +- U (k = 2)" as BRAND.md writes it: 0.912 m +- 4.0 mm (k = 2). Uncertainties are rounded up
+ * "value +- U (k = 2)" as Spanmark writes it: 0.912 m +- 4.0 mm (k = 2). Uncertainties are rounded up
  * (ceil) in ft-in so the stated interval is never narrower than the computed one.
  */
 export function formatWithUncertainty(

@@ -1,5 +1,5 @@
 // Live documents over WebSockets with real y-websocket clients (the library's own provider, on ws in
-// Node as STACK.md describes): convergence, roles at the socket, named close codes, store-before-send,
+// Node as the ws package's client allows): convergence, roles at the socket, named close codes, store-before-send,
 // compaction and reload, and presence limited to the connection's own client id.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import supertest from 'supertest'

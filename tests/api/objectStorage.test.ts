@@ -1,4 +1,4 @@
-// STACK.md: since SDK 3.729 streamed uploads get checksum trailers by default, which a fake S3 server may
+// The S3 SDK: since version 3.729 streamed uploads get checksum trailers by default, which a fake S3 server may
 // keep inside the object. A 24 MiB stream through lib-storage's multipart Upload must come back byte for byte.
 import crypto from 'node:crypto'
 import { Readable } from 'node:stream'

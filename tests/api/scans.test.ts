@@ -31,7 +31,7 @@ describe('uploads', () => {
     expect(list.body.scans.map((s: { id: string }) => s.id)).toContain(scan.id)
   })
 
-  // ../shared/fixtures/README.md: crate.las and crate.laz hold the same 5220 points on a 2 cm grid with
+  // tests/fixtures: crate.las and crate.laz hold the same 5220 points on a 2 cm grid with
   // +-1 mm noise, bounds (-0.4010, -0.2510, -0.0010)..(0.4010, 0.2510, 0.6010).
   for (const name of ['crate.las', 'crate.laz']) {
     it(`reads ${name}: 5220 points, the fixture's bounds, spacing 0.020 m within 5 %`, async () => {

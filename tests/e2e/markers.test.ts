@@ -238,7 +238,7 @@ it('prints the measurement sheet with the API’s values, the scans used and the
   for (const m of list) {
     await expect(page.locator(`[data-testid="sheet-row"][data-marker-id="${m.id}"] [data-testid="sheet-value"]`).innerText()).resolves.toBe(formatWithUncertainty(m.check.value, m.check.expandedUncertainty, m.kind === 'angle' ? 'angle' : 'length', 'm'))
   }
-  // Each row's review state in the screen's words (BRAND.md).
+  // Each row's review state in the screen's words.
   for (const m of list) {
     const word = { open: 'open', 'changes-asked': 'changes asked', 'signed-off': 'signed off' }[m.review.state]
     await expect(page.locator(`[data-testid="sheet-row"][data-marker-id="${m.id}"] [data-testid="sheet-review"]`).innerText()).resolves.toMatch(new RegExp(`^${word}`))

@@ -61,7 +61,7 @@ function drawnPixels(page: Page): Promise<number> {
     ctx.drawImage(gl, 0, 0)
     const data = ctx.getImageData(0, 0, c.width, c.height).data
     let n = 0
-    // BRAND.md viewport background #1E1B18; the floor grid #2E2A25 is close to it and not counted.
+    // Spanmark's viewport background #1E1B18; the floor grid #2E2A25 is close to it and not counted.
     for (let i = 0; i < data.length; i += 4) if (Math.abs(data[i]! - 0x1e) + Math.abs(data[i + 1]! - 0x1b) + Math.abs(data[i + 2]! - 0x18) > 60) n++
     return n
   })

@@ -1,5 +1,5 @@
 // A live-document client in Node: y-websocket's own provider on ws, with a session cookie and an Origin
-// header (a browser sends both by itself), as STACK.md describes.
+// header (a browser sends both by itself), as the ws package's client allows.
 import WebSocket from 'ws'
 import * as Y from 'yjs'
 import { WebsocketProvider } from 'y-websocket'

@@ -12,7 +12,7 @@ export const ACTION_WORDS: Record<MarkerRevision['action'], string> = {
   reopened: 'reopened its review with a change',
 }
 
-/** A reviewer's action in the words of BRAND.md's review states. */
+/** A reviewer's action in the words of the review states (shared/collab/states.ts). */
 const REVIEW_WORDS: Record<ReviewState, string> = {
   'signed-off': 'signed it off',
   'changes-asked': 'asked for changes',

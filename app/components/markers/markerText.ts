@@ -10,7 +10,7 @@ import type { IconName } from '@/components/base/icons'
 
 export const KIND_WORDS: Record<MarkerKind, string> = { distance: 'distance', angle: 'angle', section: 'section', clearance: 'clearance' }
 export const KIND_ICONS: Record<MarkerKind, IconName> = { distance: 'kindDistance', angle: 'kindAngle', section: 'kindSection', clearance: 'kindClearance' }
-/** The kinds' viewport colours (BRAND.md), for drawing on the charcoal chip only: they are too light for white. */
+/** The kinds' viewport colours (the brand palette in app/plugins/theme.ts), for drawing on the charcoal chip only: they are too light for white. */
 export const KIND_COLORS: Record<MarkerKind, string> = { distance: '#F2B134', angle: '#7FC8C2', section: '#C7A0E8', clearance: '#F08A5D' }
 
 export type AnyState = CheckState | ClearanceOutcome | ReviewState

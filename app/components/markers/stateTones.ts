@@ -1,5 +1,5 @@
 /**
- * Text shades of the state tones (BRAND.md roles) on the drawer's light surfaces. The brand shades are kept
+ * Text shades of the state tones (the brand palette's roles) on the drawer's light surfaces. The brand shades are kept
  * where they already reach 4.5:1 (WCAG 2.1, 1.4.3) on white, paper and the selected row's ochre tint;
  * moss is taken one step darker (500 #4E7D3A is 4.4:1 on paper), and slate and brick use their text shades.
  */

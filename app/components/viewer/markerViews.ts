@@ -1,7 +1,7 @@
 /**
  * From markers (as the API gives them) to what the viewport draws: strokes, a fill, anchor dots and a label,
  * all in the scene frame (metres, Z up). The viewer (viewer/markerLayer.ts) draws these shapes and knows
- * nothing of marker kinds; the words and colours are decided here, from the contract and BRAND.md.
+ * nothing of marker kinds; the words and colours are decided here, from the contract and Spanmark's own words and colours.
  * Pure functions, unit-tested.
  */
 import type { Marker, MarkerKind, SectionFrame } from '@shared/schemas'
@@ -11,7 +11,7 @@ import { KIND_COLORS, KIND_WORDS, valueText } from '@/components/markers/markerT
 import type { MarkerLabelView, MarkerStroke, MarkerView } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
 
-/** Marker kinds in the viewport (BRAND.md), as the drawer's chips show them. */
+/** Marker kinds in the viewport (Spanmark's own), as the drawer's chips show them. */
 export const MARKER_KIND_COLOURS: Record<MarkerKind, string> = KIND_COLORS
 /** Off the points; also the free opening's outline, as the section figures draw it. */
 export const BRICK = '#B4442E'
@@ -94,7 +94,7 @@ export function anchorDots(marker: Marker): { at: Vec3; offScan: boolean }[] {
   })
 }
 
-/** The label's value line and its state: the contract's words, values as BRAND.md writes them. */
+/** The label's value line and its state: the contract's words, values as Spanmark writes them. */
 export function markerLabel(marker: Marker, lengthUnit: LengthUnit): Omit<MarkerLabelView, 'at'> {
   const check = marker.check
   const look = CHECK_STATE_LOOK[check.state]

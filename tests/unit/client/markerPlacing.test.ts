@@ -2,7 +2,7 @@
 // bodies (parsed with the contract's own zod schema), plane problems, and the live preview against worked
 // values: the 3-4-5 right triangle (Euclid I.47) for a length and atan(4/3) = 53.130102354...° (standard
 // trigonometric value, from memory, recomputed below with Math.atan2), GUM eq. 10 (JCGM 100:2008 section
-// 5.1) for the uncertainty of a difference of two independent points, and BRAND.md's written form
+// 5.1) for the uncertainty of a difference of two independent points, and Spanmark's written form
 // "0.912\u00a0m ± 4.0\u00a0mm (k = 2)".
 import { describe, expect, it } from 'vitest'
 import { MarkerCreateBody } from '@shared/schemas'

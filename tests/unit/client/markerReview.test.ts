@@ -1,5 +1,5 @@
 // The drawer's review and comment helpers: the review filter and column of the markers table, the history's
-// words for review versions, and what makes a marker's threads be fetched again. The words are BRAND.md's
+// words for review versions, and what makes a marker's threads be fetched again. The words are Spanmark's own
 // (review states open, changes asked, signed off); the rules are the product's own (DESIGN section 6).
 import { describe, expect, it } from 'vitest'
 import { REVIEW_STATES } from '@shared/collab/states'
@@ -17,7 +17,7 @@ const pendingSigned = marker({ label: 'Moved after sign-off', check: check({ sta
 const all = [open, signed, asked, pendingSigned]
 
 describe('the markers table by review state', () => {
-  it('offers the three review states in BRAND.md’s words, in order', () => {
+  it('offers the three review states in Spanmark’s own words, in order', () => {
     expect(REVIEW_OPTIONS).toEqual([
       { value: 'open', label: 'open' },
       { value: 'changes-asked', label: 'changes asked' },

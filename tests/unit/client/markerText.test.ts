@@ -1,4 +1,4 @@
-// How markers read in the drawer. The words are BRAND.md's tables (the product's own word list); values
+// How markers read in the drawer. The words are Spanmark's own word list; values
 // follow its example "0.912\u00a0m ± 4.0\u00a0mm (k = 2)"; feet and inches use 1 ft = 0.3048\u00a0m exactly (NIST SP 811
 // appendix B); a distance's horizontal and vertical parts are shown expanded, U = k u with k = 2 (GUM,
 // JCGM 100:2008, 6.2.1).
@@ -24,7 +24,7 @@ const area = marker({ kind: 'section', label: 'Plinth', check: check({ value: 1.
 const pending = marker({ kind: 'distance', label: 'Moved', createdBy: null, check: check({ state: 'pending' }) })
 
 describe('values', () => {
-  it('writes a length with its expanded uncertainty as BRAND.md does', () => {
+  it('writes a length with its expanded uncertainty as Spanmark writes it', () => {
     expect(valueText(distance, 'm')).toBe('0.912\u00a0m \u00b1 4.0\u00a0mm (k = 2)')
     expect(valueText(distance, 'mm')).toBe('912.0\u00a0mm \u00b1 4.0\u00a0mm (k = 2)')
     expect(valueShort(distance, 'm')).toBe('0.912\u00a0m \u00b1 4.0\u00a0mm')
@@ -45,7 +45,7 @@ describe('values', () => {
 })
 
 describe('state looks', () => {
-  it('say BRAND.md words, each state with a shape', () => {
+  it('say Spanmark's words, each state with a shape', () => {
     const words = [...CHECK_STATES, ...CLEARANCE_OUTCOMES, ...REVIEW_STATES].map((s) => lookOf(s).word)
     expect(words).toEqual([
       'checking...',

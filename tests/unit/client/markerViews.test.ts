@@ -1,7 +1,7 @@
 // What the viewport draws for markers (app/components/viewer/markerViews.ts), checked against three.js, a
 // general-purpose reference library: Vector3.angleTo for the angle's arc, Plane.distanceToPoint for the
 // section rectangle lying in its plane, and ShapeUtils.area for its size. Label words and colours come
-// from the markers contract and BRAND.md ("0.912\u00a0m ± 4.0\u00a0mm (k = 2)", "off the points", kind colours);
+// from the markers contract and Spanmark's own words ("0.912\u00a0m ± 4.0\u00a0mm (k = 2)", "off the points", kind colours);
 // label stacking (viewer/markerLayer.ts liftClear) against lifts worked by hand.
 import { describe, expect, it } from 'vitest'
 import { Plane, ShapeUtils, Vector2, Vector3 } from 'three'

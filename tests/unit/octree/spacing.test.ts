@@ -1,6 +1,6 @@
 // Mean point spacing (DOMAIN "Spacing and density"). Reference data: a synthetic 2 cm grid with +-1 mm noise
 // (derived: the spacing is the grid step by construction) and the crate fixture (tests/fixtures/README via
-// ../shared/fixtures: 2 cm grid, +-1 mm noise on five faces of a crate), read with the project's LAS reader.
+// tests/fixtures: 2 cm grid, +-1 mm noise on five faces of a crate), read with the project's LAS reader.
 import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
 import { LasReader } from '../../../server/points/readers/lasReader'

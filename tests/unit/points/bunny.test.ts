@@ -7,7 +7,7 @@ import { writePcd, writePly, writeXyz } from './lib/writers'
 /**
  * The Stanford bunny from the npm `bunny` package 1.0.1 (public domain), written to each format and read
  * back. Check values: 1839 vertices, bounds min (-4.958475, -0.003149, -3.729833),
- * max (4.94885, 9.654748, 3.810639) (DOMAIN.md section 4, derived from the package's own arrays).
+ * max (4.94885, 9.654748, 3.810639) (derived from the package's own arrays).
  */
 
 const { positions, cells } = bunny

@@ -125,7 +125,7 @@ describe('LAS from the ASPRS tables', () => {
   })
 })
 
-describe('crate fixtures (../shared/fixtures README)', () => {
+describe('crate fixtures (tests/fixtures)', () => {
   it('crate.las: LAS 1.2 format 0, 5220 points, the README bounds, scale and offset', async () => {
     const cloud = await readAll(fixture('crate.las'), 'las', { chunkSize: 1 << 12 })
     const header = cloud.header as LasHeaderInfo
