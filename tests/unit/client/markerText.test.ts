@@ -45,7 +45,7 @@ describe('values', () => {
 })
 
 describe('state looks', () => {
-  it('say Spanmark's words, each state with a shape', () => {
+  it('say Spanmark’s words, each state with a shape', () => {
     const words = [...CHECK_STATES, ...CLEARANCE_OUTCOMES, ...REVIEW_STATES].map((s) => lookOf(s).word)
     expect(words).toEqual([
       'checking...',
