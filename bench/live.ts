@@ -57,8 +57,9 @@ export async function runLiveBench(log: (l: string) => void = () => {}): Promise
       writer.markers.set(id, { kind: 'distance', label, anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 1 + i * 0.001, y: 0, z: 0 }], params: {} } as never)
       await until(() => readers.every((r) => r.markers.get(id)?.label === label))
       seen.push(performance.now() - t0)
-      // Paced within the per-connection cap on changes a second (config.live.writesPerSecond).
-      await new Promise((r) => setTimeout(r, Math.max(5, 1000 / bench.server.services.config.live.writesPerSecond - (performance.now() - t0))))
+      // Paced at half the per-connection cap on changes a second (config.live.writesPerSecond), so arrival
+      // jitter never bunches past it.
+      await new Promise((r) => setTimeout(r, Math.max(5, 2000 / bench.server.services.config.live.writesPerSecond - (performance.now() - t0))))
     }
 
     // Heap per open scene: 20 more scenes with 100 markers each, loaded in the server's memory.

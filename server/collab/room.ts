@@ -183,17 +183,17 @@ export class Room {
     if (!conn.writable && data.byteLength > budget.limits.readOnlyBaseBytes) {
       // A read-only connection sends its sync request (a state vector) and its presence, nothing bigger.
       const cap = budget.readOnlyCap(Y.encodeStateVector(this.doc).byteLength)
-      if (data.byteLength > cap) return Room.end(conn, 'tooMuch', LIMIT_REASONS.readOnly(data.byteLength))
+      if (data.byteLength > cap) return this.overCap(conn, LIMIT_REASONS.readOnly(data.byteLength))
     }
     const decoder = decoding.createDecoder(data)
     const type = decoding.readVarUint(decoder)
     if (type === MESSAGE_SYNC) {
       const subType = decoding.readVarUint(decoder)
       const now = Date.now()
-      if (subType === syncProtocol.messageYjsSyncStep1 && !budget.syncs.take(now)) return Room.end(conn, 'tooMuch', LIMIT_REASONS.syncRequests(budget.limits.syncRequestsPerSecond))
+      if (subType === syncProtocol.messageYjsSyncStep1 && !budget.syncs.take(now)) return this.overCap(conn, LIMIT_REASONS.syncRequests(budget.limits.syncRequestsPerSecond))
       if (subType !== syncProtocol.messageYjsSyncStep1) {
-        if (data.byteLength > budget.limits.writeBytes) return Room.end(conn, 'tooMuch', LIMIT_REASONS.writeBytes(budget.limits.writeBytes))
-        if (!budget.writes.take(now)) return Room.end(conn, 'tooMuch', LIMIT_REASONS.writes(budget.limits.writesPerSecond))
+        if (data.byteLength > budget.limits.writeBytes) return this.overCap(conn, LIMIT_REASONS.writeBytes(budget.limits.writeBytes))
+        if (!budget.writes.take(now)) return this.overCap(conn, LIMIT_REASONS.writes(budget.limits.writesPerSecond))
       }
       if (subType === syncProtocol.messageYjsSyncStep1) {
         // A sync request: answered once every stored update has gone out.
@@ -369,6 +369,12 @@ export class Room {
       encoding.writeVarUint8Array(a, awarenessProtocol.encodeAwarenessUpdate(this.awareness, states))
       this.send(conn.socket, encoding.toUint8Array(a))
     }
+  }
+
+  /** A connection passed one of its caps: closed with tooMuch, and said in the log. */
+  private overCap(conn: Connection, reason: string): void {
+    this.log.info({ sceneId: this.sceneId, doc: this.kind, userId: conn.userId, passId: conn.passId, reason }, 'a live connection passed a cap: closed')
+    Room.end(conn, 'tooMuch', reason)
   }
 
   /** Frees the document's memory (the socket server's unload, once nobody has it open). */
