@@ -1,29 +1,12 @@
 import type { Conn } from '../db'
+import { consumeUserToken, findUserToken, insertUserToken, voidUserTokens } from './userTokens'
 
-export function insertEmailConfirmation(db: Conn, userId: string, tokenHash: string, expiresAt: Date) {
-  return db.insertInto('email_confirmations').values({ user_id: userId, token_hash: tokenHash, expires_at: expiresAt }).execute()
-}
-
+export const insertEmailConfirmation = (db: Conn, userId: string, tokenHash: string, expiresAt: Date) => insertUserToken(db, 'email_confirmations', userId, tokenHash, expiresAt)
 /** Marks the token used and returns its user, atomically, only if it is unused and unexpired. */
-export function consumeEmailConfirmation(db: Conn, tokenHash: string) {
-  return db
-    .updateTable('email_confirmations')
-    .set({ used_at: new Date() })
-    .where('token_hash', '=', tokenHash)
-    .where('used_at', 'is', null)
-    .where('expires_at', '>', new Date())
-    .returning(['user_id'])
-    .executeTakeFirst()
-}
-
-export function findEmailConfirmation(db: Conn, tokenHash: string) {
-  return db.selectFrom('email_confirmations').select(['used_at', 'expires_at']).where('token_hash', '=', tokenHash).executeTakeFirst()
-}
-
-/** A new link, or a confirmation, voids every other outstanding link of that person. */
-export function voidEmailConfirmations(db: Conn, userId: string) {
-  return db.updateTable('email_confirmations').set({ used_at: new Date() }).where('user_id', '=', userId).where('used_at', 'is', null).execute()
-}
+export const consumeEmailConfirmation = (db: Conn, tokenHash: string) => consumeUserToken(db, 'email_confirmations', tokenHash)
+export const findEmailConfirmation = (db: Conn, tokenHash: string) => findUserToken(db, 'email_confirmations', tokenHash)
+/** Voids every other outstanding link of that person. */
+export const voidEmailConfirmations = (db: Conn, userId: string) => voidUserTokens(db, 'email_confirmations', userId)
 
 export function markEmailConfirmed(db: Conn, userId: string) {
   return db.updateTable('users').set({ email_confirmed_at: new Date() }).where('id', '=', userId).where('email_confirmed_at', 'is', null).execute()
