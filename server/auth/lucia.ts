@@ -1,11 +1,12 @@
 import { NodePostgresAdapter } from '@lucia-auth/adapter-postgresql'
 import { Lucia, TimeSpan } from 'lucia'
 import type pg from 'pg'
+import { HashedSessionAdapter } from './hashedSessions'
 
 export const SESSION_COOKIE = 'spanmark_session'
 
 export function createLucia(pool: pg.Pool, secureCookies: boolean) {
-  return new Lucia(new NodePostgresAdapter(pool, { user: 'users', session: 'sessions' }), {
+  return new Lucia(new HashedSessionAdapter(new NodePostgresAdapter(pool, { user: 'users', session: 'sessions' })), {
     sessionExpiresIn: new TimeSpan(30, 'd'),
     sessionCookie: { name: SESSION_COOKIE, attributes: { secure: secureCookies, sameSite: 'lax' } },
     // The adapter selects every user column; only these leave the server.

@@ -36,6 +36,39 @@ describe('accounts', () => {
     expect(cookie).not.toMatch(/Secure/)
   })
 
+  it('keeps only the SHA-256 of a session id: the stored value is not a key that signs in', async () => {
+    const { agent, user } = await signUpAgent(t, 'Hash Test')
+    const me = await agent.get('/api/me').expect(200)
+    const sent = String(me.request.getHeader('Cookie') ?? me.req.getHeader('cookie'))
+    const id = /spanmark_session=([^;]+)/.exec(sent)?.[1]
+    expect(id).toBeTruthy()
+    const rows = await t.server.services.db.selectFrom('sessions').select('id').where('user_id', '=', user.id).execute()
+    // Node's own SHA-256 of the cookie's value (FIPS 180-4), computed here, not by the server's helper.
+    expect(rows.map((r) => r.id)).toEqual([crypto.createHash('sha256').update(id!).digest('hex')])
+    // Someone who read the table holds only the hash: sent as a cookie it opens nothing.
+    await t.agent().get('/api/me').set('Cookie', `spanmark_session=${rows[0].id}`).expect(401)
+    await t.agent().get('/api/me').set('Cookie', `spanmark_session=${id}`).expect(200)
+  })
+
+  it('keeps people signed in across the migration that hashes the stored session ids', async () => {
+    const { up } = await import('../../migrations/20261205140000_hashed_sessions')
+    const { user } = await signUpAgent(t, 'Before Hashing')
+    const db = t.server.services.db
+    // As the table was before the migration: a session stored under its raw id (this test's own row only;
+    // the migration rewrites every row, so the others are set aside and put back as they were).
+    const others = await db.deleteFrom('sessions').returningAll().execute()
+    const raw = crypto.randomBytes(20).toString('hex')
+    await db.insertInto('sessions').values({ id: raw, user_id: user.id, expires_at: new Date(Date.now() + 86_400_000) }).execute()
+    try {
+      await up(db)
+      const stored = await db.selectFrom('sessions').select('id').execute()
+      expect(stored.map((r) => r.id)).toEqual([crypto.createHash('sha256').update(raw).digest('hex')])
+      await t.agent().get('/api/me').set('Cookie', `spanmark_session=${raw}`).expect(200)
+    } finally {
+      if (others.length) await db.insertInto('sessions').values(others).execute()
+    }
+  })
+
   it('lowercases e-mail and makes no second account for it', async () => {
     await t.agent().post('/api/auth/sign-up').send({ email: 'Twice@Spanmark.example', password: 'long enough pw', name: 'T' }).expect(202)
     await t.agent().post('/api/auth/sign-up').send({ email: 'twice@spanmark.example', password: 'other long pw', name: 'T2' }).expect(202)
