@@ -1,9 +1,10 @@
 import { CommentCreated, CommentThreadList, CommentThreadResponse, type Comment, type CommentCreateBody, type CommentThread } from '@shared/schemas'
 import { apiPath, http } from './http'
 
-/** The marker's comment threads, oldest first, each with its replies in order. */
-export async function listThreads(markerId: string, signal?: AbortSignal): Promise<CommentThread[]> {
-  return (await http.get(apiPath`/api/markers/${markerId}/comments`, CommentThreadList, { signal })).threads
+/** A page of the marker's comment threads (oldest first within it, each with its replies), the latest page when `before` is absent. */
+export async function listThreads(markerId: string, before: string | undefined, signal?: AbortSignal): Promise<{ threads: CommentThread[]; earlier: string | null }> {
+  const path = apiPath`/api/markers/${markerId}/comments`
+  return http.get(before ? `${path}?before=${encodeURIComponent(before)}` : path, CommentThreadList, { signal })
 }
 
 /** A new thread, or (with threadId) a reply in one. */

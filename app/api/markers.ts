@@ -23,9 +23,10 @@ export function deleteMarker(markerId: string): Promise<void> {
   return http.deleteNoContent(apiPath`/api/markers/${markerId}`)
 }
 
-/** The marker's settled edits, oldest first. */
-export async function markerHistory(markerId: string, signal?: AbortSignal): Promise<MarkerRevision[]> {
-  return (await http.get(apiPath`/api/markers/${markerId}/history`, MarkerHistory, { signal })).revisions
+/** A page of the marker's settled edits (oldest first within it), the latest page when `before` is absent. */
+export async function markerHistory(markerId: string, before: string | undefined, signal?: AbortSignal): Promise<{ revisions: MarkerRevision[]; earlier: string | null }> {
+  const path = apiPath`/api/markers/${markerId}/history`
+  return http.get(before ? `${path}?before=${encodeURIComponent(before)}` : path, MarkerHistory, { signal })
 }
 
 /** An earlier version becomes the current one (a new revision); answers with the marker checked again. */

@@ -1,5 +1,5 @@
 import { computed, toValue, type MaybeRefOrGetter } from 'vue'
-import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tanstack/vue-query'
+import { keepPreviousData, useInfiniteQuery, useMutation, useQueryClient, type InfiniteData } from '@tanstack/vue-query'
 import type { CommentThread, Marker, MarkerReviewBody } from '@shared/schemas'
 import * as commentsApi from '@/api/comments'
 import * as markersApi from '@/api/markers'
@@ -11,13 +11,18 @@ export function commentsVersion(marker: Pick<Marker, 'comments'>): string {
   return `${c.count}:${c.open}:${c.lastAt ?? ''}`
 }
 
-/** The thread as the server answered it, into the cached list (in place, or at the end). */
-function withThread(list: CommentThread[] | undefined, thread: CommentThread): CommentThread[] {
-  const at = list?.findIndex((t) => t.id === thread.id) ?? -1
-  if (!list || at === -1) return [...(list ?? []), thread]
-  const next = list.slice()
-  next[at] = thread
-  return next
+type ThreadPage = { threads: CommentThread[]; earlier: string | null }
+type ThreadPages = InfiniteData<ThreadPage, string | undefined>
+
+/** The thread as the server answered it, into the cached pages (in place, or at the end of the latest page). */
+function withThread(data: ThreadPages | undefined, thread: CommentThread): ThreadPages | undefined {
+  if (!data) return data
+  const held = data.pages.findIndex((p) => p.threads.some((t) => t.id === thread.id))
+  const pages = data.pages.map((p, i) => {
+    if (held === -1 ? i !== 0 : i !== held) return p
+    return { ...p, threads: held === -1 ? [...p.threads, thread] : p.threads.map((t) => (t.id === thread.id ? thread : t)) }
+  })
+  return { ...data, pages }
 }
 
 /**
@@ -29,13 +34,16 @@ export function useMarkerComments(markerId: MaybeRefOrGetter<string>, version: M
   const client = useQueryClient()
   const base = () => queryKeys.markerComments(toValue(markerId))
   const key = computed(() => [...base(), toValue(version)] as const)
-  const query = useQuery({
+  // Pages of threads come newest first; "Show earlier threads" asks for the page before.
+  const query = useInfiniteQuery({
     queryKey: key,
-    queryFn: ({ signal }) => commentsApi.listThreads(toValue(markerId), signal),
+    queryFn: ({ pageParam, signal }) => commentsApi.listThreads(toValue(markerId), pageParam, signal),
+    initialPageParam: undefined as string | undefined,
+    getNextPageParam: (page) => page.earlier ?? undefined,
     placeholderData: keepPreviousData,
     meta: { errorTitle: 'Could not load the comments' },
   })
-  const put = (thread: CommentThread) => client.setQueryData<CommentThread[]>(key.value, (list) => withThread(list, thread))
+  const put = (thread: CommentThread) => client.setQueryData<ThreadPages>(key.value, (data) => withThread(data, thread))
   const post = useMutation({
     mutationFn: (body: { body: string; threadId?: string }) => commentsApi.postComment(toValue(markerId), body),
     onSuccess: ({ thread }) => put(thread),
@@ -46,7 +54,9 @@ export function useMarkerComments(markerId: MaybeRefOrGetter<string>, version: M
     onSuccess: put,
     meta: { errorTitle: 'Thread not changed' },
   })
-  return { query, threads: computed(() => query.data.value ?? []), post, resolve }
+  /** Every loaded thread, oldest first. */
+  const threads = computed(() => [...(query.data.value?.pages ?? [])].reverse().flatMap((p) => p.threads))
+  return { query, threads, post, resolve }
 }
 
 /**

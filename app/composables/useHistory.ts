@@ -1,5 +1,5 @@
 import { computed, toValue, type MaybeRefOrGetter } from 'vue'
-import { useMutation, useQuery, useQueryClient } from '@tanstack/vue-query'
+import { useInfiniteQuery, useMutation, useQuery, useQueryClient } from '@tanstack/vue-query'
 import * as checkpointsApi from '@/api/checkpoints'
 import * as markersApi from '@/api/markers'
 import { queryKeys } from './queryKeys'
@@ -11,17 +11,22 @@ import { queryKeys } from './queryKeys'
  */
 export function useMarkerHistory(markerId: MaybeRefOrGetter<string>, version: MaybeRefOrGetter<string>) {
   const client = useQueryClient()
-  const query = useQuery({
+  // Pages come newest first; `earlier` says where the one before starts ("Show earlier" asks for it).
+  const query = useInfiniteQuery({
     queryKey: computed(() => [...queryKeys.markerHistory(toValue(markerId)), toValue(version)]),
-    queryFn: ({ signal }) => markersApi.markerHistory(toValue(markerId), signal),
+    queryFn: ({ pageParam, signal }) => markersApi.markerHistory(toValue(markerId), pageParam, signal),
+    initialPageParam: undefined as string | undefined,
+    getNextPageParam: (page) => page.earlier ?? undefined,
     meta: { errorTitle: 'Could not load the marker’s history' },
   })
+  /** Every loaded revision, oldest first. */
+  const revisions = computed(() => [...(query.data.value?.pages ?? [])].reverse().flatMap((p) => p.revisions))
   const restore = useMutation({
     mutationFn: (revisionId: string) => markersApi.restoreMarker(toValue(markerId), revisionId),
     onSuccess: () => void client.invalidateQueries({ queryKey: queryKeys.markerHistory(toValue(markerId)) }),
     meta: { errorTitle: 'Version not restored' },
   })
-  return { query, restore }
+  return { query, revisions, restore }
 }
 
 /** The scene's named checkpoints, setting and removing them. */

@@ -11,9 +11,30 @@ const commentRows = (db: Conn) =>
 
 export type CommentRow = NonNullable<Awaited<ReturnType<typeof findComment>>>
 
-/** A marker's comments, oldest first (threads are put together by the service). */
-export function listComments(db: Conn, markerId: string) {
-  return commentRows(db).where('c.marker_id', '=', markerId).orderBy('c.created_at').orderBy('c.id').execute()
+/**
+ * A page of a marker's threads: the `limit` latest started before thread `before` (all when absent), each with
+ * all its replies (a thread holds at most THREAD_REPLIES_MAX), oldest first; `earlier` is the thread id to ask
+ * before for the page before it. The service puts rows into threads.
+ */
+export async function listThreadsPage(db: Conn, markerId: string, page: { limit: number; before?: string }) {
+  let firsts = commentRows(db).where('c.marker_id', '=', markerId).where('c.thread_id', 'is', null)
+  if (page.before !== undefined) {
+    const cursor = await db.selectFrom('comments').select(['created_at', 'id']).where('id', '=', page.before).where('marker_id', '=', markerId).where('thread_id', 'is', null).executeTakeFirst()
+    if (!cursor) return null
+    firsts = firsts.where((eb) => eb(eb.refTuple('c.created_at', 'c.id'), '<', eb.tuple(cursor.created_at, cursor.id)))
+  }
+  const newest = await firsts.orderBy('c.created_at', 'desc').orderBy('c.id', 'desc').limit(page.limit + 1).execute()
+  const more = newest.length > page.limit
+  const threads = newest.slice(0, page.limit).reverse()
+  const replies = threads.length
+    ? await commentRows(db).where('c.thread_id', 'in', threads.map((t) => t.id)).orderBy('c.created_at').orderBy('c.id').execute()
+    : []
+  return { rows: [...threads, ...replies], earlier: more ? threads[0]!.id : null }
+}
+
+export async function countReplies(db: Conn, threadId: string): Promise<number> {
+  const row = await db.selectFrom('comments').select((eb) => eb.fn.countAll<string>().as('n')).where('thread_id', '=', threadId).executeTakeFirstOrThrow()
+  return Number(row.n)
 }
 
 /** One thread: its first comment and the replies, oldest first. */

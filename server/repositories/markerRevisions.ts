@@ -32,17 +32,23 @@ export function insertRevision(
     .executeTakeFirstOrThrow()
 }
 
-/** A marker's revisions in one scene (its own: see services/markers.ts historyOf). */
-export function listRevisions(db: Conn, markerId: string, sceneId: string) {
-  return db
+/**
+ * A page of a marker's revisions in one scene (its own: see services/markers.ts historyOf): the `limit` latest
+ * before revision `before` (all when absent), oldest first, and the id to ask before for the page before it.
+ */
+export async function listRevisions(db: Conn, markerId: string, sceneId: string, page: { limit: number; before?: string }) {
+  let q = db
     .selectFrom('marker_revisions as r')
     .leftJoin('users as u', 'u.id', 'r.user_id')
     .selectAll('r')
     .select('u.name as user_name')
     .where('r.marker_id', '=', markerId)
     .where('r.scene_id', '=', sceneId)
-    .orderBy('r.id')
-    .execute()
+  if (page.before !== undefined) q = q.where('r.id', '<', page.before)
+  const rows = await q.orderBy('r.id', 'desc').limit(page.limit + 1).execute()
+  const more = rows.length > page.limit
+  const kept = rows.slice(0, page.limit).reverse()
+  return { rows: kept, earlier: more ? String(kept[0]!.id) : null }
 }
 
 export function findRevision(db: Conn, markerId: string, id: string, sceneId: string) {

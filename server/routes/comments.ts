@@ -1,4 +1,4 @@
-import { CommentCreateBody, CommentParams, MarkerParams } from '@shared/schemas'
+import { CommentCreateBody, CommentParams, MarkerParams, ThreadsPageQuery } from '@shared/schemas'
 import * as comments from '../services/comments'
 import { defineRoute, type RouteDef } from './registry'
 
@@ -8,7 +8,8 @@ export const commentRoutes: RouteDef[] = [
     path: '/markers/:markerId/comments',
     access: { kind: 'project', right: 'view' },
     params: MarkerParams,
-    handler: async ({ services, params }) => ({ body: { threads: await comments.threadsOf(services, params.markerId) } }),
+    query: ThreadsPageQuery,
+    handler: async ({ services, params, query }) => ({ body: await comments.threadsOf(services, params.markerId, query) }),
   }),
   defineRoute({
     method: 'post',

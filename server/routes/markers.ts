@@ -1,4 +1,4 @@
-import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerReviewBody, MarkerUpdateBody, SceneParams, SceneStateQuery } from '@shared/schemas'
+import { MarkerCreateBody, MarkerParams, MarkerRestoreBody, MarkerReviewBody, MarkerUpdateBody, SceneParams, SceneStateQuery, HistoryPageQuery } from '@shared/schemas'
 import * as markers from '../services/markers'
 import { actorOf, defineRoute, type RouteDef } from './registry'
 
@@ -55,7 +55,8 @@ export const markerRoutes: RouteDef[] = [
     path: '/markers/:markerId/history',
     access: { kind: 'project', right: 'view' },
     params: MarkerParams,
-    handler: async ({ services, params }) => ({ body: { revisions: await markers.historyOf(services, params.markerId) } }),
+    query: HistoryPageQuery,
+    handler: async ({ services, params, query }) => ({ body: await markers.historyOf(services, params.markerId, query) }),
   }),
   defineRoute({
     method: 'post',

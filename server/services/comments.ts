@@ -1,4 +1,4 @@
-import type { Comment, CommentCreateBody, CommentThread } from '@shared/schemas'
+import { THREAD_REPLIES_MAX, type Comment, type CommentCreateBody, type CommentThread, type ThreadsPageQuery } from '@shared/schemas'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/comments'
 import { findMarker } from '../repositories/markers'
@@ -43,9 +43,12 @@ async function thread(s: Services, threadId: string): Promise<CommentThread> {
   return t
 }
 
-export async function threadsOf(s: Services, markerId: string): Promise<CommentThread[]> {
+/** A page of a marker's threads, newest page first (ThreadsPageQuery). */
+export async function threadsOf(s: Services, markerId: string, page: ThreadsPageQuery): Promise<{ threads: CommentThread[]; earlier: string | null }> {
   if (!(await findMarker(s.db, markerId))) throw HttpError.notFound('No such marker.')
-  return toThreads(await repo.listComments(s.db, markerId))
+  const found = await repo.listThreadsPage(s.db, markerId, page)
+  if (!found) throw HttpError.badRequest('query.before: no comment thread with this id on this marker.', 'before')
+  return { threads: toThreads(found.rows), earlier: found.earlier }
 }
 
 export async function addComment(s: Services, markerId: string, body: CommentCreateBody, userId: string | null): Promise<{ comment: Comment; thread: CommentThread }> {
@@ -57,6 +60,8 @@ export async function addComment(s: Services, markerId: string, body: CommentCre
     if (!first || first.marker_id !== markerId) throw HttpError.badRequest('body.threadId: no comment thread with this id on this marker.', 'threadId')
     // A reply's id stands for its thread.
     threadId = first.thread_id ?? first.id
+    if ((await repo.countReplies(s.db, threadId)) >= THREAD_REPLIES_MAX)
+      throw HttpError.conflict(`This thread already has ${THREAD_REPLIES_MAX} replies, the most one holds: start a new thread.`)
   }
   const made = await s.db.transaction().execute(async (tx) => {
     const row = await repo.insertComment(tx, { markerId, sceneId: marker.scene_id, threadId, authorId: userId, body: body.body })

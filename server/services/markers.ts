@@ -1,6 +1,6 @@
 import { transformPoint } from '@shared/geometry/rigidTransform'
 import type { LiveMarker } from '@shared/collab/documents'
-import type { Anchor, Marker, MarkerCreateBody, MarkerKind, MarkerReviewBody, MarkerRevision, MarkerUpdateBody } from '@shared/schemas'
+import type { Anchor, HistoryPageQuery, Marker, MarkerCreateBody, MarkerKind, MarkerReviewBody, MarkerRevision, MarkerUpdateBody } from '@shared/schemas'
 import { CHECK_STATE_LOOK } from '@shared/collab/states'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
@@ -245,10 +245,12 @@ function settleLater(s: Services, markerId: string, userId: string, action: 'cre
  * revisions of the marker's own scene (its row's, or once deleted the scene it was made in): a revision
  * written under the same id in another scene is never shown here.
  */
-export async function historyOf(s: Services, markerId: string): Promise<MarkerRevision[]> {
+/** A page of a marker's history, newest page first (HistoryPageQuery). */
+export async function historyOf(s: Services, markerId: string, page: HistoryPageQuery): Promise<{ revisions: MarkerRevision[]; earlier: string | null }> {
   const place = await repo.sceneOfMarkerId(s.db, markerId)
   if (!place) throw HttpError.notFound('No such marker.')
-  return toRevisions(await revisions.listRevisions(s.db, markerId, place.scene_id), await placementsOf(s, place.scene_id))
+  const { rows, earlier } = await revisions.listRevisions(s.db, markerId, place.scene_id, page)
+  return { revisions: toRevisions(rows, await placementsOf(s, place.scene_id)), earlier }
 }
 
 /** The scene's markers as they were at `at` (the timeline). */
@@ -256,7 +258,7 @@ export async function sceneStateAt(s: Services, sceneId: string, at: Date): Prom
   return toRevisions(await revisions.stateAt(s.db, sceneId, at), await placementsOf(s, sceneId))
 }
 
-function toRevisions(rows: Awaited<ReturnType<typeof revisions.listRevisions>>, placements: Placements): MarkerRevision[] {
+function toRevisions(rows: Awaited<ReturnType<typeof revisions.listRevisions>>['rows'], placements: Placements): MarkerRevision[] {
   return rows.map((r) => {
     const state = r.state as { kind: MarkerKind; label: string; anchors: repo.StoredAnchor[]; params: Record<string, unknown> }
     return {

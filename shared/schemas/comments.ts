@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { Id, Timestamp } from './common'
 import { PersonRef } from './markers'
+import { Earlier } from './paging'
 
 /**
  * Comments on a marker, in threads: a thread starts with a comment (its id is the thread's), replies follow,
@@ -44,6 +45,6 @@ export const CommentThread = z.object({
 })
 export type CommentThread = z.infer<typeof CommentThread>
 
-export const CommentThreadList = z.object({ threads: z.array(CommentThread) })
+export const CommentThreadList = z.object({ threads: z.array(CommentThread), earlier: Earlier })
 export const CommentThreadResponse = z.object({ thread: CommentThread })
 export const CommentCreated = z.object({ comment: Comment, thread: CommentThread })

@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { CHECK_STATES, CLEARANCE_OUTCOMES, REVIEW_STATES } from '../collab/states'
 import { Id, Timestamp } from './common'
+import { Earlier } from './paging'
 
 /**
  * Markers: the API contract (DESIGN section 7). Anchors come in and go out in the scene frame (metres, Z up);
@@ -325,7 +326,7 @@ export const MarkerRevision = z.object({
   note: z.string().nullable(),
 })
 export type MarkerRevision = z.infer<typeof MarkerRevision>
-export const MarkerHistory = z.object({ revisions: z.array(MarkerRevision) })
+export const MarkerHistory = z.object({ revisions: z.array(MarkerRevision), earlier: Earlier })
 
 export const MarkerRestoreBody = z.object({ revisionId: z.string({ error: 'must be a revision id' }).regex(/^\d{1,18}$/, { error: 'must be a revision id from the history' }) }).strict()
 export type MarkerRestoreBody = z.infer<typeof MarkerRestoreBody>

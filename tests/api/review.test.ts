@@ -172,6 +172,50 @@ describe('comments', () => {
     await mentor.agent.post('/api/comments/00000000-0000-4000-8000-00000000abcd/resolve').expect(404)
   })
 
+  it('pages threads newest first, each page oldest first with its replies whole, until no earlier page is left', async () => {
+    const m = await topDistance(measurer, 'paged threads')
+    const started: string[] = []
+    for (let i = 0; i < 5; i++) started.push((await comment(mentor, m.id, { body: `thread ${i}` }).expect(201)).body.thread.id)
+    await comment(owner, m.id, { body: 'a reply in thread 1', threadId: started[1] }).expect(201)
+    const pages: { threads: CommentThread[]; earlier: string | null }[] = []
+    let before: string | null | undefined
+    do {
+      const res = await owner.agent.get(`/api/markers/${m.id}/comments`).query(before ? { limit: 2, before } : { limit: 2 }).expect(200)
+      pages.push(res.body)
+      before = res.body.earlier
+    } while (before)
+    expect(pages.map((p) => p.threads.map((th) => th.comments[0]!.body))).toEqual([['thread 3', 'thread 4'], ['thread 1', 'thread 2'], ['thread 0']])
+    expect(pages[1]!.threads[0]!.comments.map((c) => c.body)).toEqual(['thread 1', 'a reply in thread 1'])
+    // Without a limit: the default page (20) holds all five.
+    expect((await owner.agent.get(`/api/markers/${m.id}/comments`).expect(200)).body).toMatchObject({ earlier: null, threads: { length: 5 } })
+    const bad: [object, RegExp][] = [
+      [{ limit: 0 }, /^query\.limit: must be at least 1/],
+      [{ limit: 201 }, /^query\.limit: must be at most 200/],
+      [{ limit: 'many' }, /^query\.limit: /],
+      [{ before: 'nope' }, /^query\.before: must be an id/],
+      [{ before: '00000000-0000-4000-8000-00000000abcd' }, /^query\.before: no comment thread with this id on this marker/],
+    ]
+    for (const [query, message] of bad) {
+      const res = await owner.agent.get(`/api/markers/${m.id}/comments`).query(query).expect(400)
+      expect(res.body.error.message, JSON.stringify(query)).toMatch(message)
+    }
+  })
+
+  it('holds at most 500 replies in a thread and says to start a new one', async () => {
+    const m = await topDistance(measurer, 'long thread')
+    const first = (await comment(mentor, m.id, { body: 'start' }).expect(201)).body.thread as CommentThread
+    const db = t.server.services.db
+    const sceneOf = (await db.selectFrom('markers').select('scene_id').where('id', '=', m.id).executeTakeFirstOrThrow()).scene_id
+    await db
+      .insertInto('comments')
+      .values(Array.from({ length: 499 }, (_, i) => ({ marker_id: m.id, scene_id: sceneOf, thread_id: first.id, author_id: null, body: `reply ${i}` })))
+      .execute()
+    await comment(owner, m.id, { body: 'the 500th', threadId: first.id }).expect(201)
+    const res = await comment(owner, m.id, { body: 'one too many', threadId: first.id }).expect(409)
+    expect(res.body.error.message).toMatch(/already has 500 replies.*start a new thread/)
+    await comment(owner, m.id, { body: 'a new thread' }).expect(201)
+  })
+
   it('writes each change into the marker’s record entry, so everyone in the scene sees it at once', async () => {
     const m = await topDistance()
     const reader = await live(guest, `${sceneId}/record`)
@@ -417,5 +461,31 @@ describe('review', () => {
     }, 20_000, 'the re-check')
     expect(rechecked.check.value).toBeCloseTo(m.check.value!, 3)
     await owner.agent.patch(`/api/instances/${boxPlacement}`).send({ matrix: new Matrix4().identity().elements }).expect(200)
+  })
+})
+
+describe('history pages', () => {
+  it('pages a marker’s history newest first, each page oldest first, and the pages join into the whole', async () => {
+    const m = await topDistance(measurer, 'paged history')
+    for (let i = 1; i <= 6; i++) await measurer.agent.patch(`/api/markers/${m.id}`).send({ label: `label ${i}` }).expect(200)
+    const whole = await history(m.id)
+    expect(whole).toHaveLength(7)
+    const pages: { revisions: MarkerRevision[]; earlier: string | null }[] = []
+    let before: string | null | undefined
+    do {
+      const res = await owner.agent.get(`/api/markers/${m.id}/history`).query(before ? { limit: 3, before } : { limit: 3 }).expect(200)
+      pages.push(res.body)
+      before = res.body.earlier
+    } while (before)
+    expect(pages.map((p) => p.revisions.length)).toEqual([3, 3, 1])
+    expect(pages.reverse().flatMap((p) => p.revisions)).toEqual(whole)
+    expect(whole.map((r) => r.state.label)).toEqual(['paged history', ...[1, 2, 3, 4, 5, 6].map((i) => `label ${i}`)])
+    for (const [query, message] of [
+      [{ limit: 500 }, /^query\.limit: must be at most 200/],
+      [{ before: 'x1' }, /^query\.before: must be a revision id/],
+      [{ since: 1 }, /^query/],
+    ] as [object, RegExp][]) {
+      expect((await owner.agent.get(`/api/markers/${m.id}/history`).query(query).expect(400)).body.error.message, JSON.stringify(query)).toMatch(message)
+    }
   })
 })
