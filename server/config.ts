@@ -117,6 +117,11 @@ export interface CostLimits {
    * machine's memory at WORKER_BYTES_PER_POINT each (today's ingest keeps a scan whole in memory).
    */
   workerPoints: number
+  /**
+   * Bytes of decoded tiles (and their search grids) the server keeps for nearest-point searches, all scans
+   * together: one least-recently-used budget, so memory does not grow with the number of scans open.
+   */
+  nearestCacheBytes: number
 }
 
 /**
@@ -137,6 +142,7 @@ export const PRODUCTION_LIMITS: CostLimits = {
   uploadsInFlightPerProject: 3,
   ingestAttempts: 3,
   workerPoints: Number(process.env.WORKER_MAX_POINTS) > 0 ? Number(process.env.WORKER_MAX_POINTS) : workerPointsCeiling(),
+  nearestCacheBytes: Number(process.env.NEAREST_CACHE_BYTES) > 0 ? Number(process.env.NEAREST_CACHE_BYTES) : 1024 ** 3,
 }
 
 /** OWASP's argon2id minimum (19 MiB, 2 passes, 1 lane). Tests use less so that suites stay fast. */

@@ -101,7 +101,7 @@ export class SpanmarkServer {
       started.push({ close: () => boss.stop({ graceful: false, wait: true }) })
 
       let origin = config.publicUrl ?? ''
-      const scanIndexes = new ScanIndexRegistry(db)
+      const scanIndexes = new ScanIndexRegistry(db, { cacheBytes: config.limits.nearestCacheBytes })
       const services: Services = {
         config,
         db,

@@ -69,6 +69,8 @@ export interface ScanIndexes {
   allPoints(scanId: string, maxPoints?: number): Promise<Float64Array>
   clearCaches(): Promise<void>
   forget(scanId: string): void
+  /** The tile cache all scans share: bytes held, its budget (`limits.nearestCacheBytes`), tiles held. */
+  readonly cacheUse: { bytes: number; maxBytes: number; tiles: number }
 }
 
 /** What the REST side tells the live documents (a no-op until the collab server is attached). */

@@ -2,22 +2,33 @@ import type { Db } from '../db'
 import { HttpError } from '../errors'
 import { getTilesForSearch, listTiles } from '../repositories/scans'
 import { decodeTile } from '@shared/points/tileFormat'
-import { NearestIndex } from './index/nearestIndex'
+import { NearestIndex, type LoadedTile } from './index/nearestIndex'
+import { SharedByteCache } from './index/tileCache'
 import type { ScanIndexes, SnappedPoint } from '../types'
 
 /**
  * One nearest-point index per ready scan, built from its hierarchy on first use and kept while used
- * (least recently used scans dropped past `maxScans`). Tiles come from PostgreSQL through each index's
- * own byte-bounded cache.
+ * (least recently used scans dropped past `maxScans`; an index without its tiles is small). Tiles come
+ * from PostgreSQL into one cache for all scans, bounded in bytes (`cacheBytes`, the `nearestCacheBytes`
+ * limit): the least recently used tile of any scan leaves first.
  */
 export class ScanIndexRegistry implements ScanIndexes {
   private readonly indexes = new Map<string, Promise<NearestIndex>>()
+  private readonly tiles: SharedByteCache<LoadedTile>
+  private readonly maxScans: number
 
   constructor(
     private readonly db: Db,
-    private readonly maxScans = 16,
-    private readonly cacheBytesPerScan = 128 * 1024 * 1024,
-  ) {}
+    options: { maxScans?: number; cacheBytes?: number } = {},
+  ) {
+    this.maxScans = options.maxScans ?? 64
+    this.tiles = new SharedByteCache(options.cacheBytes ?? 1024 ** 3)
+  }
+
+  /** The shared tile cache's figures: bytes held, its budget, tiles held. */
+  get cacheUse(): { bytes: number; maxBytes: number; tiles: number } {
+    return { bytes: this.tiles.bytes, maxBytes: this.tiles.maxBytes, tiles: this.tiles.size }
+  }
 
   private index(scanId: string): Promise<NearestIndex> {
     let index = this.indexes.get(scanId)
@@ -32,7 +43,7 @@ export class ScanIndexRegistry implements ScanIndexes {
       const nodes = rows.map((t) => ({ key: t.node_key, level: t.level, pointCount: t.point_count, bounds: { min: [t.min_x, t.min_y, t.min_z] as [number, number, number], max: [t.max_x, t.max_y, t.max_z] as [number, number, number] } }))
       return new NearestIndex({
         nodes,
-        cacheBytes: this.cacheBytesPerScan,
+        cache: this.tiles.scope(scanId),
         loadTile: async (key) => {
           const tile = (await getTilesForSearch(this.db, scanId, [key])).get(key)
           if (!tile) throw new Error(`tile ${key} of scan ${scanId} is missing`)
@@ -44,9 +55,9 @@ export class ScanIndexRegistry implements ScanIndexes {
         },
       })
     })()
-    index.catch(() => this.indexes.delete(scanId))
+    index.catch(() => this.forget(scanId))
     this.indexes.set(scanId, index)
-    while (this.indexes.size > this.maxScans) this.indexes.delete(this.indexes.keys().next().value!)
+    while (this.indexes.size > this.maxScans) this.forget(this.indexes.keys().next().value!)
     return index
   }
 
@@ -89,11 +100,12 @@ export class ScanIndexRegistry implements ScanIndexes {
 
   /** Drops every cached tile (the bench's cold runs). */
   async clearCaches(): Promise<void> {
-    for (const index of this.indexes.values()) (await index.catch(() => null))?.clearCache()
+    this.tiles.clear()
   }
 
   forget(scanId: string): void {
     this.indexes.delete(scanId)
+    this.tiles.drop(scanId)
   }
 }
 

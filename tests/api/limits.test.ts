@@ -13,7 +13,7 @@ import { upload, waitForScan } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { SurfaceSampler } from '../utils/solids'
 
-const LIMITS = { checkPoints: 500, checksQueuedPerProject: 2, markersPerScene: 6, uploadsInFlightPerProject: 1, ingestAttempts: 3, workerPoints: 1_000_000 }
+const LIMITS = { checkPoints: 500, checksQueuedPerProject: 2, markersPerScene: 6, uploadsInFlightPerProject: 1, ingestAttempts: 3, workerPoints: 1_000_000, nearestCacheBytes: 1 }
 const UPLOADS_PER_WINDOW = 4
 
 let t: TestServer
@@ -89,7 +89,7 @@ afterAll(async () => {
 
 it('states the production limits it documents', () => {
   // README "Security and limits" lists these numbers; a change here must change it too.
-  expect(PRODUCTION_LIMITS).toEqual({ checkPoints: 10_000_000, checksQueuedPerProject: 200, markersPerScene: 2000, uploadsInFlightPerProject: 3, ingestAttempts: 3, workerPoints: expect.any(Number) })
+  expect(PRODUCTION_LIMITS).toEqual({ checkPoints: 10_000_000, checksQueuedPerProject: 200, markersPerScene: 2000, uploadsInFlightPerProject: 3, ingestAttempts: 3, workerPoints: expect.any(Number), nearestCacheBytes: 1024 ** 3 })
   // The worker's ceiling: half the machine's memory at 48 bytes a point (24 GiB: 268,435,456 points).
   if (!process.env.WORKER_MAX_POINTS) expect(PRODUCTION_LIMITS.workerPoints).toBe(workerPointsCeiling())
   expect(workerPointsCeiling(24 * 1024 ** 3)).toBe(268_435_456)
@@ -129,6 +129,23 @@ describe('markers and checks', () => {
       w.provider.destroy()
       w.doc.destroy()
     }
+  })
+
+  it('keeps the nearest-point tiles of every scan in one byte budget: a tile of another scan pushes the oldest out', async () => {
+    // The budget here is 1 byte: the newest tile is always kept (a search works on it), everything older goes.
+    const second = await readyScan(owner, projectId, plate(), 'second plate.ply')
+    const indexes = t.server.services.scanIndexes
+    await indexes.clearCaches()
+    const a = await indexes.snap(scanId, 0.5, 0.01, 0.5)
+    const afterA = indexes.cacheUse
+    expect(a).toMatchObject({ x: expect.closeTo(0.5, 6), z: expect.closeTo(0.5, 6) })
+    expect(afterA.tiles).toBeGreaterThan(0)
+    const b = await indexes.snap(second, 0.5, 0.01, 0.5)
+    expect(b).toMatchObject({ x: expect.closeTo(0.5, 6), z: expect.closeTo(0.5, 6) })
+    expect(indexes.cacheUse).toMatchObject({ maxBytes: LIMITS.nearestCacheBytes, tiles: 1 })
+    // The first scan's tile left to make room: asking it again still finds the point (read again).
+    expect(await indexes.snap(scanId, 0.5, 0.01, 0.5)).toEqual(a)
+    expect(indexes.cacheUse.tiles).toBe(1)
   })
 
   it('ends a section whose slab holds more points than one check may read in a state with the reason', async () => {

@@ -31,5 +31,6 @@ describe('README "Security and limits"', () => {
     expect(section).toContain(`${UPLOAD_LIMITS.dailyBytes.default / 1024 ** 3} GiB a project in any 24 hours`)
     expect(section).toContain(`${words(UPLOAD_LIMITS.scanPoints.default)} by default`)
     expect(section).toContain(`crashed or stalled ${PRODUCTION_LIMITS.ingestAttempts} times`)
+    expect(section).toContain(`for all scans together, at most ${PRODUCTION_LIMITS.nearestCacheBytes / 1024 ** 3} GiB`)
   })
 })

@@ -1,7 +1,7 @@
 import { isNodeKey, parentKey, type Box3, type NodeInfo } from '@shared/points/nodeKey'
 import { positionRoundingBound, type DecodedTile } from '@shared/points/tileFormat'
 import { KBest } from './kBest'
-import { ByteLruCache } from './tileCache'
+import { ByteLruCache, type TileCache } from './tileCache'
 import { UniformGrid } from './uniformGrid'
 
 /**
@@ -29,8 +29,10 @@ export interface NearestIndexOptions {
   loadTile: (key: string) => Promise<DecodedTile>
   /** Several tiles at once (one database round trip); optional, `loadTile` is used one by one without it. */
   loadTiles?: (keys: string[]) => Promise<Map<string, DecodedTile>>
-  /** Byte budget of the tile cache (default 256 MiB). */
+  /** Byte budget of the index's own tile cache (default 256 MiB); ignored when `cache` is given. */
   cacheBytes?: number
+  /** A cache to use instead of one of its own: a scope of a budget shared with other indexes (SharedByteCache). */
+  cache?: TileCache<LoadedTile>
 }
 
 export interface NearestPoint {
@@ -64,14 +66,14 @@ export class NearestIndex {
   private readonly root: number
   private readonly loadTile: (key: string) => Promise<DecodedTile>
   private readonly loadTiles: ((keys: string[]) => Promise<Map<string, DecodedTile>>) | null
-  private readonly cache: ByteLruCache<LoadedTile>
+  private readonly cache: TileCache<LoadedTile>
   private readonly inflight = new Map<number, Promise<LoadedTile>>()
 
   constructor(options: NearestIndexOptions) {
     const nodes = options.nodes
     this.loadTile = options.loadTile
     this.loadTiles = options.loadTiles ?? null
-    this.cache = new ByteLruCache(options.cacheBytes ?? DEFAULT_CACHE_BYTES)
+    this.cache = options.cache ?? new ByteLruCache(options.cacheBytes ?? DEFAULT_CACHE_BYTES)
     this.keys = nodes.map((node) => node.key)
     this.counts = nodes.map((node) => node.pointCount)
     this.boxes = new Float64Array(nodes.length * 6)

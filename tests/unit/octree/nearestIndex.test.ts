@@ -6,7 +6,8 @@ import { decodeTile, type DecodedTile } from '@shared/points/tileFormat'
 import type { Box3 } from '@shared/points/nodeKey'
 import { buildOctree, hierarchyOf, type Octree } from '../../../server/points/octree/buildOctree'
 import { encodeNodeTile } from '../../../server/points/octree/nodeTile'
-import { NearestIndex, type NearestPoint } from '../../../server/points/index/nearestIndex'
+import { NearestIndex, type LoadedTile, type NearestPoint } from '../../../server/points/index/nearestIndex'
+import { SharedByteCache } from '../../../server/points/index/tileCache'
 import { createRandom, mixedScene } from './factories'
 
 const buffer = mixedScene(25_000, 21, [2_000, -1_500, 120])
@@ -114,6 +115,32 @@ describe('NearestIndex against brute force', () => {
       expect(index.cacheStats.bytes).toBeLessThanOrEqual(256 * 1024 + 200_000)
     })
   }
+
+  it('shares one byte budget between several indexes: all stay exact, the total stays bounded, the oldest tile of any goes first', async () => {
+    const budget = 256 * 1024
+    const shared = new SharedByteCache<LoadedTile>(budget)
+    const indexes = [0, 1, 2].map((i) => new NearestIndex({ nodes: hierarchyOf(tree), loadTile: loader(), cache: shared.scope(`scan${i}`) }))
+    let disagreements = 0
+    let peak = 0
+    for (const [q, [x, y, z]] of queries(3000, 77).entries()) {
+      const found = await indexes[q % 3]!.nearest(x, y, z, 4)
+      const expected = bruteForce(x, y, z, 4)
+      if (found.length !== expected.length || found.some((point, i) => point.distance !== expected[i])) disagreements++
+      peak = Math.max(peak, shared.bytes)
+    }
+    expect(disagreements).toBe(0)
+    // At most one tile (with its grid) over the budget: the newest is kept while a query works on it.
+    const largestTile = Math.max(...tree.nodes.map((n) => n.pointCount)) * 40 + 200_000
+    expect(peak).toBeLessThanOrEqual(budget + largestTile)
+    const stats = indexes.map((index) => index.cacheStats)
+    expect(stats.reduce((sum, s) => sum + s.bytes, 0)).toBe(shared.bytes)
+    expect(stats.reduce((sum, s) => sum + s.tiles, 0)).toBe(shared.size)
+    expect(stats.every((s) => s.evictions > 0)).toBe(true)
+    // Dropping one scan's scope frees its tiles only.
+    const others = stats[1]!.bytes + stats[2]!.bytes
+    shared.drop('scan0')
+    expect(shared.bytes).toBe(others)
+  })
 
   it('honours maxDistance (inclusive) and returns fewer points when fewer are that close', async () => {
     const index = new NearestIndex({ nodes: hierarchyOf(tree), loadTile: loader(), cacheBytes: 1 << 20 })
