@@ -44,6 +44,9 @@ export function createApp(services: Services, routes: RouteDef[] = apiRoutes): e
         res: (res: { statusCode: number }) => ({ statusCode: res.statusCode }),
       },
       autoLogging: { ignore: (req) => !(req.url ?? '').startsWith('/api/') },
+      // One readable sentence per request ("GET /api/health 200 in 6 ms"); the fields stay for JSON readers.
+      customSuccessMessage: (req, res, ms) => `${req.method} ${scrubUrl((req as { originalUrl?: string }).originalUrl ?? req.url ?? '')} ${res.statusCode} in ${Math.round(ms)} ms`,
+      customErrorMessage: (req, res, err) => `${req.method} ${scrubUrl((req as { originalUrl?: string }).originalUrl ?? req.url ?? '')} ${res.statusCode}: ${err.message}`,
     }),
   )
 

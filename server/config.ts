@@ -40,6 +40,7 @@ const Env = z.object({
   LAZ_LIMIT_BYTES: z.coerce.number().int().positive().default(512 * 1024 ** 2),
   WORKER: z.enum(['spawn', 'none']).default('spawn'),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).optional(),
+  LOG_FORMAT: z.enum(['pretty', 'json'], { error: 'must be pretty or json' }).optional(),
 })
 
 export interface RateLimit {
@@ -67,6 +68,11 @@ export interface Config {
    */
   trustProxy: string | number | boolean
   logLevel: string
+  /**
+   * 'pretty': one readable line per event (a person at a terminal); 'json': one JSON object per line (log
+   * collectors). Default: pretty when standard output is a terminal outside production, else json.
+   */
+  logFormat: 'pretty' | 'json'
   argon2: { memoryCost: number; timeCost: number; parallelism: number }
   /** invite: invitations and viewing passes sent, per person; tokenUse: e-mailed links looked up, accepted or opened, per address. */
   rateLimits: { signIn: RateLimit; passwordReset: RateLimit; signUp: RateLimit; invite: RateLimit; tokenUse: RateLimit; upload: RateLimit }
@@ -205,6 +211,7 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     secureCookies: publicUrl?.startsWith('https://') ?? false,
     trustProxy: parseTrustProxy(e.TRUST_PROXY),
     logLevel: e.LOG_LEVEL ?? (test ? 'silent' : 'info'),
+    logFormat: e.LOG_FORMAT ?? (!production && process.stdout.isTTY ? 'pretty' : 'json'),
     argon2: test ? { memoryCost: 1024, timeCost: 1, parallelism: 1 } : PRODUCTION_ARGON2,
     rateLimits: test
       ? {

@@ -5,7 +5,7 @@ import { createLogger } from './logger'
 import { SpanmarkServer } from './runtime'
 
 const config = loadConfig()
-const log = createLogger(config.logLevel, config.env === 'development' && process.stdout.isTTY)
+const log = createLogger(config.logLevel, config.logFormat === 'pretty')
 
 try {
   const server = await SpanmarkServer.start(config, log)

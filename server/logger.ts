@@ -16,7 +16,7 @@ export function createLogger(level: string, pretty: boolean, destination?: pino.
   const options: pino.LoggerOptions = {
     level,
     redact: { paths: REDACT, censor: '[redacted]' },
-    ...(pretty ? { transport: { target: 'pino-pretty', options: { translateTime: 'HH:MM:ss', ignore: 'pid,hostname' } } } : {}),
+    ...(pretty ? { transport: { target: 'pino-pretty', options: { translateTime: 'HH:MM:ss', ignore: 'pid,hostname,req,res,responseTime', singleLine: true } } } : {}),
   }
   return destination ? pino(options, destination) : pino(options)
 }

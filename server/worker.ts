@@ -10,7 +10,7 @@ import { ingestScan } from './points/ingest'
 import { ObjectStore } from './storage/objects'
 
 const config: Config = process.env.SPANMARK_WORKER_CONFIG ? (JSON.parse(process.env.SPANMARK_WORKER_CONFIG) as Config) : loadConfig()
-const log = createLogger(config.logLevel, false).child({ worker: process.pid })
+const log = createLogger(config.logLevel, config.logFormat === 'pretty').child({ worker: process.pid })
 const db = createDb(createPool(config.databaseUrl))
 const objects = new ObjectStore(config.storage)
 const boss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job queue error'))

@@ -69,6 +69,16 @@ describe('settings', () => {
     expect(loadConfig({ DATABASE_URL: 'postgres://x/y', PUBLIC_URL: 'https://spanmark.example' }).secureCookies).toBe(true)
   })
 
+  it('logs JSON lines in production and wherever standard output is not a terminal, unless LOG_FORMAT says otherwise', () => {
+    const base = { DATABASE_URL: 'postgres://x/y' }
+    expect(loadConfig({ ...base, SPANMARK_ENV: 'production' }).logFormat).toBe('json')
+    // The suite's standard output is a pipe, not a terminal.
+    expect(loadConfig(base).logFormat).toBe(process.stdout.isTTY ? 'pretty' : 'json')
+    expect(loadConfig({ ...base, LOG_FORMAT: 'pretty' }).logFormat).toBe('pretty')
+    expect(loadConfig({ ...base, SPANMARK_ENV: 'production', LOG_FORMAT: 'pretty' }).logFormat).toBe('pretty')
+    expect(() => loadConfig({ ...base, LOG_FORMAT: 'colour' })).toThrow(/LOG_FORMAT.*must be pretty or json/)
+  })
+
   it('names a bad environment variable', () => {
     expect(() => loadConfig({ DATABASE_URL: 'postgres://x/y', PORT: 'eighty' })).toThrow(/PORT/)
   })
