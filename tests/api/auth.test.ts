@@ -37,16 +37,16 @@ describe('accounts', () => {
   })
 
   it('keeps only the SHA-256 of a session id: the stored value is not a key that signs in', async () => {
-    const { agent, user } = await signUpAgent(t, 'Hash Test')
-    const me = await agent.get('/api/me').expect(200)
-    const sent = String(me.request.getHeader('Cookie') ?? me.req.getHeader('cookie'))
-    const id = /spanmark_session=([^;]+)/.exec(sent)?.[1]
+    const { email, password, user } = await signUpAgent(t, 'Hash Test')
+    await t.server.services.db.deleteFrom('sessions').where('user_id', '=', user.id).execute()
+    const signedIn = await t.agent().post('/api/auth/sign-in').send({ email, password }).expect(200)
+    const id = /spanmark_session=([^;]+)/.exec(String(signedIn.headers['set-cookie']))?.[1]
     expect(id).toBeTruthy()
     const rows = await t.server.services.db.selectFrom('sessions').select('id').where('user_id', '=', user.id).execute()
     // Node's own SHA-256 of the cookie's value (FIPS 180-4), computed here, not by the server's helper.
     expect(rows.map((r) => r.id)).toEqual([crypto.createHash('sha256').update(id!).digest('hex')])
     // Someone who read the table holds only the hash: sent as a cookie it opens nothing.
-    await t.agent().get('/api/me').set('Cookie', `spanmark_session=${rows[0].id}`).expect(401)
+    await t.agent().get('/api/me').set('Cookie', `spanmark_session=${rows[0]!.id}`).expect(401)
     await t.agent().get('/api/me').set('Cookie', `spanmark_session=${id}`).expect(200)
   })
 
