@@ -126,9 +126,10 @@ export function orientation(axes: PassageAxes, turn: number, tip: number, spin: 
 /** Unit directions of an icosphere (icosahedron subdivided `levels` times: 12, 42, 162, 642 ...). */
 export function sphereDirections(levels = 3): Vec3[] {
   const p = (1 + Math.sqrt(5)) / 2
-  let verts: [number, number, number][] = [
+  const corners: Vec3[] = [
     [-1, p, 0], [1, p, 0], [-1, -p, 0], [1, -p, 0], [0, -1, p], [0, 1, p], [0, -1, -p], [0, 1, -p], [p, 0, -1], [p, 0, 1], [-p, 0, -1], [-p, 0, 1],
-  ].map((v) => normalise(v as Vec3)!)
+  ]
+  let verts = corners.map((v) => normalise(v)!)
   let faces = [
     [0, 11, 5], [0, 5, 1], [0, 1, 7], [0, 7, 10], [0, 10, 11], [1, 5, 9], [5, 11, 4], [11, 10, 2], [10, 7, 6], [7, 1, 8],
     [3, 9, 4], [3, 4, 2], [3, 2, 6], [3, 6, 8], [3, 8, 9], [4, 9, 5], [2, 4, 11], [6, 2, 10], [8, 6, 7], [9, 8, 1],
