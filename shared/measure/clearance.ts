@@ -32,6 +32,12 @@ import type { FreeOpening } from './opening'
  * noise and up to half the fine rotation step times the silhouette's radius of lost optimum; `resolution`
  * reports the grid part. Negative m (overlap) is an estimate: it is measured into the blocked band round
  * the points and beyond it into unscanned space.
+ * Carriage: by default the object is carried (free in the opening: any translation). With `restOn` (the v of
+ * the surface it stands on: the opening's floor, plus a trolley's or skates' height), its lowest point stays
+ * on that level: only translations that put the silhouette's lowest sample on the row of `restOn` are tried,
+ * and the floor does not count as an obstacle (each column free just above that level, within the floor
+ * points' blocked band, is freed all the way down, so the jambs still bound the sides down to the floor). The margin is then the
+ * smaller of the sides' and the head's; a trolley narrower than the object is assumed.
  * Limits: the silhouette's interior is not checked, so islands of points inside the opening smaller than
  * the silhouette are missed; the fit is planar (one section), not a 3D passage.
  *
@@ -51,6 +57,8 @@ export interface FitOptions {
    * must stay upright). Turns from -max to +max are searched instead of rangeDegrees.
    */
   maxTurnDegrees?: number
+  /** The object rests on this level (v, metres) instead of being carried: see the header. */
+  restOn?: number
 }
 
 export type FitOutcome = 'passes' | 'does-not-pass' | 'too-close-to-call'
@@ -76,7 +84,7 @@ export interface Fit {
 
 export type FitResult =
   | Fit
-  | { ok: false; reason: 'empty-silhouette' | 'degenerate-silhouette' | 'not-finite' | 'invalid-margin' | 'invalid-uncertainty' | 'invalid-options' }
+  | { ok: false; reason: 'empty-silhouette' | 'degenerate-silhouette' | 'not-finite' | 'invalid-margin' | 'invalid-uncertainty' | 'invalid-options' | 'rest-level-outside' }
 
 export function fitThrough(
   opening: FreeOpening,
@@ -99,6 +107,8 @@ export function fitThrough(
   if (!([range, coarse, fine, step].every((x) => Number.isFinite(x) && x > 0) && range <= 360))
     return { ok: false, reason: 'invalid-options' }
   if (maxTurn !== undefined && !(Number.isFinite(maxTurn) && maxTurn >= 0 && maxTurn <= 180)) return { ok: false, reason: 'invalid-options' }
+  const restOn = options.restOn
+  if (restOn !== undefined && !Number.isFinite(restOn)) return { ok: false, reason: 'invalid-options' }
   const hull = convexHull(objectOutline)
   if (!hull.ok) return { ok: false, reason: 'degenerate-silhouette' }
   const h = hull.xy, hn = h.length >> 1
@@ -129,13 +139,32 @@ export function fitThrough(
   }
   const K = sx.length
 
+  // Resting: the floor is no obstacle; the region goes on below the resting level where the row above is free.
+  let region = opening.region
+  const restRow = restOn === undefined ? -1 : Math.round((restOn - v0) / cell - 0.5)
+  if (restOn !== undefined) {
+    // Each column's lowest free cell at or above the resting row, within the floor points' blocked band
+    // (the radius and a cell): everything below it is freed.
+    region = region.slice()
+    const reach = Math.ceil((opening.radius + cell) / cell) + 1
+    for (let i = 0; i < nu; i++) {
+      let first = -1
+      for (let j = Math.max(0, restRow); j <= Math.min(nv - 1, restRow + reach); j++)
+        if (opening.region[i + j * nu]) {
+          first = j
+          break
+        }
+      for (let j = first - 1; j >= 0; j--) region[i + j * nu] = 1
+    }
+  }
+
   // Signed field phi (metres).
-  const inside = squaredDistanceTransform(opening.region, nu, nv, 0)
-  const outside = squaredDistanceTransform(opening.region, nu, nv, 1)
+  const inside = squaredDistanceTransform(region, nu, nv, 0)
+  const outside = squaredDistanceTransform(region, nu, nv, 1)
   const phi = new Float64Array(nu * nv)
   const cells: number[] = []
   for (let c = 0; c < phi.length; c++) {
-    if (opening.region[c]) {
+    if (region[c]) {
       phi[c] = Math.sqrt(inside[c]!) * cell - cell / 2
       cells.push(c)
     } else phi[c] = -(Math.sqrt(outside[c]!) * cell - cell / 2)
@@ -158,8 +187,11 @@ export function fitThrough(
       if (j > jMax) jMax = j
     }
     let startK = 0
+    // Resting: the lowest sample sits on the resting row, so only translations of one row are tried.
+    const onlyRow = restOn === undefined ? -1 : restRow - jMin
     for (const t of cells) {
       const ti = t % nu, tj = (t - ti) / nu
+      if (restOn !== undefined && tj !== onlyRow) continue
       const within = ti + iMin >= 0 && ti + iMax < nu && tj + jMin >= 0 && tj + jMax < nv
       let low = Infinity, arg = startK
       for (let c = 0, k = startK; c < K; c++, k++) {
@@ -197,6 +229,8 @@ export function fitThrough(
   const centre = bestTheta
   for (let d = centre - coarse + fine; d < centre + coarse - 1e-9; d += fine)
     if (Math.abs(d - centre) > 1e-9 && d >= lo - 1e-9 && d <= hi + 1e-9) evaluate(d)
+
+  if (bestT < 0) return { ok: false, reason: 'rest-level-outside' }
 
   // Reported in (-180, 180]: a turn either way from the scanned orientation.
   let rot = ((bestTheta % 360) + 360) % 360

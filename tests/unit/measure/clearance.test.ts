@@ -69,6 +69,32 @@ describe('fit through an opening', () => {
     expect(fitThrough(o, box(1.9, 0.8, 0, 0), 0.02, 0.01, { maxTurnDegrees: -1 })).toEqual({ ok: false, reason: 'invalid-options' })
   })
 
+  it('rests the object on the floor or a trolley: the head margin is then the whole slack above it (derived)', () => {
+    // Door 0.900 x 2.000, floor at v = 0 (the doorway's floor line). A box 0.60 x 1.90 (derived):
+    // carried, centred: min((0.90 - 0.60) / 2, (2.00 - 1.90) / 2) = min(0.15, 0.05) = 0.05;
+    // resting on the floor: min(0.15, 2.00 - 1.90) = 0.10; on a trolley 0.15 high: 2.00 - 0.15 - 1.90 = -0.05.
+    // A wide band of grid round the points (0.3 m), so that the trolley's 0.05 m overlap is measured, not cut off.
+    const o = freeOpening(doorway(0.9, 2.0, cm, mm, 12), [0.45, 1], cm, { margin: 0.3 })
+    if (!o.ok) throw new Error(o.reason)
+    const tall = box(0.6, 1.9, 0, 0)
+    const tol = (f: { resolution: number }) => f.resolution + mm
+    const carried = fitThrough(o, tall, 0, 0, { maxTurnDegrees: 0 })
+    const resting = fitThrough(o, tall, 0, 0, { maxTurnDegrees: 0, restOn: 0 })
+    const trolley = fitThrough(o, tall, 0, 0, { maxTurnDegrees: 0, restOn: 0.15 })
+    if (!carried.ok || !resting.ok || !trolley.ok) throw new Error('not fitted')
+    expect(Math.abs(carried.margin - 0.05)).toBeLessThanOrEqual(tol(carried))
+    expect(Math.abs(resting.margin - 0.1)).toBeLessThanOrEqual(tol(resting))
+    expect(Math.abs(trolley.margin - -0.05)).toBeLessThanOrEqual(tol(trolley))
+    // Resting, its lowest point is on the floor: the placed silhouette's lowest v is about 0.
+    const lowest = Math.min(...Array.from(resting.placed).filter((_, i) => i % 2 === 1))
+    expect(Math.abs(lowest)).toBeLessThanOrEqual(o.grid.cell)
+    // A low box resting: the sides limit it (0.15), not the floor under it.
+    const low = fitThrough(o, box(0.6, 0.5, 0, 0), 0, 0, { maxTurnDegrees: 0, restOn: 0 })
+    expect(low.ok && Math.abs(low.margin - 0.15)).toBeLessThanOrEqual(tol(resting))
+    expect(fitThrough(o, tall, 0, 0, { restOn: 5 })).toEqual({ ok: false, reason: 'rest-level-outside' })
+    expect(fitThrough(o, tall, 0, 0, { restOn: Number.NaN })).toEqual({ ok: false, reason: 'invalid-options' })
+  })
+
   it('a disc of radius 0.65 passes an arch where its bounding square 1.3 x 1.3 does not', () => {
     // Arch of width 1.40 (head radius R = 0.70) springing at s = 0.80 (derived):
     // disc centred on the springing line: margins R - 0.65 = 0.05 to jambs and head, 0.80 - 0.65 = 0.15 to
