@@ -3,6 +3,7 @@ import type { WebsocketProvider } from 'y-websocket'
 import { sql } from 'kysely'
 import { liveClient } from '../tests/utils/live'
 import { startBenchServer } from './lib/benchServer'
+import { gcNow } from './lib/gc'
 import { percentile } from './lib/stats'
 
 /**
@@ -64,8 +65,7 @@ export async function runLiveBench(log: (l: string) => void = () => {}): Promise
 
     // Heap per open scene: 20 more scenes with 100 markers each, loaded in the server's memory.
     log('live: heap per open scene...')
-    const gc = (globalThis as { gc?: () => void }).gc
-    gc?.()
+    gcNow()
     const heap0 = process.memoryUsage().heapUsed
     const SCENES = 20
     for (let k = 0; k < SCENES; k++) {
@@ -78,7 +78,7 @@ export async function runLiveBench(log: (l: string) => void = () => {}): Promise
       await room.flushed()
       await bench.server.collab.room(sid, 'record')
     }
-    gc?.()
+    gcNow()
     const heapPerSceneKiB = (process.memoryUsage().heapUsed - heap0) / SCENES / 1024
 
     // The timeline: 10 000 revisions over 200 markers, then the scene's state at random times.
