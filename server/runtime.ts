@@ -126,6 +126,8 @@ export class SpanmarkServer {
       const seeded = config.seedDemo && (await seedDemo(services))
       const server = http.createServer(createApp(services))
       const collab = new CollabServer(services, () => [services.publicOrigin()])
+      await collab.listen()
+      started.push({ close: () => collab.fanout.stop() })
       collab.attach(server)
       services.live = collab.sync
       services.markerChecks.onStored = (sceneId, markerId) => collab.sync.checkStored(sceneId, markerId)

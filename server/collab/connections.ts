@@ -42,9 +42,9 @@ export class ConnectionRegistry {
     }
   }
 
-  /** One session ended (signed out). */
-  sessionEnded(sessionId: string): void {
-    for (const conn of [...(this.bySession.get(sessionId) ?? [])]) this.end(conn, 'signedOut', 'signed out')
+  /** One session ended (signed out), named by its SHA-256 (as connections keep it). */
+  sessionEnded(sessionHash: string): void {
+    for (const conn of [...(this.bySession.get(sessionHash) ?? [])]) this.end(conn, 'signedOut', 'signed out')
   }
 
   /** Every session of an account ended (a new password, a reset). */

@@ -3,6 +3,7 @@ import { can } from '@shared/auth/roles'
 import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
 import { LIVE_OPERATIONS, liveOperationOf, type LiveCheckedChangeName } from '@shared/collab/operations'
 import { Id } from '@shared/schemas/common'
+import { hashSecret } from '../auth/tokens'
 import { HttpError } from '../errors'
 import { findMarker, findMarkerCore, listMarkers, type MarkerWithPeopleRow } from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
@@ -62,8 +63,9 @@ export class LiveDocumentsSync implements LiveSync {
     this.connections?.membershipChanged(projectId, userId, role)
   }
 
+  /** `sessionId` as the cookie carries it; connections know it by its SHA-256. */
   sessionEnded(sessionId: string): void {
-    this.connections?.sessionEnded(sessionId)
+    this.connections?.sessionEnded(hashSecret(sessionId))
   }
 
   userSignedOut(userId: string, reason: string): void {

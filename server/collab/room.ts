@@ -8,7 +8,7 @@ import type { WebSocket } from 'ws'
 import { AWARENESS_LIMITS, CLOSE_CODES, RECORD_MAPS, WORK_MAPS, closeReason, type CloseCodeName, type DocumentKind } from '@shared/collab/documents'
 import type { Role } from '@shared/auth/roles'
 import type { Db } from '../db'
-import { insertUpdate, loadDocumentLog, writeSnapshot } from '../repositories/sceneUpdates'
+import { insertUpdate, loadDocumentLog, updatesAfter, writeSnapshot } from '../repositories/sceneUpdates'
 import { ConnectionBudget, LIMIT_REASONS, PRODUCTION_LIVE_LIMITS, watchBacklog, type LiveLimits } from './limits'
 
 /** y-websocket's message types (its protocol: a varUint type, then the y-protocols payload). */
@@ -30,7 +30,7 @@ export interface Connection {
   /** The project the scene belongs to, and the role in it as it is now (a change of role closes the socket). */
   projectId: string
   role: Role
-  /** The session it came in with (null for a guest). */
+  /** SHA-256 of the session it came in with (null for a guest): what a sign-out names, in any process. */
   sessionId: string | null
   /**
    * Set, synchronously, the moment the connection loses its right to be heard (removed, signed out, role
@@ -75,6 +75,13 @@ const COMPACT_EVERY = 500
  * each is broadcast only once its insert has returned (so a server killed at any moment has sent nobody an
  * update it had not stored). A client's sync request is answered after the queue has drained, for the same
  * reason.
+ *
+ * Several processes may hold the same document. Each stored update has a position (seq) in commit order;
+ * the room knows the last position up to which it has applied everything (`applied`). Another process's
+ * update is announced by PostgreSQL (repositories/sceneUpdates.ts LIVE_CHANNEL; collab/fanout.ts), and
+ * `catchUp` reads every update after `applied` from the database, in order, applying those it did not write
+ * itself and sending them to its own connections (they are stored already). A gap (a reconnect, a missed
+ * announcement) is closed by the next catch-up, which reads by position, not by announcement.
  */
 export class Room {
   readonly doc = new Y.Doc({ gc: true })
@@ -90,7 +97,12 @@ export class Room {
     throw new LiveRefusal('refused', 'this document takes no changes yet')
   }
   private sinceSnapshot = 0
-  private lastId = '0'
+  /** Every position up to this one is applied here (as a decimal string; positions are bigints). */
+  private applied = '0'
+  /** Positions this room stored itself beyond `applied` (a catch-up skips them: they are applied). */
+  private readonly own = new Set<string>()
+  /** Told of each presence change of this process's connections (the fan-out to other processes). */
+  onPresence: ((update: Uint8Array) => void) | null = null
   /** The scratch copy incoming updates are tried on first (`inspect`); null until needed, or after a refusal. */
   private shadow: Y.Doc | null = null
 
@@ -106,14 +118,18 @@ export class Room {
     this.awareness.setLocalState(null)
     this.doc.on('update', (update: Uint8Array, origin: unknown) => {
       if (this.shadow) Y.applyUpdate(this.shadow, update)
+      if (origin === REMOTE) return this.broadcast(syncUpdateMessage(update), null)
       this.persistThenBroadcast(update, origin)
     })
-    this.awareness.on('update', ({ added, updated, removed }: { added: number[]; updated: number[]; removed: number[] }) => {
+    this.awareness.on('update', ({ added, updated, removed }: { added: number[]; updated: number[]; removed: number[] }, origin: unknown) => {
       const changed = [...added, ...updated, ...removed]
+      const update = awarenessProtocol.encodeAwarenessUpdate(this.awareness, changed)
       const encoder = encoding.createEncoder()
       encoding.writeVarUint(encoder, MESSAGE_AWARENESS)
-      encoding.writeVarUint8Array(encoder, awarenessProtocol.encodeAwarenessUpdate(this.awareness, changed))
+      encoding.writeVarUint8Array(encoder, update)
       this.broadcast(encoding.toUint8Array(encoder), null)
+      // This process's connections' presence goes to the other processes too.
+      if (origin !== REMOTE) this.onPresence?.(update)
     })
   }
 
@@ -129,7 +145,7 @@ export class Room {
       LOADING,
     )
     room.sinceSnapshot = stored.updates.length
-    room.lastId = stored.lastId
+    room.applied = stored.lastSeq
     return room
   }
 
@@ -147,26 +163,56 @@ export class Room {
     if (origin === LOADING) return
     const from = origin instanceof Object && 'socket' in origin ? (origin as Connection) : null
     this.queue = this.queue.then(async () => {
+      let seq: string
       try {
-        const { id } = await insertUpdate(this.db, this.sceneId, this.kind, update, from?.userId ?? null)
-        this.lastId = id
+        ;({ seq } = await insertUpdate(this.db, this.sceneId, this.kind, update, from?.userId ?? null))
         this.sinceSnapshot++
       } catch (err) {
         // Not stored: not sent. The sender keeps it and sends it again on its next sync.
         this.log.error({ err, sceneId: this.sceneId, doc: this.kind }, 'a live update could not be stored')
         return
       }
-      const encoder = encoding.createEncoder()
-      encoding.writeVarUint(encoder, MESSAGE_SYNC)
-      syncProtocol.writeUpdate(encoder, update)
-      this.broadcast(encoding.toUint8Array(encoder), from?.socket ?? null)
+      this.broadcast(syncUpdateMessage(update), from?.socket ?? null)
+      if (BigInt(seq) === BigInt(this.applied) + 1n) this.applied = seq
+      else {
+        // Another process stored updates in between: read them now (its announcement may come later).
+        this.own.add(seq)
+        await this.readAfterApplied()
+      }
       if (this.sinceSnapshot >= COMPACT_EVERY) await this.compact()
     })
   }
 
-  /** Folds the stored updates into one snapshot of the current state. */
+  /**
+   * Another process stored an update of this document (or the announcements were interrupted): every update
+   * after `applied` is read and applied, in order. Queued behind this room's own stores.
+   */
+  catchUp(): Promise<void> {
+    this.queue = this.queue.then(() =>
+      this.readAfterApplied().catch((err: unknown) => this.log.warn({ err, sceneId: this.sceneId, doc: this.kind }, 'a live document could not catch up; the next announcement tries again')),
+    )
+    return this.queue
+  }
+
+  private async readAfterApplied(): Promise<void> {
+    const found = await updatesAfter(this.db, this.sceneId, this.kind, this.applied)
+    if (found.snapshot) Y.applyUpdate(this.doc, found.snapshot, REMOTE)
+    for (const { seq, update } of found.updates) {
+      if (this.own.delete(seq)) continue
+      Y.applyUpdate(this.doc, update, REMOTE)
+    }
+    if (BigInt(found.lastSeq) > BigInt(this.applied)) this.applied = found.lastSeq
+    for (const seq of this.own) if (BigInt(seq) <= BigInt(this.applied)) this.own.delete(seq)
+  }
+
+  /** The last position up to which this room has applied every stored update (tests). */
+  get appliedPosition(): string {
+    return this.applied
+  }
+
+  /** Folds the stored updates into one snapshot of the current state (everything up to `applied`). */
   async compact(): Promise<void> {
-    const upto = this.lastId
+    const upto = this.applied
     if (upto === '0') return
     await writeSnapshot(this.db, this.sceneId, this.kind, Y.encodeStateAsUpdate(this.doc), upto)
     this.sinceSnapshot = 0
@@ -356,6 +402,11 @@ export class Room {
     awarenessProtocol.applyAwarenessUpdate(this.awareness, encoding.toUint8Array(encoder), conn)
   }
 
+  /** Presence from another process's connections: shown to this room's connections, not sent back out. */
+  applyRemotePresence(update: Uint8Array): void {
+    awarenessProtocol.applyAwarenessUpdate(this.awareness, update, REMOTE)
+  }
+
   /** A new connection gets the server's step 1 and everyone's presence. */
   greet(conn: Connection): void {
     const encoder = encoding.createEncoder()
@@ -405,6 +456,15 @@ export class Room {
 
 const LOADING = Symbol('loading')
 const SERVER = Symbol('server')
+/** Stored already, by another process: applied and sent to this room's connections, not stored again. */
+const REMOTE = Symbol('remote')
+
+function syncUpdateMessage(update: Uint8Array): Uint8Array {
+  const encoder = encoding.createEncoder()
+  encoding.writeVarUint(encoder, MESSAGE_SYNC)
+  syncProtocol.writeUpdate(encoder, update)
+  return encoding.toUint8Array(encoder)
+}
 
 function equalBytes(a: Uint8Array, b: Uint8Array): boolean {
   return a.byteLength === b.byteLength && a.every((v, i) => v === b[i])

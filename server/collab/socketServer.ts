@@ -12,6 +12,7 @@ import { projectOfScene } from '../repositories/scenes'
 import type { Services } from '../types'
 import { originMatches } from '../middleware/origin'
 import { ConnectionRegistry } from './connections'
+import { LiveFanout, type Revocation } from './fanout'
 import { LiveDocumentsSync } from './liveSync'
 import { ConnectionBudget, EarlyMessages, LIMIT_REASONS } from './limits'
 import { Room, type Connection } from './room'
@@ -44,7 +45,57 @@ export class CollabServer {
   ) {
     this.log = services.log.child({ part: 'collab' })
     this.allowedOrigins = allowedOrigins
-    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => this.closePass(passId), this.connections, (sceneId) => this.closeScene(sceneId))
+    this.fanout = new LiveFanout(services.config.databaseUrl, services.db, this.log, {
+      // Its own updates (already applied) and ones a catch-up has read already are not read again.
+      update: (sceneId, kind, seq) => void this.loadedRoom(sceneId, kind)?.then((r) => void (BigInt(seq) > BigInt(r.appliedPosition) && r.catchUp()), () => undefined),
+      revocation: (r) => this.revokeHere(r),
+      presence: (sceneId, kind, update) => void this.loadedRoom(sceneId, kind)?.then((r) => r.applyRemotePresence(update), () => undefined),
+      reconnected: () => {
+        for (const room of this.rooms.values()) void room.then((r) => r.catchUp(), () => undefined)
+      },
+    })
+    // Every revocation is applied here at once and told to the other processes.
+    const everywhere = (r: Revocation) => {
+      this.revokeHere(r)
+      void this.fanout.revoke(r).catch((err: unknown) => this.log.error({ err, revocation: r.event }, 'a revocation could not be told to the other processes'))
+    }
+    this.sync = new LiveDocumentsSync(services, (sceneId, kind) => this.room(sceneId, kind), (passId) => everywhere({ event: 'passEnded', passId }), {
+      membershipChanged: (projectId, userId, role) => everywhere({ event: 'membershipChanged', projectId, userId, role }),
+      sessionEnded: (sessionHash) => everywhere({ event: 'sessionEnded', sessionHash }),
+      userSignedOut: (userId, reason) => everywhere({ event: 'userSignedOut', userId, reason }),
+      projectDeleted: (projectId) => everywhere({ event: 'projectDeleted', projectId }),
+    }, (sceneId) => everywhere({ event: 'sceneDeleted', sceneId }))
+  }
+
+  /** Live documents across processes (collab/fanout.ts). */
+  readonly fanout: LiveFanout
+
+  /** Starts listening to the other processes (before the server takes connections). */
+  async listen(): Promise<void> {
+    await this.fanout.start()
+  }
+
+  /** A revocation made in this process or another: the connections here it concerns end now. */
+  private revokeHere(r: Revocation): void {
+    switch (r.event) {
+      case 'membershipChanged':
+        return this.connections.membershipChanged(r.projectId, r.userId, r.role)
+      case 'sessionEnded':
+        return this.connections.sessionEnded(r.sessionHash)
+      case 'userSignedOut':
+        return this.connections.userSignedOut(r.userId, r.reason)
+      case 'projectDeleted':
+        return this.connections.projectDeleted(r.projectId)
+      case 'sceneDeleted':
+        return this.closeScene(r.sceneId)
+      case 'passEnded':
+        return this.closePass(r.passId)
+    }
+  }
+
+  /** The room of a document if this process has it in memory (it is not loaded for an announcement). */
+  private loadedRoom(sceneId: string, kind: DocumentKind): Promise<Room> | undefined {
+    return this.rooms.get(`${sceneId}:${kind}`)
   }
 
   private readonly allowedOrigins: () => string[]
@@ -150,7 +201,7 @@ export class CollabServer {
       awarenessTimes: [],
       projectId: scene.project_id,
       role,
-      sessionId: guest ? null : session!.id,
+      sessionId: guest ? null : hashSecret(session!.id),
       ended: null,
       budget: new ConnectionBudget(limits),
     }
@@ -264,6 +315,7 @@ export class CollabServer {
     let room = this.rooms.get(key)
     if (!room) {
       room = Room.load(this.services.db, sceneId, kind, this.log, this.services.config.live).then(async (loaded) => {
+        loaded.onPresence = (update) => void this.fanout.presence(sceneId, kind, update).catch((err: unknown) => this.log.debug({ err }, 'presence not told to the other processes'))
         this.sync.watch(loaded)
         await this.sync.seed(loaded)
         return loaded
@@ -278,6 +330,7 @@ export class CollabServer {
 
   /** Closes every connection (going away) once every stored update has been sent. */
   async close(): Promise<void> {
+    await this.fanout.stop()
     for (const room of this.rooms.values()) {
       const r = await room.catch(() => null)
       if (!r) continue

@@ -252,6 +252,8 @@ export interface SceneUpdatesTable {
   id: Generated<string>
   scene_id: string
   doc: 'work' | 'record'
+  /** bigint as text: the update's position in its document, in commit order (scene_documents.last_seq). */
+  seq: string
   update: Buffer
   user_id: string | null
   created_at: Timestamp
@@ -261,9 +263,16 @@ export interface SceneSnapshotsTable {
   scene_id: string
   doc: 'work' | 'record'
   state: Buffer
-  /** bigint as text: the last scene_updates id folded in. */
+  /** bigint as text: the last position (scene_updates.seq) folded in. */
   upto: string
   created_at: Timestamp
+}
+
+/** Each live document's counter of positions: its row is the document's lock for writes and compaction. */
+export interface SceneDocumentsTable {
+  scene_id: string
+  doc: 'work' | 'record'
+  last_seq: string
 }
 
 export interface MarkerRevisionsTable {
@@ -355,6 +364,7 @@ export interface Database {
   marker_revisions: MarkerRevisionsTable
   scene_updates: SceneUpdatesTable
   scene_snapshots: SceneSnapshotsTable
+  scene_documents: SceneDocumentsTable
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable

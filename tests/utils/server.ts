@@ -84,6 +84,25 @@ export async function startTestServer(overrides: Partial<Config> = {}, env: Node
   }
 }
 
+/**
+ * A second server process's worth of Spanmark on the same database as `t` (its own HTTP server, live
+ * documents, fan-out listener and fakes): what several processes behind one proxy share is PostgreSQL.
+ */
+export async function startPeer(t: TestServer, log: pino.Logger = defaultLog()): Promise<{ server: SpanmarkServer; url: string; agent(): ReturnType<typeof supertest.agent>; stop(): Promise<void> }> {
+  const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
+  const server = await SpanmarkServer.start({ ...t.config, port: 0, dataDir, seedDemo: false }, log)
+  const url = server.url
+  return {
+    server,
+    url,
+    agent: () => supertest.agent(url).set('Origin', url),
+    async stop() {
+      await server.stop()
+      fs.rmSync(dataDir, { recursive: true, force: true })
+    },
+  }
+}
+
 let counter = 0
 /**
  * Signs up a new person through the API as a browser would: sign-up (202, no session), then the
