@@ -7,6 +7,11 @@ import { ensureNodeModules, fail, localBin, log, run, startChild } from './lib/s
 import { chooseDataDir, ensurePostgresInstalled, startCluster, stopCluster } from './lib/postgres.mjs'
 
 const dev = process.argv.includes('--dev')
+/**
+ * `--join`: one more server process beside a running `npm start` (its database, object storage, mail and
+ * ingest worker), on SPANMARK_PORT: several processes share one PostgreSQL (README "Several processes").
+ */
+const join = process.argv.includes('--join')
 
 async function main() {
   ensureNodeModules()
@@ -17,7 +22,7 @@ async function main() {
   const cluster = await startCluster({ bin, dataDir, port: pgPort, database: 'spanmark' })
   log(`PostgreSQL on 127.0.0.1:${cluster.port}, data in ${dataDir}${cluster.started ? '' : ' (already running, reused)'}`)
 
-  if (!dev) {
+  if (!dev && !join) {
     log('building the client (vite build)')
     run(localBin('vite'), ['build', '--logLevel', 'warn'])
   }
@@ -32,6 +37,9 @@ async function main() {
     // The development conveniences (dev mailbox, demo seeding): asked for here, never a server default.
     SPANMARK_DEV_MAILBOX: process.env.SPANMARK_DEV_MAILBOX ?? '1',
     SPANMARK_DEMO: process.env.SPANMARK_DEMO ?? '1',
+    ...(join
+      ? { S3_FAKE: '0', S3_ENDPOINT: process.env.S3_ENDPOINT ?? 'http://127.0.0.1:4569', SPANMARK_DEV_MAILBOX: '0', SPANMARK_DEMO: '0', WORKER: 'none' }
+      : {}),
   }
   const server = startChild(localBin('tsx'), ['server/index.ts'], { env })
 
@@ -46,7 +54,7 @@ async function main() {
   process.on('SIGTERM', () => stop('SIGTERM'))
 
   const code = await new Promise((resolve) => server.on('exit', (c, s) => resolve(c ?? (s ? 1 : 0))))
-  if (cluster.started) {
+  if (cluster.started && !join) {
     log('stopping PostgreSQL')
     stopCluster({ bin, dataDir })
   }
