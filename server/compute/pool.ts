@@ -79,6 +79,16 @@ export function computePoolStats(): { threads: number; queued: number; maxThread
   return { threads: pool?.threads.length ?? 0, queued: pool?.queueSize ?? 0, maxThreads: options.threads }
 }
 
+let inline = false
+
+/**
+ * The bench's comparison only (`npm run bench -- --only pool`): run every task on the calling thread, as the
+ * checks did before the pool, to measure what the event loop suffers then.
+ */
+export function setComputeInline(on: boolean): void {
+  inline = on
+}
+
 /** Test seam: answer `task` with `name` exported by `filename` (a file: URL or path), or restore it (null). */
 export function routeComputeTask(task: TaskName, to: { filename: string; name: string } | null): void {
   if (to) routes.set(task, to)
@@ -109,6 +119,7 @@ function share<T>(value: T, depth = 0): T {
 }
 
 async function runTask(task: TaskName, args: unknown[]): Promise<unknown> {
+  if (inline) return (TASKS[task] as (...a: unknown[]) => unknown)(...args)
   const route = routes.get(task)
   const message: TaskMessage = { task, args: args.map((a) => share(a)) }
   try {
