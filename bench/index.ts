@@ -6,6 +6,7 @@ import { formatLiveBench, runLiveBench } from './live'
 import { formatLiveLimitsBench, runLiveLimitsBench } from './liveLimits'
 import { formatMarkerBench, runMarkerBench } from './markers'
 import { runOctreeBench } from './octree'
+import { formatPoolBench, runPoolBench } from './pool'
 import { formatParseBench, runParseBench } from './parse'
 import { formatRegistrationBench, formatRegistrationServiceBench, runRegistrationBench, runRegistrationServiceBench } from './registration'
 import { formatViewerBench, runViewerBench } from './viewer'
@@ -17,7 +18,7 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, live, liveLimits, registration, edges). */
+/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, pool, live, liveLimits, registration, edges). */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -38,6 +39,7 @@ if (wanted('octree')) section(
 if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
 if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
+if (wanted('pool')) section('Heavy checks off the event loop (target: event-loop delay p99 < 50 ms during a clearance of a 1 M-point object)', formatPoolBench(await runPoolBench(log)))
 if (wanted('live')) section('Live documents (targets: an edit seen by 50 clients p99 < 50 ms; state at any of 10 k revisions < 100 ms)', formatLiveBench(await runLiveBench(log)))
 if (wanted('liveLimits')) section('Live connection caps (the server heap and RSS before, at peak and after each misbehaving client)', formatLiveLimitsBench(await runLiveLimitsBench(log)))
 if (wanted('registration')) {

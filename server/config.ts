@@ -39,6 +39,8 @@ const Env = z.object({
   UPLOAD_LIMIT_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
   LAZ_LIMIT_BYTES: z.coerce.number().int().positive().default(512 * 1024 ** 2),
   WORKER: z.enum(['spawn', 'none']).default('spawn'),
+  /** Worker threads for heavy marker checks; default: the machine's cores less one, at least 1. */
+  COMPUTE_THREADS: z.coerce.number().int().min(1, { error: 'COMPUTE_THREADS must be at least 1' }).max(256).optional(),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).optional(),
   LOG_FORMAT: z.enum(['pretty', 'json'], { error: 'must be pretty or json' }).optional(),
 })
@@ -95,6 +97,12 @@ export interface Config {
   uploads: { limitBytes: number; lazLimitBytes: number }
   /** 'spawn' runs the ingest worker as a child process; 'none' leaves it to a separate `server/worker.ts`. */
   worker: 'spawn' | 'none'
+  /**
+   * The worker threads that run heavy marker checks (sections, openings, object outlines, clearance fits:
+   * server/compute/pool.ts): how many at most (COMPUTE_THREADS; default cores - 1, at least 1), and how long
+   * an idle one is kept.
+   */
+  compute: { threads: number; idleTimeoutMs: number }
   /** A processing scan whose worker has not beaten for this long is queued again. */
   ingestStaleMs: number
   /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
@@ -135,6 +143,11 @@ export interface CostLimits {
  * flight): `npm run bench` measured 2.2 GB of worker RSS for 50 M points (44 bytes); 48 leaves room.
  */
 export const WORKER_BYTES_PER_POINT = 48
+
+/** Compute threads by default: the machine's cores less one (the event loop's), at least 1. */
+export function defaultComputeThreads(cores = os.availableParallelism()): number {
+  return Math.max(1, cores - 1)
+}
 
 /** The worker's ceiling on this machine (WORKER_MAX_POINTS overrides it). */
 export function workerPointsCeiling(totalMemoryBytes = os.totalmem()): number {
@@ -241,6 +254,7 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     },
     uploads: { limitBytes: e.UPLOAD_LIMIT_BYTES, lazLimitBytes: e.LAZ_LIMIT_BYTES },
     worker: e.WORKER,
+    compute: { threads: e.COMPUTE_THREADS ?? defaultComputeThreads(), idleTimeoutMs: 30_000 },
     ingestStaleMs: test ? 3000 : 30_000,
     liveSettleMs: test ? 300 : 2000,
     // Tests leave rooms in memory a moment only, so a test of unloading does not wait half a minute.

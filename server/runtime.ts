@@ -17,6 +17,7 @@ import { WorkerSupervisor } from './jobs/supervisor'
 import { CommentNoticeSender } from './mail/commentNotices'
 import { Mailer } from './mail/mailer'
 import { ScanIndexRegistry } from './points/scanIndexes'
+import { openComputePool } from './compute/pool'
 import { MarkerChecker } from './markers/checker'
 import { RegistrationJobs } from './registration/jobs'
 import { failOrphanedRefinements } from './services/registration'
@@ -72,6 +73,8 @@ export class SpanmarkServer {
     readonly collab: CollabServer,
     /** Mails markers' authors what others commented (server/mail/commentNotices.ts). */
     readonly commentNotices: CommentNoticeSender,
+    /** This server's hold on the compute threads (server/compute/pool.ts): heavy marker checks run there. */
+    private readonly compute: { close(): Promise<void> },
   ) {}
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
@@ -101,6 +104,8 @@ export class SpanmarkServer {
       started.push({ close: () => boss.stop({ graceful: false, wait: true }) })
 
       let origin = config.publicUrl ?? ''
+      const compute = openComputePool(config.compute)
+      started.push(compute)
       const scanIndexes = new ScanIndexRegistry(db, { cacheBytes: config.limits.nearestCacheBytes })
       const services: Services = {
         config,
@@ -142,7 +147,7 @@ export class SpanmarkServer {
       services.mailer.start()
       const commentNotices = new CommentNoticeSender(db, services.mailer, { ...config.commentMail, origin: () => services.publicOrigin() }, log)
       commentNotices.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab, commentNotices)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab, commentNotices, compute)
       app.startSweeper()
       const orphaned = await failOrphanedRefinements(services)
       if (orphaned) log.info({ registrations: orphaned }, 'refinements left running by an earlier server marked failed')
@@ -193,6 +198,8 @@ export class SpanmarkServer {
     await this.services.registrationJobs.stop()
     this.services.markerChecks.stop()
     await this.services.markerChecks.idle()
+    // After the checks: none is left waiting on a thread that is gone.
+    await this.compute.close()
     await this.commentNotices.stop()
     await this.services.mailer.stop()
     await this.services.boss.stop({ graceful: false, wait: true }).catch(() => {})

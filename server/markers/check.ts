@@ -1,11 +1,11 @@
 import type { CheckState } from '@shared/collab/states'
 import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import { measureAngle } from '@shared/measure/angle'
-import { decideFit, fitResolution, fitThrough } from '@shared/measure/clearance'
+import { decideFit, fitResolution } from '@shared/measure/clearance'
 import { measureDistance } from '@shared/measure/distance'
-import { freeOpening, type FreeOpening } from '@shared/measure/opening'
-import { fittedMargin, fittedOpening, fittedOutline, marginEdgeParts } from '@shared/measure/edges'
-import { concaveOutline, polygonArea } from '@shared/measure/polygon'
+import type { FreeOpening } from '@shared/measure/opening'
+import { marginEdgeParts } from '@shared/measure/edges'
+import { polygonArea } from '@shared/measure/polygon'
 import { planeFrame, type SlabFrame } from '@shared/measure/slab'
 import { anchorBudget, combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from '@shared/measure/uncertainty'
 import {
@@ -21,6 +21,7 @@ import {
   type SectionResult,
   type Vec3,
 } from '@shared/schemas'
+import { compute, ComputeTaskError, sharedFloat64Array } from '../compute/pool'
 import type { StoredAnchor } from '../repositories/markers'
 import type { ScanIndexes } from '../types'
 
@@ -193,13 +194,16 @@ export async function checkMarker(input: CheckInput, ctx: CheckContext): Promise
         return angleCheck(base, snapped)
       case 'section': {
         const section = await computeSection(input, snapped, ctx)
-        return sectionCheck(base, section)
+        return await sectionCheck(base, section, ctx)
       }
       case 'clearance':
         return await clearanceCheck(base, input, ctx)
     }
   } catch (error) {
     if (error instanceof Stop) return emptyCheck(input.revision, error.state, error.message, snapped.map((s) => s.checked))
+    // A computation that threw in its worker thread is a property of this marker's data, not a fault of the
+    // server's: the check ends with the message (a new revision checks again); the pool carries on.
+    if (error instanceof ComputeTaskError) return emptyCheck(input.revision, 'invalid-geometry', `The check could not be computed: ${error.message}.`, snapped.map((s) => s.checked))
     throw error
   }
 }
@@ -331,7 +335,7 @@ async function computeSection(input: CheckInput, s: Snapped[], ctx: CheckContext
   if (count === 0) throw new Stop('invalid-geometry', `the slab (${(params.thickness * 1000).toFixed(0)} mm thick) holds no stored points: it cuts nothing.`)
   if (count < SECTION_MIN_POINTS) throw new Stop('too-few-points', `the slab holds only ${count} stored points (at least ${SECTION_MIN_POINTS} are needed).`)
   if (!(spacing > 0)) throw new Stop('invalid-geometry', 'the scans cut have no known point spacing.')
-  const uv = new Float64Array(2 * count)
+  const uv = sharedFloat64Array(2 * count)
   const [ox, oy, oz] = frame.origin
   for (let i = 0; i < count; i++) {
     const dx = xyz[3 * i]! - ox, dy = xyz[3 * i + 1]! - oy, dz = xyz[3 * i + 2]! - oz
@@ -377,9 +381,15 @@ interface OpeningOutcome {
   result: NonNullable<SectionResult['opening']>
 }
 
-function openingOf(sec: SectionComputation): OpeningOutcome | { problem: string } {
+/** Stops a check whose marker moved on while a computation ran (latest wins). */
+function stillWanted(ctx: CheckContext): void {
+  if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
+}
+
+async function openingOf(sec: SectionComputation, ctx: CheckContext): Promise<OpeningOutcome | { problem: string }> {
   if (!sec.seedUv) return { problem: 'no seed point for the opening.' }
-  const found = freeOpening(sec.uv, sec.seedUv, sec.spacing)
+  const found = await compute.freeOpening(sec.uv, sec.seedUv, sec.spacing)
+  stillWanted(ctx)
   if (!found.ok) {
     const words: Record<string, string> = {
       'seed-on-points': 'the seed point lies on the points, not in an empty space: pick the two points on either side of the opening.',
@@ -393,7 +403,8 @@ function openingOf(sec: SectionComputation): OpeningOutcome | { problem: string 
   // per edge.
   // An edge that cannot be fitted (another surface in its band) leaves both figures at the grid's
   // extreme-point values, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
-  const fittedEdges = fittedOpening(found, sec.pointUncertainty)
+  const fittedEdges = await compute.fittedOpening(found, sec.pointUncertainty)
+  stillWanted(ctx)
   const edges = fittedEdges.ok
     ? fittedEdges
     : { clearWidth: found.clearWidthCorrected, clearHeight: found.clearHeightCorrected, uWidth: Math.hypot(Math.SQRT2 * sec.pointUncertainty, found.resolution / Math.sqrt(3)), uHeight: Math.hypot(Math.SQRT2 * sec.pointUncertainty, found.resolution / Math.sqrt(3)) }
@@ -425,9 +436,9 @@ function openingOf(sec: SectionComputation): OpeningOutcome | { problem: string 
   }
 }
 
-function sectionResult(sec: SectionComputation, opening: OpeningOutcome | { problem: string } | null): SectionResult {
+async function sectionResult(sec: SectionComputation, opening: OpeningOutcome | { problem: string } | null): Promise<SectionResult> {
   const thin = thinUv(sec.uv, sec.spacing)
-  const outline = concaveOutline(thin, sec.spacing)
+  const outline = await compute.concaveOutline(thin, sec.spacing)
   let uMin = Infinity, uMax = -Infinity, vMin = Infinity, vMax = -Infinity
   for (let i = 0; i < sec.uv.length; i += 2) {
     const u = sec.uv[i]!, v = sec.uv[i + 1]!
@@ -450,9 +461,9 @@ function sectionResult(sec: SectionComputation, opening: OpeningOutcome | { prob
   }
 }
 
-function sectionCheck(base: Check, sec: SectionComputation): Check {
-  const opening = sec.wantOpening ? openingOf(sec) : null
-  const section = sectionResult(sec, opening)
+async function sectionCheck(base: Check, sec: SectionComputation, ctx: CheckContext): Promise<Check> {
+  const opening = sec.wantOpening ? await openingOf(sec, ctx) : null
+  const section = await sectionResult(sec, opening)
   if (opening && 'problem' in opening) return { ...base, state: 'invalid-geometry', reason: `No free opening: ${opening.problem}`, section }
   if (section.opening) {
     const o = section.opening
@@ -480,7 +491,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const sectionSpans = spansPlacements(sectionMarker.anchors)
   for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i, sectionSpans))
   const sec = await computeSection(sectionMarker, sectionAnchors, ctx)
-  const opening = openingOf(sec)
+  const opening = await openingOf(sec, ctx)
   if ('problem' in opening) throw new Stop('invalid-geometry', `the section has no free opening: ${opening.problem}`)
   const n = sec.frame.n
   let dir = params.direction ?? n
@@ -497,9 +508,11 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   if (count < 3) throw new Stop('invalid-geometry', 'the object has no stored points.')
   // Project each object point along the direction of travel onto the section plane, then to u v.
   const [ox, oy, oz] = sec.frame.origin
-  const silhouette = new Float64Array(2 * count)
+  const silhouette = sharedFloat64Array(2 * count)
   const m = object.matrix
   for (let i = 0; i < count; i++) {
+    // A turn for the event loop every 131 072 points (a million-point object takes about 80 ms here).
+    if ((i & 0x1ffff) === 0x1ffff) await new Promise<void>((resolve) => setImmediate(resolve))
     const x = local[3 * i]!, y = local[3 * i + 1]!, z = local[3 * i + 2]!
     const px = m[0]! * x + m[4]! * y + m[8]! * z + m[12]! - ox
     const py = m[1]! * x + m[5]! * y + m[9]! * z + m[13]! - oy
@@ -512,11 +525,13 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
   // The object's outline fitted to its points (shared/measure/edges.ts), placed by the fit, and the margin
   // measured to the opening's fitted surfaces.
-  const outline = fittedOutline(silhouette, objectScan.pointUncertainty ?? 0, objectScan.spacing ?? sec.spacing)
+  const outline = await compute.fittedOutline(silhouette, objectScan.pointUncertainty ?? 0, objectScan.spacing ?? sec.spacing)
+  stillWanted(ctx)
   if (!outline.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${outline.reason}).`)
-  const fit = fitThrough(opening.opening, outline.xy, requiredMargin, 0, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
+  const fit = await compute.fitThrough(opening.opening, outline.xy, requiredMargin, 0, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
   if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
-  const fitted = fit.margin > 0 ? fittedMargin(opening.opening, fit.placed, sec.pointUncertainty) : null
+  stillWanted(ctx)
+  const fitted = fit.margin > 0 ? await compute.fittedMargin(opening.opening, fit.placed, sec.pointUncertainty) : null
   // Margin uncertainty: the edge fits on both sides, both registrations; an overlap (negative margin) is
   // measured on the grid, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
   const parts: CheckPart[] = [
@@ -528,7 +543,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)
   const margin = fitted?.ok ? fitted.margin : fit.margin
   const collides = margin + budget.expanded < 0
-  const sectionPart = sectionResult(sec, opening)
+  const sectionPart = await sectionResult(sec, opening)
   const clearance: ClearanceResult = {
     outcome: decideFit(margin, budget.expanded, requiredMargin),
     collides,

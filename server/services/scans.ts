@@ -24,6 +24,11 @@ export function bytesInWords(n: number): string {
 /** Uploads being received and stored, per project, per server process. */
 const inFlight = new WeakMap<Services, Map<string, number>>()
 
+/** How many uploads of a project this process is receiving now (tests wait on it). */
+export function uploadsArriving(s: Services, projectId: string): number {
+  return inFlight.get(s)?.get(projectId) ?? 0
+}
+
 /**
  * Runs before the file is received: refuses (429, saying which limit, its number and what to do) when the
  * project already has `uploadsInFlightPerProject` uploads arriving, or when the request's declared length

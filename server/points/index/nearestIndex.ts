@@ -55,6 +55,13 @@ export type BoxVisitor = (x: number, y: number, z: number, tile: LoadedTile, ind
 
 export const DEFAULT_CACHE_BYTES = 256 * 1024 * 1024
 
+/**
+ * Whole-scan and slab walks give the event loop a turn after about this many points: with every tile
+ * cached a walk has no other await, and a million points would hold the server for a quarter second.
+ */
+const YIELD_POINTS = 65_536
+const yieldToLoop = () => new Promise<void>((resolve) => setImmediate(resolve))
+
 const GRID_OPTIONS = { pointsPerCell: 2, maxCells: 1 << 18 }
 
 export class NearestIndex {
@@ -189,7 +196,7 @@ export class NearestIndex {
     if (this.root < 0) return 0
     const [ox, oy, oz] = origin as [number, number, number]
     const [nx, ny, nz] = n as [number, number, number]
-    let visited = 0
+    let visited = 0, sinceYield = 0
     const stack = [this.root]
     const b = this.boxes
     while (stack.length > 0) {
@@ -199,6 +206,8 @@ export class NearestIndex {
       const reach = (Math.abs(nx) * (b[o + 3]! - b[o]!) + Math.abs(ny) * (b[o + 4]! - b[o + 1]!) + Math.abs(nz) * (b[o + 5]! - b[o + 2]!)) / 2
       if (Math.abs(nx * (cx - ox) + ny * (cy - oy) + nz * (cz - oz)) > half + reach) continue
       if (this.counts[id]! > 0) {
+        if (sinceYield >= YIELD_POINTS) (sinceYield = 0), await yieldToLoop()
+        sinceYield += this.counts[id]!
         const loaded = this.cached(id) ?? (await this.load(id))
         const p = loaded.tile.positions
         const [tx, ty, tz] = loaded.tile.origin
@@ -219,9 +228,11 @@ export class NearestIndex {
   /** Calls `visit` for every stored point, node by node; returns the count. */
   async forEachPoint(visit: BoxVisitor): Promise<number> {
     if (this.root < 0) return 0
-    let visited = 0
+    let visited = 0, sinceYield = 0
     for (let id = 0; id < this.keys.length; id++) {
       if (this.counts[id] === 0) continue
+      if (sinceYield >= YIELD_POINTS) (sinceYield = 0), await yieldToLoop()
+      sinceYield += this.counts[id]!
       const loaded = this.cached(id) ?? (await this.load(id))
       const p = loaded.tile.positions
       const [tx, ty, tz] = loaded.tile.origin
