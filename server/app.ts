@@ -55,7 +55,7 @@ export function createApp(services: Services, routes: RouteDef[] = apiRoutes): e
   api.use(sessionMiddleware(services.auth))
   api.use(guestMiddleware(services))
   api.use(originCheck(() => [services.publicOrigin()]))
-  mountRoutes(api, routes, services, createLimiters(config.rateLimits))
+  mountRoutes(api, routes, services, createLimiters(config.rateLimits, services.db))
   api.use(apiNotFound)
   app.use('/api', api)
 

@@ -21,6 +21,7 @@ import { openComputePool } from './compute/pool'
 import { MarkerChecker } from './markers/checker'
 import { RegistrationJobs } from './registration/jobs'
 import { failOrphanedRefinements } from './services/registration'
+import { sweepRateLimits } from './middleware/rateLimitStore'
 import { CollabServer } from './collab/socketServer'
 import type { LiveSync } from './types'
 
@@ -174,6 +175,8 @@ export class SpanmarkServer {
         log.warn({ scanId: id }, 'scan processing stalled; queued again')
         await sendIngest(boss, id)
       }
+      // Rate-limit windows that have ended (shared by every process; any of them may sweep).
+      await sweepRateLimits(db)
       const mine = this.worker?.claimName
       if (mine && [...failed, ...queued].some((s) => s.claimed_by === mine)) {
         log.warn({ worker: mine }, 'the ingest worker holds a stalled scan; starting a fresh one')

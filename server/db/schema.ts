@@ -268,6 +268,13 @@ export interface SceneSnapshotsTable {
   created_at: Timestamp
 }
 
+/** express-rate-limit's hits in a fixed window per key, shared by every process (middleware/rateLimitStore.ts). */
+export interface RateLimitHitsTable {
+  key: string
+  hits: number
+  reset_at: Date
+}
+
 /** Each live document's counter of positions: its row is the document's lock for writes and compaction. */
 export interface SceneDocumentsTable {
   scene_id: string
@@ -365,6 +372,7 @@ export interface Database {
   scene_updates: SceneUpdatesTable
   scene_snapshots: SceneSnapshotsTable
   scene_documents: SceneDocumentsTable
+  rate_limit_hits: RateLimitHitsTable
   scenes: ScenesTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable

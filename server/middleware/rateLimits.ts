@@ -4,6 +4,8 @@ import { ErrorCode } from '@shared/schemas/common'
 import type { Config } from '../config'
 import { hashSecret } from '../auth/tokens'
 import type { LimiterName } from '../routes/registry'
+import type { Db } from '../db'
+import { PostgresRateLimitStore } from './rateLimitStore'
 
 const WHAT: Record<LimiterName, string> = {
   signIn: 'sign-in attempts',
@@ -22,9 +24,11 @@ function personKey(req: Request): string {
   return ipKeyGenerator(req.ip ?? '')
 }
 
-export function createLimiters(limits: Config['rateLimits']): Record<LimiterName, RequestHandler> {
+export function createLimiters(limits: Config['rateLimits'], db: Db | null = null): Record<LimiterName, RequestHandler> {
   const make = (name: LimiterName): RequestHandler =>
     rateLimit({
+      // Counted in PostgreSQL when there is one, so every server process shares the count.
+      ...(db ? { store: new PostgresRateLimitStore(db, name) } : {}),
       windowMs: limits[name].windowMs,
       limit: limits[name].limit,
       standardHeaders: 'draft-8',

@@ -151,4 +151,22 @@ describe('live documents across two processes', () => {
     await supertest(a.url).post('/api/auth/sign-out').set('Origin', a.url).set('Cookie', session).expect(204)
     expect(await signedOut).toBe(CLOSE_CODES.signedOut)
   })
+
+  it('counts rate limits across processes: a client’s failed sign-ins on one count on the other', async () => {
+    // The test config's sign-in limit is loose (10 000 a minute); a peer with a tight one shares the same count.
+    const c = await startPeer(a, undefined, { rateLimits: { ...a.config.rateLimits, signIn: { windowMs: 60_000, limit: 4 } } })
+    const d = await startPeer(a, undefined, { rateLimits: { ...a.config.rateLimits, signIn: { windowMs: 60_000, limit: 4 } } })
+    try {
+      // A new address each time: the per-address slowdown (3 free failures) is not what is counted here.
+      let n = 0
+      const wrong = (url: string) => supertest(url).post('/api/auth/sign-in').set('Origin', url).send({ email: `nobody-${++n}@spanmark.example`, password: 'not the password' })
+      for (const url of [c.url, d.url, c.url, d.url]) expect((await wrong(url)).status).not.toBe(429)
+      // The fifth, on either process: over the shared limit of 4.
+      expect((await wrong(c.url)).status).toBe(429)
+      expect((await wrong(d.url)).status).toBe(429)
+    } finally {
+      await c.stop()
+      await d.stop()
+    }
+  })
 })

@@ -88,9 +88,9 @@ export async function startTestServer(overrides: Partial<Config> = {}, env: Node
  * A second server process's worth of Spanmark on the same database as `t` (its own HTTP server, live
  * documents, fan-out listener and fakes): what several processes behind one proxy share is PostgreSQL.
  */
-export async function startPeer(t: TestServer, log: pino.Logger = defaultLog()): Promise<{ server: SpanmarkServer; url: string; agent(): ReturnType<typeof supertest.agent>; stop(): Promise<void> }> {
+export async function startPeer(t: TestServer, log: pino.Logger = defaultLog(), overrides: Partial<Config> = {}): Promise<{ server: SpanmarkServer; url: string; agent(): ReturnType<typeof supertest.agent>; stop(): Promise<void> }> {
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
-  const server = await SpanmarkServer.start({ ...t.config, port: 0, dataDir, seedDemo: false }, log)
+  const server = await SpanmarkServer.start({ ...t.config, port: 0, dataDir, seedDemo: false, ...overrides }, log)
   const url = server.url
   return {
     server,
