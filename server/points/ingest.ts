@@ -6,7 +6,8 @@ import type { ObjectStore } from '../storage/objects'
 import { buildOctree } from './octree/buildOctree'
 import { encodeNodeTile } from './octree/nodeTile'
 import { PointBuffer } from './pointBuffer'
-import { createReader, detectFormat, ScanFormatError, SNIFF_BYTES, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { createReader, detectFormat, openE57, ScanFormatError, SNIFF_BYTES, type PointBatch, type ReadSummary, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { objectSource } from './sources'
 import { computeScanStats } from './stats/scanStats'
 
 export interface IngestDeps {
@@ -27,7 +28,7 @@ export interface IngestDeps {
 const READ_SHARE = 0.55
 const STATS_SHARE = 0.1
 
-const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log' }
+const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log', e57: 'e57' }
 
 /** A file with more points than its project allows; its message says the limit and how to split the file. */
 export class PointLimitError extends Error {}
@@ -116,22 +117,27 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     let read = 0
     const stream = await deps.objects.get(scan.blob_key)
     let reserved = false
+    let declaredCount: number | null = null
+    const onBatch = (b: PointBatch) => {
+      // Before the points are kept: the buffer never grows past the project's limit.
+      if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? declaredCount, format, limitSource))
+      buffer.append(b)
+    }
+    let ranged = false
     for await (const chunk of withSniff(stream, (first) => {
       // A declared format must still match the content; otherwise the name and the bytes decide.
       format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
+      report(0, `reading ${format}`, true)
+      // E57 keeps its XML at the end: it is read through ranged reads below, not front to back.
+      if (format === 'e57') {
+        ranged = true
+        return
+      }
       // No byteLength: a file cut short then fails where it ends ("byte 722: file ends inside point 51"),
       // which says more than a header-versus-size mismatch; nothing is allocated from the header's count.
-      reader = createReader(format, {
-        onBatch: (b) => {
-          // Before the points are kept: the buffer never grows past the project's limit.
-          if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? null, format, limitSource))
-          buffer.append(b)
-        },
-        reuseBuffers: true,
-        maxLazBytes: deps.lazLimitBytes,
-      })
-      report(0, `reading ${format}`, true)
+      reader = createReader(format, { onBatch, reuseBuffers: true, maxLazBytes: deps.lazLimitBytes })
     })) {
+      if (ranged) break
       reader!.push(chunk)
       // Sized once from the header (growing to 10 M points costs twice the memory and time), but never
       // beyond one point per byte of the file, so a lying header cannot allocate billions.
@@ -145,7 +151,26 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       read += chunk.length
       report((READ_SHARE * read) / size, `reading ${format}`)
     }
-    const summary = await reader!.end()
+    let summary: ReadSummary
+    if (ranged) {
+      // Header, XML, then each scan's binary section a window of pages at a time (ranged GETs): the
+      // original is never held whole. Every scan is placed at its pose, so the file's scans make one cloud.
+      const file = await openE57(objectSource(deps.objects, scan.blob_key, size))
+      declaredCount = file.header.declaredPointCount
+      if (declaredCount && declaredCount > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declaredCount, format, limitSource))
+      if (declaredCount) buffer.reserve(Math.min(declaredCount, size, pointLimit))
+      summary = await file.readAll({
+        reuseBuffers: true,
+        onBatch: (b) => {
+          onBatch(b)
+          report((READ_SHARE * buffer.count) / Math.max(1, declaredCount ?? 1), 'reading e57')
+        },
+      })
+      const notes = (summary.header as { notes?: string[] }).notes ?? []
+      if (notes.length) log.info({ scanId, notes, scans: file.scans.length }, 'e57 read with notes')
+    } else {
+      summary = await reader!.end()
+    }
     header = summary.header
     lap('read')
     buffer.trim()

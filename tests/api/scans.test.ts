@@ -3,6 +3,8 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { readAll } from '../../server/points/readers'
+import { sampleE57 } from '../unit/points/lib/e57Samples'
+import { writeE57 } from '../unit/points/lib/e57Writer'
 import { waitForScan, upload } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
@@ -49,6 +51,24 @@ describe('uploads', () => {
       expect(scan.uncertaintySource).toBe('estimated')
     })
   }
+
+  // An E57 written from ASTM E2807's tables (tests/unit/points/lib/e57Writer.ts): three scans, each at its
+  // pose, with invalid points left out; the expected points are computed from the standard's definitions.
+  it('reads an E57 with three scans through ranged reads of the stored original: every valid point, at its pose', async () => {
+    const { spec, expected, dropped } = sampleE57({ a: 600, b: 120, c: 80 })
+    const { bytes } = writeE57(spec)
+    const res = await upload(owner.agent, projectId, bytes, 'three stations.e57').expect(202)
+    const { scan } = await waitForScan(owner.agent, res.body.scan.id)
+    expect(scan.status, scan.error ?? '').toBe('ready')
+    expect(scan.format).toBe('e57')
+    expect(scan.pointCount).toBe(expected.length)
+    expect(scan.dropped).toEqual(dropped)
+    expect(scan.attributes).toMatchObject({ color: true, intensity: true })
+    for (let axis = 0; axis < 3; axis++) {
+      expect(scan.bounds!.min[axis]).toBeCloseTo(Math.min(...expected.map((e) => e.world[axis]!)), 9)
+      expect(scan.bounds!.max[axis]).toBeCloseTo(Math.max(...expected.map((e) => e.world[axis]!)), 9)
+    }
+  })
 
   it('reports intermediate progress while a larger file is processed', async () => {
     const lines: string[] = []
