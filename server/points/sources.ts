@@ -15,11 +15,14 @@ export function objectSource(objects: ObjectStore, key: string, size: number): B
 export async function fileSource(path: string): Promise<ByteSource & { close(): Promise<void> }> {
   const handle = await fs.open(path, 'r')
   const { size } = await handle.stat()
+  // One buffer for every read (a read's bytes are valid until the next, as ByteSource says).
+  let scratch = Buffer.alloc(0)
   return {
     size,
     async read(offset, length) {
       const n = Math.max(0, Math.min(length, size - offset))
-      const buffer = Buffer.alloc(n)
+      if (scratch.length < n) scratch = Buffer.alloc(n)
+      const buffer = scratch.subarray(0, n)
       let done = 0
       while (done < n) {
         const { bytesRead } = await handle.read(buffer, done, n - done, offset + done)

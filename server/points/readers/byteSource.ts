@@ -7,6 +7,7 @@
 export interface ByteSource {
   /** The file's size in bytes. */
   readonly size: number
+  /** The bytes may be overwritten by the next read of the same source: copy what you keep. */
   read(offset: number, length: number): Promise<Uint8Array>
 }
 

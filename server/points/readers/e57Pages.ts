@@ -48,14 +48,14 @@ export class E57Pages {
     this.pageCount = Math.ceil(source.size / E57_PAGE_SIZE)
   }
 
-  /** The data bytes of pages [first, first + count), each page's checksum checked. */
-  async readPages(first: number, count: number): Promise<Uint8Array> {
+  /** The data bytes of pages [first, first + count), each page's checksum checked (into `into` when it is long enough). */
+  async readPages(first: number, count: number, into?: Uint8Array): Promise<Uint8Array> {
     if (first < 0 || first + count > this.pageCount) {
       const page = Math.max(first, this.pageCount)
       throw errorAtPage(page, page * E57_PAGE_SIZE, `the file ends before this page (it has ${this.pageCount} pages, ${this.source.size} bytes)`)
     }
     const raw = await this.source.read(first * E57_PAGE_SIZE, count * E57_PAGE_SIZE)
-    const out = new Uint8Array(count * E57_PAGE_DATA)
+    const out = into && into.length >= count * E57_PAGE_DATA ? into.subarray(0, count * E57_PAGE_DATA) : new Uint8Array(count * E57_PAGE_DATA)
     for (let i = 0; i < count; i++) {
       const page = first + i
       const at = i * E57_PAGE_SIZE

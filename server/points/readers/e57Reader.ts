@@ -437,14 +437,18 @@ function fieldCodec(field: E57Element, name: string): FieldCodec {
 class PageWindow {
   private data = new Uint8Array(0)
   private start = 0
-  constructor(private readonly pages: E57Pages, private readonly windowPages: number) {}
+  /** Reused for every window (a packet is copied into its streams before the next read). */
+  private buffer: Uint8Array
+  constructor(private readonly pages: E57Pages, private readonly windowPages: number) {
+    this.buffer = new Uint8Array(windowPages * E57_PAGE_DATA)
+  }
 
   async read(logical: number, length: number): Promise<Uint8Array> {
     if (logical < this.start || logical + length > this.start + this.data.length) {
       const first = Math.floor(logical / E57_PAGE_DATA)
       const last = Math.floor((logical + length - 1) / E57_PAGE_DATA)
       const count = Math.min(Math.max(last - first + 1, this.windowPages), this.pages.pageCount - first)
-      this.data = await this.pages.readPages(first, count)
+      this.data = await this.pages.readPages(first, count, this.buffer)
       this.start = first * E57_PAGE_DATA
     }
     return this.data.subarray(logical - this.start, logical - this.start + length)
@@ -477,10 +481,10 @@ class BitStream {
     return Math.floor((this.length * 8 - this.bit) / bits)
   }
 
-  /** Drops the bytes read so far. */
+  /** Drops the bytes read so far, once they are many (so a stream running ahead is not copied at every packet). */
   compact(): void {
     const whole = this.bit >> 3
-    if (whole === 0) return
+    if (whole === 0 || (whole < 65536 && whole * 2 < this.length)) return
     this.bytes.copyWithin(0, whole, this.length)
     this.length -= whole
     this.bit -= whole * 8

@@ -47,6 +47,8 @@ export interface E57ScanSpec {
   indexBounds?: { rows: [number, number]; columns: [number, number] }
   /** Data packets carry at most this many bytes of each stream (forces several packets). Default 16000. */
   streamBytesPerPacket?: number
+  /** Instead: each data packet carries the bytes of this many records of every stream (as writers do). */
+  recordsPerPacket?: number
   /** Add an empty packet between data packets and an index packet at the end. */
   extraPackets?: boolean
   /** Write this recordCount instead of the true one. */
@@ -128,6 +130,24 @@ export function encodeStream(spec: E57FieldSpec, values: (number | bigint)[]): U
   const bits = bitsOf(spec)
   const out = new Uint8Array(Math.ceil((values.length * bits) / 8))
   let bit = 0
+  if (bits <= 24 && typeof spec.min !== 'bigint') {
+    // The same packing in plain numbers (large files for the bench): value bits OR-ed in byte by byte.
+    const min = spec.min ?? 0
+    for (const v of values) {
+      let raw = Number(v) - min
+      if (raw < 0 || raw >= 2 ** Math.max(bits, 1)) throw new Error(`value ${v} outside ${spec.name}'s range`)
+      let left = bits
+      while (left > 0) {
+        const room = 8 - (bit & 7)
+        const take = Math.min(room, left)
+        out[bit >> 3]! |= (raw & ((1 << take) - 1)) << (bit & 7)
+        raw >>>= take
+        bit += take
+        left -= take
+      }
+    }
+    return out
+  }
   const min = BigInt(spec.min ?? 0)
   for (const v of values) {
     const raw = BigInt(v) - min
@@ -189,7 +209,10 @@ export function writeE57(spec: E57FileSpec): WrittenE57 {
         new DataView(empty.buffer).setUint16(2, 7, true)
         file.push(empty)
       }
-      const parts = streams.map((s, i) => s.subarray(taken[i], Math.min(s.length, taken[i]! + per)))
+      const upTo = (i: number) => scan.recordsPerPacket
+        ? Math.min(streams[i]!.length, Math.ceil(((packets + 1) * scan.recordsPerPacket * bitsOf(scan.fields[i]!)) / 8))
+        : Math.min(streams[i]!.length, taken[i]! + per)
+      const parts = streams.map((s, i) => s.subarray(taken[i], upTo(i)))
       const headerBytes = 6 + 2 * streams.length
       let length = headerBytes + parts.reduce((n, p) => n + p.length, 0)
       length += (4 - (length % 4)) % 4
