@@ -435,7 +435,7 @@ function fieldCodec(field: E57Element, name: string): FieldCodec {
 
 /** Logical bytes of the file through a window of checked pages. */
 class PageWindow {
-  private data = new Uint8Array(0)
+  private data: Uint8Array = new Uint8Array(0)
   private start = 0
   /** Reused for every window (a packet is copied into its streams before the next read). */
   private buffer: Uint8Array
