@@ -7,6 +7,7 @@ import { buildOctree } from './octree/buildOctree'
 import { encodeNodeTile } from './octree/nodeTile'
 import { PointBuffer } from './pointBuffer'
 import { createReader, detectFormat, openE57, ScanFormatError, SNIFF_BYTES, type PointBatch, type ReadSummary, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { completeStations, createStations } from './e57Stations'
 import { objectSource } from './sources'
 import { computeScanStats } from './stats/scanStats'
 
@@ -22,6 +23,11 @@ export interface IngestDeps {
   name?: string
   /** Points of one scan this worker can hold in memory (config `limits.workerPoints`); none: no ceiling. */
   workerPoints?: number
+  /**
+   * Queues a scan's processing (the worker: a pg-boss job). Without it, the stations an E57 upload adds
+   * are processed in this call, one after another, once the upload's own scan is done.
+   */
+  enqueue?: (scanId: string) => Promise<unknown>
 }
 
 /** Share of the job each stage takes, for the progress bar (parsing dominates for text formats). */
@@ -124,6 +130,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       buffer.append(b)
     }
     let ranged = false
+    let stationsMade: string[] = []
     for await (const chunk of withSniff(stream, (first) => {
       // A declared format must still match the content; otherwise the name and the bytes decide.
       format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
@@ -154,18 +161,28 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     let summary: ReadSummary
     if (ranged) {
       // Header, XML, then each scan's binary section a window of pages at a time (ranged GETs): the
-      // original is never held whole. Every scan is placed at its pose, so the file's scans make one cloud.
+      // original is never held whole. One scan in the file: read at its pose. Several: this scan reads its
+      // own station (the upload's scan station 0, adding a scan for each other one) in the station's frame;
+      // the poses place them in the scene made once all are ready (e57Stations.ts).
       const file = await openE57(objectSource(deps.objects, scan.blob_key, size))
-      declaredCount = file.header.declaredPointCount
+      const several = file.scans.length > 1
+      const index = scan.station_index ?? 0
+      if (several && !file.scans[index]) throw new ScanFormatError(`XML path /data3D: the file has ${file.scans.length} scans, and this scan reads station ${index + 1}`, { field: '/data3D' })
+      if (several && scan.source_scan_id === null) {
+        stationsMade = await createStations(db, scan, file)
+        if (deps.enqueue) for (const id of stationsMade) await deps.enqueue(id)
+      }
+      declaredCount = several ? file.scans[index]!.recordCount : file.header.declaredPointCount
       if (declaredCount && declaredCount > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declaredCount, format, limitSource))
       if (declaredCount) buffer.reserve(Math.min(declaredCount, size, pointLimit))
-      summary = await file.readAll({
+      const options = {
         reuseBuffers: true,
-        onBatch: (b) => {
+        onBatch: (b: PointBatch) => {
           onBatch(b)
           report((READ_SHARE * buffer.count) / Math.max(1, declaredCount ?? 1), 'reading e57')
         },
-      })
+      }
+      summary = several ? await file.readScan(index, { ...options, applyPose: false }) : await file.readAll(options)
       const notes = (summary.header as { notes?: string[] }).notes ?? []
       if (notes.length) log.info({ scanId, notes, scans: file.scans.length }, 'e57 read with notes')
     } else {
@@ -243,6 +260,14 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     })
     lap('record')
     log.info({ scanId, points: buffer.count, nodes: tree.nodes.length, seconds: timings }, 'scan ready')
+    if (format === 'e57') {
+      const root = scan.source_scan_id ?? (stationsMade.length || scan.station_count ? scanId : null)
+      if (!deps.enqueue) for (const id of stationsMade) await ingestScan(deps, id)
+      if (root) {
+        const sceneId = await completeStations(db, root)
+        if (sceneId) log.info({ scanId: root, sceneId }, 'e57 stations placed in a new scene')
+      }
+    }
     return 'done'
   } catch (err) {
     await pending.catch(() => {})
