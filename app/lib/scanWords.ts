@@ -19,7 +19,7 @@ export const ACCEPTED_FORMATS: readonly { label: string; extensions: string; not
   { label: 'LAS', extensions: '.las', note: 'LAS 1.2 to 1.4' },
   { label: 'LAZ', extensions: '.laz', note: 'compressed LAS' },
   { label: 'station log', extensions: '.log', note: 'pan, tilt and range readings from a scanning head' },
-  { label: 'E57', extensions: '.e57', note: 'ASTM E2807; every scan in the file at its pose, as one scan' },
+  { label: 'E57', extensions: '.e57', note: 'ASTM E2807; a scan per station, placed at its pose in a new scene' },
 ]
 
 export type UncertaintySource = NonNullable<Scan['uncertaintySource']>

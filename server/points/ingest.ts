@@ -168,7 +168,8 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       const several = file.scans.length > 1
       const index = scan.station_index ?? 0
       if (several && !file.scans[index]) throw new ScanFormatError(`XML path /data3D: the file has ${file.scans.length} scans, and this scan reads station ${index + 1}`, { field: '/data3D' })
-      if (several && scan.source_scan_id === null) {
+      // The upload's own scan (station 0, or not yet marked); a station whose upload's scan was deleted is not one.
+      if (several && scan.source_scan_id === null && (scan.station_index ?? 0) === 0) {
         stationsMade = await createStations(db, scan, file)
         if (deps.enqueue) for (const id of stationsMade) await deps.enqueue(id)
       }
@@ -261,7 +262,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     lap('record')
     log.info({ scanId, points: buffer.count, nodes: tree.nodes.length, seconds: timings }, 'scan ready')
     if (format === 'e57') {
-      const root = scan.source_scan_id ?? (stationsMade.length || scan.station_count ? scanId : null)
+      const root = scan.source_scan_id ?? ((stationsMade.length || scan.station_count) && (scan.station_index ?? 0) === 0 ? scanId : null)
       if (!deps.enqueue) for (const id of stationsMade) await ingestScan(deps, id)
       if (root) {
         const sceneId = await completeStations(db, root)
