@@ -40,6 +40,8 @@ export interface E57OpenOptions {
   maxXmlBytes?: number
   /** Pages fetched per ranged read while reading points. Default 1024 (1 MiB of file). */
   windowPages?: number
+  /** Files with more scans (data3D entries) than this are refused: each becomes a Spanmark scan. Default 1000. */
+  maxScans?: number
 }
 
 export interface E57ReadOptions extends ReaderOptions {
@@ -48,6 +50,7 @@ export interface E57ReadOptions extends ReaderOptions {
 }
 
 const WINDOW_PAGES = 1024
+const DEFAULT_MAX_SCANS = 1000
 /** A field's bytes waiting for the other fields' bytes of the same records. */
 const MAX_PENDING_STREAM_BYTES = 64 * 1024 * 1024
 const SECTION_HEADER_BYTES = 32
@@ -110,6 +113,9 @@ export class E57File {
         throw errorAtByte(fileHeader.xmlPhysicalOffset, 'the XML section is not valid UTF-8')
       }
       const root = parseE57Xml(text)
+      const maxScans = options.maxScans ?? DEFAULT_MAX_SCANS
+      const scans = child(root, 'data3D')?.children.length ?? 0
+      if (scans > maxScans) throw errorAtPath('/data3D', `the file holds ${scans} scans, more than the ${maxScans} Spanmark takes from one file`)
       const { header, plans } = describe(root, fileHeader)
       return new E57File(header, fileHeader, pages, plans, options.windowPages ?? WINDOW_PAGES)
     })

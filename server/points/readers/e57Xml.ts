@@ -46,6 +46,8 @@ export function parseE57Xml(text: string): E57Element {
       trimValues: true,
       ignoreDeclaration: true,
       ignorePiTags: true,
+      // E57's XML nests about eight deep; deeper is refused by the parser.
+      maxNestedTags: 32,
       // E57 names an element `prototype`, which the parser refuses as an object key: every tag gets a prefix
       // (taken off again in elementName), so no element name is ever a property of Object.prototype.
       transformTagName: (name: string) => `${TAG_PREFIX}${name}`,

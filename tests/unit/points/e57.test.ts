@@ -236,6 +236,14 @@ describe('malformed E57: each failure names its page, byte or XML path', () => {
     expect((await failure(written.bytes, 'open', { maxXmlBytes: 1000 })).message).toBe(`byte 32: the XML section is ${size} bytes, more than the 1000 Spanmark reads`)
   })
 
+  it('too many scans, and XML nested past any E57 structure, are refused', async () => {
+    expect((await failure(writeE57(small()).bytes, 'open', { maxScans: 2 })).message).toBe('XML path /data3D: the file holds 3 scans, more than the 2 Spanmark takes from one file')
+    const deep = small()
+    const nest = '<a type="Structure">'.repeat(40) + '</a>'.repeat(40)
+    deep.xmlTransform = (xml) => xml.replace('<images2D', `<deep type="Structure">${nest}</deep><images2D`)
+    expect((await failure(writeE57(deep).bytes, 'open')).message).toMatch(/^XML path \/: the XML section is not well-formed XML \(.*/)
+  })
+
   it('a data packet whose bytestream count differs from the prototype names the page and byte', async () => {
     const spec = small()
     const written = writeE57(spec)
