@@ -236,6 +236,15 @@ describe('malformed E57: each failure names its page, byte or XML path', () => {
     expect((await failure(written.bytes, 'open', { maxXmlBytes: 1000 })).message).toBe(`byte 32: the XML section is ${size} bytes, more than the 1000 Spanmark reads`)
   })
 
+  it('an element without its type, or of a type the standard does not have, names its path', async () => {
+    const untyped = small()
+    untyped.xmlTransform = (xml) => xml.replace('<cartesianY type="Float" precision="single"/>', '<cartesianY precision="single"/>')
+    expect((await failure(writeE57(untyped).bytes, 'open')).message).toBe("XML path /data3D/2/points/prototype/cartesianY: element has no 'type' attribute")
+    const foreign = small()
+    foreign.xmlTransform = (xml) => xml.replace('<intensityLimits type="Structure">', '<intensityLimits type="Record">')
+    expect((await failure(writeE57(foreign).bytes, 'open')).message).toMatch(/^XML path \/data3D\/0\/intensityLimits: element type 'Record' is not one of ASTM E2807's/)
+  })
+
   it('too many scans, and XML nested past any E57 structure, are refused', async () => {
     expect((await failure(writeE57(small()).bytes, 'open', { maxScans: 2 })).message).toBe('XML path /data3D: the file holds 3 scans, more than the 2 Spanmark takes from one file')
     const deep = small()
