@@ -1,5 +1,6 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
 // DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
+import { formatE57Bench, runE57Bench } from './e57'
 import { formatEdgeBench, runEdgeBench } from './edges'
 import { formatIngestBench, runIngestBench } from './ingest'
 import { formatLiveBench, runLiveBench } from './live'
@@ -18,7 +19,7 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, octree, ingest, viewer, markers, pool, live, liveLimits, registration, edges). */
+/** `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, viewer, markers, pool, live, liveLimits, registration, edges). */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -30,6 +31,7 @@ const section = (title: string, body: string) => {
 }
 
 if (wanted('parse')) section('Parse (targets: binary PLY and LAS >= 15 M points/s, >= 10x three PLYLoader)', formatParseBench(runParseBench(s, log)))
+if (wanted('e57')) section('E57 read through ranged reads of the file (memory flat as the file grows)', formatE57Bench(runE57Bench([1e6, 5e6], log)))
 if (wanted('octree')) section(
   'Octree, tiles, statistics, nearest point (in memory; target: anchor check p99 < 5 ms warm, < 50 ms cold)',
   (await runOctreeBench(s))

@@ -3,7 +3,7 @@
 // same environment as the server (DESIGN section 10: workers on other machines).
 import { loadConfig, type Config } from './config'
 import { createDb, createPool } from './db'
-import { INGEST_QUEUE, startBoss, type IngestJob } from './jobs/queue'
+import { INGEST_QUEUE, sendIngest, startBoss, type IngestJob } from './jobs/queue'
 import { workerName } from './jobs/supervisor'
 import { createLogger } from './logger'
 import { ingestScan } from './points/ingest'
@@ -17,7 +17,7 @@ const boss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job
 
 await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
   for (const job of jobs) {
-    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, workerPoints: config.limits.workerPoints, name: workerName(process.pid) }, job.data.scanId)
+    await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, workerPoints: config.limits.workerPoints, name: workerName(process.pid), enqueue: (id) => sendIngest(boss, id) }, job.data.scanId)
   }
 })
 log.info('ingest worker ready')

@@ -8,6 +8,7 @@ export const FORMAT_LABELS: Record<ScanFormat, string> = {
   las: 'LAS',
   laz: 'LAZ',
   'station-log': 'station log',
+  e57: 'E57',
 }
 
 /** The formats the upload takes, as the upload area lists them (the note shows on hover). */
@@ -18,6 +19,7 @@ export const ACCEPTED_FORMATS: readonly { label: string; extensions: string; not
   { label: 'LAS', extensions: '.las', note: 'LAS 1.2 to 1.4' },
   { label: 'LAZ', extensions: '.laz', note: 'compressed LAS' },
   { label: 'station log', extensions: '.log', note: 'pan, tilt and range readings from a scanning head' },
+  { label: 'E57', extensions: '.e57', note: 'ASTM E2807; a scan per station, placed at its pose in a new scene' },
 ]
 
 export type UncertaintySource = NonNullable<Scan['uncertaintySource']>

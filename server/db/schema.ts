@@ -186,6 +186,16 @@ export interface ScansTable {
   attempts: Generated<number>
   /** The worker process (host:pid) that claimed the latest attempt. */
   claimed_by: string | null
+  /** E57 stations: the upload's scan (station 0) for the others; null on the upload's own row. */
+  source_scan_id: string | null
+  /** E57: which data3D entry of the file this scan reads (null: the whole file). */
+  station_index: number | null
+  /** E57: how many stations the file has (on every station's row). */
+  station_count: number | null
+  /** E57: the station's pose in the file's frame, a column-major rigid 4x4. */
+  pose: number[] | null
+  /** E57, on the upload's scan: the scene made with every station placed at its pose. */
+  stations_scene_id: string | null
   created_at: Timestamp
   updated_at: Timestamp
   ready_at: Date | null

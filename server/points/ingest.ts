@@ -6,7 +6,9 @@ import type { ObjectStore } from '../storage/objects'
 import { buildOctree } from './octree/buildOctree'
 import { encodeNodeTile } from './octree/nodeTile'
 import { PointBuffer } from './pointBuffer'
-import { createReader, detectFormat, ScanFormatError, SNIFF_BYTES, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { createReader, detectFormat, openE57, ScanFormatError, SNIFF_BYTES, type PointBatch, type ReadSummary, type ScanFormat, type ScanHeaderInfo } from './readers'
+import { completeStations, createStations } from './e57Stations'
+import { objectSource } from './sources'
 import { computeScanStats } from './stats/scanStats'
 
 export interface IngestDeps {
@@ -21,13 +23,18 @@ export interface IngestDeps {
   name?: string
   /** Points of one scan this worker can hold in memory (config `limits.workerPoints`); none: no ceiling. */
   workerPoints?: number
+  /**
+   * Queues a scan's processing (the worker: a pg-boss job). Without it, the stations an E57 upload adds
+   * are processed in this call, one after another, once the upload's own scan is done.
+   */
+  enqueue?: (scanId: string) => Promise<unknown>
 }
 
 /** Share of the job each stage takes, for the progress bar (parsing dominates for text formats). */
 const READ_SHARE = 0.55
 const STATS_SHARE = 0.1
 
-const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log' }
+const EXTENSION: Record<ScanFormat, string> = { ply: 'ply', xyz: 'xyz', pcd: 'pcd', las: 'las', laz: 'laz', 'station-log': 'log', e57: 'e57' }
 
 /** A file with more points than its project allows; its message says the limit and how to split the file. */
 export class PointLimitError extends Error {}
@@ -116,22 +123,28 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     let read = 0
     const stream = await deps.objects.get(scan.blob_key)
     let reserved = false
+    let declaredCount: number | null = null
+    const onBatch = (b: PointBatch) => {
+      // Before the points are kept: the buffer never grows past the project's limit.
+      if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? declaredCount, format, limitSource))
+      buffer.append(b)
+    }
+    let ranged = false
+    let stationsMade: string[] = []
     for await (const chunk of withSniff(stream, (first) => {
       // A declared format must still match the content; otherwise the name and the bytes decide.
       format = detectFormat(first, scan.declared_format ? `upload.${EXTENSION[scan.declared_format as ScanFormat]}` : scan.file_name)
+      report(0, `reading ${format}`, true)
+      // E57 keeps its XML at the end: it is read through ranged reads below, not front to back.
+      if (format === 'e57') {
+        ranged = true
+        return
+      }
       // No byteLength: a file cut short then fails where it ends ("byte 722: file ends inside point 51"),
       // which says more than a header-versus-size mismatch; nothing is allocated from the header's count.
-      reader = createReader(format, {
-        onBatch: (b) => {
-          // Before the points are kept: the buffer never grows past the project's limit.
-          if (buffer.count + b.count > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, reader?.header?.declaredPointCount ?? null, format, limitSource))
-          buffer.append(b)
-        },
-        reuseBuffers: true,
-        maxLazBytes: deps.lazLimitBytes,
-      })
-      report(0, `reading ${format}`, true)
+      reader = createReader(format, { onBatch, reuseBuffers: true, maxLazBytes: deps.lazLimitBytes })
     })) {
+      if (ranged) break
       reader!.push(chunk)
       // Sized once from the header (growing to 10 M points costs twice the memory and time), but never
       // beyond one point per byte of the file, so a lying header cannot allocate billions.
@@ -145,7 +158,37 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       read += chunk.length
       report((READ_SHARE * read) / size, `reading ${format}`)
     }
-    const summary = await reader!.end()
+    let summary: ReadSummary
+    if (ranged) {
+      // Header, XML, then each scan's binary section a window of pages at a time (ranged GETs): the
+      // original is never held whole. One scan in the file: read at its pose. Several: this scan reads its
+      // own station (the upload's scan station 0, adding a scan for each other one) in the station's frame;
+      // the poses place them in the scene made once all are ready (e57Stations.ts).
+      const file = await openE57(objectSource(deps.objects, scan.blob_key, size))
+      const several = file.scans.length > 1
+      const index = scan.station_index ?? 0
+      if (several && !file.scans[index]) throw new ScanFormatError(`XML path /data3D: the file has ${file.scans.length} scans, and this scan reads station ${index + 1}`, { field: '/data3D' })
+      // The upload's own scan (station 0, or not yet marked); a station whose upload's scan was deleted is not one.
+      if (several && scan.source_scan_id === null && (scan.station_index ?? 0) === 0) {
+        stationsMade = await createStations(db, scan, file)
+        if (deps.enqueue) for (const id of stationsMade) await deps.enqueue(id)
+      }
+      declaredCount = several ? file.scans[index]!.recordCount : file.header.declaredPointCount
+      if (declaredCount && declaredCount > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declaredCount, format, limitSource))
+      if (declaredCount) buffer.reserve(Math.min(declaredCount, size, pointLimit))
+      const options = {
+        reuseBuffers: true,
+        onBatch: (b: PointBatch) => {
+          onBatch(b)
+          report((READ_SHARE * buffer.count) / Math.max(1, declaredCount ?? 1), 'reading e57')
+        },
+      }
+      summary = several ? await file.readScan(index, { ...options, applyPose: false }) : await file.readAll(options)
+      const notes = (summary.header as { notes?: string[] }).notes ?? []
+      if (notes.length) log.info({ scanId, notes, scans: file.scans.length }, 'e57 read with notes')
+    } else {
+      summary = await reader!.end()
+    }
     header = summary.header
     lap('read')
     buffer.trim()
@@ -218,6 +261,14 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     })
     lap('record')
     log.info({ scanId, points: buffer.count, nodes: tree.nodes.length, seconds: timings }, 'scan ready')
+    if (format === 'e57') {
+      const root = scan.source_scan_id ?? ((stationsMade.length || scan.station_count) && (scan.station_index ?? 0) === 0 ? scanId : null)
+      if (!deps.enqueue) for (const id of stationsMade) await ingestScan(deps, id)
+      if (root) {
+        const sceneId = await completeStations(db, root)
+        if (sceneId) log.info({ scanId: root, sceneId }, 'e57 stations placed in a new scene')
+      }
+    }
     return 'done'
   } catch (err) {
     await pending.catch(() => {})

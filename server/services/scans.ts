@@ -156,6 +156,9 @@ export async function removeScan(s: Services, scanId: string): Promise<void> {
   const gone = await deleteScan(s.db, scanId)
   if (!gone) return
   s.scanIndexes.forget(scanId)
+  // The stations of one E57 upload share its stored original: it goes with the last of them.
+  const sharing = await s.db.selectFrom('scans').select('id').where('blob_key', '=', gone.blob_key).executeTakeFirst()
+  if (sharing) return
   await s.objects.delete(gone.blob_key).catch((err: unknown) => s.log.warn({ err, key: gone.blob_key }, 'original not deleted from object storage'))
 }
 

@@ -52,6 +52,34 @@ export class ObjectStore {
     return res.Body as Readable
   }
 
+  /**
+   * Bytes [start, start + length) of an object through a ranged GET (RFC 9110 section 14: `Range:
+   * bytes=first-last`, both inclusive). Fewer bytes come back only where the object ends; a start at or past
+   * the end gives none.
+   */
+  async getRange(key: string, start: number, length: number): Promise<Buffer> {
+    if (!Number.isSafeInteger(start) || start < 0 || !Number.isSafeInteger(length) || length < 0) throw new RangeError(`bad range ${start}+${length}`)
+    if (length === 0) return Buffer.alloc(0)
+    let res
+    try {
+      res = await this.client.send(new GetObjectCommand({ Bucket: this.config.bucket, Key: key, Range: `bytes=${start}-${start + length - 1}` }))
+    } catch (err) {
+      // 416: the range starts at or past the object's end.
+      if ((err as { $metadata?: { httpStatusCode?: number } }).$metadata?.httpStatusCode === 416) return Buffer.alloc(0)
+      throw err
+    }
+    if (!res.Body) throw new Error(`object ${key} has no body`)
+    // A server that ignores Range answers 200 with the whole object: refuse it rather than read it all.
+    if (res.ContentRange === undefined) {
+      ;(res.Body as Readable).destroy()
+      throw new Error(`object storage ignored the Range header for ${key} (no Content-Range in its answer)`)
+    }
+    const parts: Buffer[] = []
+    for await (const part of res.Body as Readable) parts.push(part as Buffer)
+    const bytes = Buffer.concat(parts)
+    return bytes.length > length ? bytes.subarray(0, length) : bytes
+  }
+
   async delete(key: string): Promise<void> {
     await this.client.send(new DeleteObjectCommand({ Bucket: this.config.bucket, Key: key }))
   }

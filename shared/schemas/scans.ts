@@ -1,7 +1,7 @@
 import { z } from 'zod'
 import { Id, Timestamp } from './common'
 
-export const SCAN_FORMATS = ['ply', 'xyz', 'pcd', 'las', 'laz', 'station-log'] as const
+export const SCAN_FORMATS = ['ply', 'xyz', 'pcd', 'las', 'laz', 'station-log', 'e57'] as const
 export const ScanFormat = z.enum(SCAN_FORMATS, { error: `must be one of ${SCAN_FORMATS.join(', ')}` })
 export type ScanFormat = z.infer<typeof ScanFormat>
 

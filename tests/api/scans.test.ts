@@ -3,6 +3,8 @@ import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { readAll } from '../../server/points/readers'
+import { sampleE57 } from '../unit/points/lib/e57Samples'
+import { writeE57 } from '../unit/points/lib/e57Writer'
 import { waitForScan, upload } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
@@ -49,6 +51,68 @@ describe('uploads', () => {
       expect(scan.uncertaintySource).toBe('estimated')
     })
   }
+
+  // E57 files written from ASTM E2807's tables (tests/unit/points/lib/e57Writer.ts); the expected points
+  // are computed from the standard's definitions (tests/unit/points/lib/e57Samples.ts).
+  it('reads a one-scan E57 through ranged reads of the stored original: every valid point, at its pose', async () => {
+    const { spec, expected, dropped } = sampleE57({ a: 600, b: 0, c: 0 })
+    spec.scans = spec.scans.slice(0, 1)
+    const res = await upload(owner.agent, projectId, writeE57(spec).bytes, 'north bay.e57').expect(202)
+    const { scan } = await waitForScan(owner.agent, res.body.scan.id)
+    expect(scan.status, scan.error ?? '').toBe('ready')
+    expect(scan.format).toBe('e57')
+    expect(scan.pointCount).toBe(expected.length)
+    expect(scan.dropped).toEqual(dropped)
+    expect(scan.attributes).toMatchObject({ color: true, intensity: true })
+    for (let axis = 0; axis < 3; axis++) {
+      expect(scan.bounds!.min[axis]).toBeCloseTo(Math.min(...expected.map((e) => e.world[axis]!)), 9)
+      expect(scan.bounds!.max[axis]).toBeCloseTo(Math.max(...expected.map((e) => e.world[axis]!)), 9)
+    }
+  })
+
+  it('makes a scan per station of a three-scan E57 and, in one step, a scene with each placed at its pose', async () => {
+    const { spec, expected } = sampleE57({ a: 600, b: 120, c: 80 })
+    const res = await upload(owner.agent, projectId, writeE57(spec).bytes, 'three stations.e57').expect(202)
+    const first = (await waitForScan(owner.agent, res.body.scan.id)).scan
+    expect(first.status, first.error ?? '').toBe('ready')
+    // Station 0 is the upload's own scan; the others follow with names from the file.
+    const deadline = Date.now() + 30_000
+    let scene: { id: string; name: string; instanceCount: number } | undefined
+    while (!scene && Date.now() < deadline) {
+      const list = (await owner.agent.get(`/api/projects/${projectId}/scenes`).expect(200)).body.scenes as { id: string; name: string; instanceCount: number }[]
+      scene = list.find((s) => s.name === 'three stations')
+      if (!scene) await new Promise((r) => setTimeout(r, 100))
+    }
+    expect(scene, 'a scene named after the upload').toBeDefined()
+    const names = ['three stations', 'three stations, stair core', 'three stations, station 3']
+    const instances = (await owner.agent.get(`/api/scenes/${scene!.id}`).expect(200)).body.scene.instances as { scanId: string; scanName: string; matrix: number[] }[]
+    const placed = [...instances].sort((a, b) => names.indexOf(a.scanName) - names.indexOf(b.scanName))
+    expect(placed.map((p) => p.scanName)).toEqual(names)
+    expect(placed[0]!.scanId).toBe(first.id)
+    // Poses from the file: a quarter turn about +z then (100, 200, 5); a half turn about +x then (-1, 2, 3);
+    // none. Column-major rigid 4x4s, derived by hand from the quaternions.
+    const want = [
+      [0, 1, 0, 0, -1, 0, 0, 0, 0, 0, 1, 0, 100, 200, 5, 1],
+      [1, 0, 0, 0, 0, -1, 0, 0, 0, 0, -1, 0, -1, 2, 3, 1],
+      [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1],
+    ]
+    placed.forEach((p, i) => p.matrix.forEach((v, k) => expect(v, `placement ${i} matrix[${k}]`).toBeCloseTo(want[i]![k]!, 12)))
+    // Each station holds its own valid points, in its own frame.
+    for (const [i, p] of placed.entries()) {
+      const { scan } = await waitForScan(owner.agent, p.scanId)
+      expect(scan.status).toBe('ready')
+      const own = expected.filter((e) => e.scan === i)
+      expect(scan.pointCount, `station ${i}`).toBe(own.length)
+      for (let axis = 0; axis < 3; axis++) {
+        expect(scan.bounds!.min[axis]).toBeCloseTo(Math.min(...own.map((e) => e.local[axis]!)), 9)
+        expect(scan.bounds!.max[axis]).toBeCloseTo(Math.max(...own.map((e) => e.local[axis]!)), 9)
+      }
+    }
+    // The stations share the stored original: deleting one keeps it for the others.
+    await owner.agent.delete(`/api/scans/${placed[2]!.scanId}`).expect(204)
+    const original = await owner.agent.get(`/api/scans/${first.id}/original`).expect(200)
+    expect(original.body.length ?? Number(original.headers['content-length'])).toBeGreaterThan(0)
+  })
 
   it('reports intermediate progress while a larger file is processed', async () => {
     const lines: string[] = []

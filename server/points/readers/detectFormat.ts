@@ -13,7 +13,7 @@ import type { ScanFormat } from './types'
 
 export const SNIFF_BYTES = 4096
 
-type Content = ScanFormat | 'e57'
+type Content = ScanFormat
 
 const EXTENSIONS: Record<string, readonly Content[]> = {
   ply: ['ply'],
@@ -61,12 +61,6 @@ export function detectFormat(firstBytes: Uint8Array, fileName: string): ScanForm
   const content = sniff(firstBytes, expected)
   if (expected && !expected.includes(content)) {
     throw errorAtByte(0, `file is named .${extension} but its content starts like ${DESCRIPTION[content]}`)
-  }
-  if (content === 'e57') {
-    throw errorAtByte(
-      0,
-      "this is an E57 file (ASTM E2807, 'ASTM-E57' at byte 0); E57 is not read yet: export the scan as LAS, LAZ, PLY or PCD",
-    )
   }
   return content
 }

@@ -2,6 +2,8 @@
  * The one error the readers throw for bad input. Its message always starts with where the problem is:
  * `line 17: ...` (text formats, 1-based file lines), `byte 1204: ...` (0-based offset into the file) or
  * `header: ...` / `header line 5: ...` / `header field 'x scale': ...`, so a user can find it in the file.
+ * E57 adds `page 3 (byte 4092): ...` (a 0-based physical page and the file offset) and
+ * `XML path /data3D/0/points: ...` (the element's path in the file's XML section; `field` holds it).
  */
 export interface ScanErrorLocation {
   line?: number

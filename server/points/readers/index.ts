@@ -1,4 +1,5 @@
-import { ScanFormatError, errorAtByte } from './errors'
+import { E57MemoryReader } from './e57Reader'
+import { ScanFormatError } from './errors'
 import { LasReader } from './lasReader'
 import { LazReader } from './lazReader'
 import { PcdReader } from './pcdReader'
@@ -22,7 +23,10 @@ export { ScanFormatError } from './errors'
 export { SNIFF_BYTES, detectFormat, fileExtension } from './detectFormat'
 export type * from './types'
 
-export const SCAN_FORMATS: readonly ScanFormat[] = ['ply', 'xyz', 'pcd', 'las', 'laz', 'station-log']
+export { E57File, E57MemoryReader, openE57, type E57OpenOptions, type E57ReadOptions } from './e57Reader'
+export { memorySource, type ByteSource } from './byteSource'
+
+export const SCAN_FORMATS: readonly ScanFormat[] = ['ply', 'xyz', 'pcd', 'las', 'laz', 'station-log', 'e57']
 
 export function createReader(format: ScanFormat, options: ReaderOptions): PointReader {
   switch (format) {
@@ -38,9 +42,11 @@ export function createReader(format: ScanFormat, options: ReaderOptions): PointR
       return new LazReader(options)
     case 'station-log':
       return new StationLogReader(options)
+    case 'e57':
+      // In memory; uploads go through openE57 with ranged reads (see e57Reader.ts).
+      return new E57MemoryReader(options)
     default: {
       const name = String(format)
-      if (name === 'e57') throw errorAtByte(0, 'E57 is not read yet: export the scan as LAS, LAZ, PLY or PCD')
       throw new ScanFormatError(`'${name}' is not a format Spanmark reads (${SCAN_FORMATS.join(', ')})`)
     }
   }

@@ -5,6 +5,8 @@ export interface SinkLayout {
   color: boolean
   intensity: boolean
   uncertainty: boolean
+  /** Row and column of a gridded scan (E57). */
+  grid?: boolean
 }
 
 export const DEFAULT_BATCH_SIZE = 65536
@@ -23,6 +25,8 @@ export class PointSink {
   colors: Uint8Array | null
   intensities: Float32Array | null
   uncertainties: Float32Array | null
+  rows: Int32Array | null
+  columns: Int32Array | null
   /** Points in the batch being filled. */
   count = 0
   /** Points already delivered. */
@@ -49,6 +53,8 @@ export class PointSink {
     this.colors = layout.color ? new Uint8Array(this.capacity * 3) : null
     this.intensities = layout.intensity ? new Float32Array(this.capacity) : null
     this.uncertainties = layout.uncertainty ? new Float32Array(this.capacity) : null
+    this.rows = layout.grid ? new Int32Array(this.capacity) : null
+    this.columns = layout.grid ? new Int32Array(this.capacity) : null
   }
 
   get room(): number {
@@ -76,6 +82,10 @@ export class PointSink {
     if (this.colors) batch.colors = whole ? this.colors : this.colors.subarray(0, n * 3)
     if (this.intensities) batch.intensities = whole ? this.intensities : this.intensities.subarray(0, n)
     if (this.uncertainties) batch.uncertainties = whole ? this.uncertainties : this.uncertainties.subarray(0, n)
+    if (this.rows && this.columns) {
+      batch.rows = whole ? this.rows : this.rows.subarray(0, n)
+      batch.columns = whole ? this.columns : this.columns.subarray(0, n)
+    }
     this.delivered += n
     this.count = 0
     if (!this.reuse) this.allocate()
@@ -94,6 +104,10 @@ export class PointSink {
     if (this.layout.color) this.colors = new Uint8Array(this.capacity * 3)
     if (this.layout.intensity) this.intensities = new Float32Array(this.capacity)
     if (this.layout.uncertainty) this.uncertainties = new Float32Array(this.capacity)
+    if (this.layout.grid) {
+      this.rows = new Int32Array(this.capacity)
+      this.columns = new Int32Array(this.capacity)
+    }
   }
 
   private scan(n: number): void {

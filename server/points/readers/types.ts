@@ -6,7 +6,7 @@
  * Intensities are the file's raw values (LAS: 0-65535, PLY/PCD/XYZ: as written), not normalised.
  */
 
-export type ScanFormat = 'ply' | 'xyz' | 'pcd' | 'las' | 'laz' | 'station-log'
+export type ScanFormat = 'ply' | 'xyz' | 'pcd' | 'las' | 'laz' | 'station-log' | 'e57'
 
 export type Vec3 = [number, number, number]
 
@@ -20,6 +20,9 @@ export interface PointBatch {
   intensities?: Float32Array
   /** Per-point standard uncertainty in metres (station logs only). */
   uncertainties?: Float32Array
+  /** Row and column of each point in a gridded scan (E57 rowIndex / columnIndex). */
+  rows?: Int32Array
+  columns?: Int32Array
 }
 
 export interface ReaderOptions {
@@ -174,9 +177,47 @@ export type ScanHeaderInfo =
   | PcdHeaderInfo
   | TextColumnsHeaderInfo
   | StationLogHeaderInfo
+  | E57HeaderInfo
 
-/** Why a station-log reading was left out. */
-export type DropReason = 'beyondRatedRange' | 'tooFewSamples'
+/**
+ * Why a reading was left out: station logs (beyond the rated range, too few samples); E57 points whose
+ * cartesianInvalidState / sphericalInvalidState is 2 (no data) or 1 (a direction without a usable range).
+ */
+export type DropReason = 'beyondRatedRange' | 'tooFewSamples' | 'invalidState' | 'directionOnly'
+
+/** One scan (a data3D entry) of an E57 file. */
+export interface E57ScanInfo {
+  /** Position in /data3D. */
+  index: number
+  /** Its XML path, `/data3D/0`. */
+  path: string
+  name: string | null
+  guid: string | null
+  description: string | null
+  /** The points' recordCount (invalid points included). */
+  recordCount: number
+  /** Rigid pose from the scan's own frame to the file's: rotation quaternion w x y z, translation x y z metres. */
+  pose: { rotation: [number, number, number, number]; translation: Vec3 }
+  coordinates: 'cartesian' | 'spherical'
+  hasColor: boolean
+  hasIntensity: boolean
+  /** Gridded scans: rows and columns (from indexBounds, or the rowIndex/columnIndex fields' ranges). */
+  grid: { rows: number; columns: number } | null
+  /** The prototype's fields, in order. */
+  fields: string[]
+}
+
+export interface E57HeaderInfo extends HeaderBase {
+  format: 'e57'
+  versionMajor: number
+  versionMinor: number
+  guid: string | null
+  scans: E57ScanInfo[]
+  /** Entries of /images2D (not read). */
+  images: number
+  /** What was read differently or left out, in words (images skipped, ...). */
+  notes: string[]
+}
 
 export interface Bounds {
   min: Vec3

@@ -18,7 +18,7 @@ interface Case {
 }
 
 const table = JSON.parse(readFileSync(`${FIXTURES}bad/expected.json`, 'utf8')) as Case[]
-const LOCATION = /^(line \d+|byte \d+|header( line \d+| field '[^']+')?): /
+const LOCATION = /^(line \d+|byte \d+|page \d+ \(byte \d+\)|XML path \S+|header( line \d+| field '[^']+')?): /
 
 async function readUpload(file: string, options: { byteLength?: number } = {}): Promise<number> {
   const bytes = fixture(`bad/${file}`)

@@ -43,10 +43,11 @@ describe('detectFormat', () => {
     expect(() => detectFormat(writeXyz(cloud), 'scan.las')).toThrow('file is named .las but its content starts like text in numeric columns')
   })
 
-  it('E57 is recognised and refused as not read yet; other files are named', () => {
+  it('E57 is recognised by its signature; other files are named', () => {
     const e57 = new Uint8Array(64)
     e57.set(text('ASTM-E57'))
-    expect(() => detectFormat(e57, 'site.e57')).toThrow(/E57 is not read yet/)
+    expect(detectFormat(e57, 'site.e57')).toBe('e57')
+    expect(() => detectFormat(e57, 'site.las')).toThrow('byte 0: file is named .las but its content starts like an E57 file')
     expect(() => detectFormat(Uint8Array.from([0x50, 0x4b, 0x03, 0x04, 0, 0]), 'scans.zip')).toThrow('the content is a ZIP archive')
     expect(() => detectFormat(Uint8Array.from([0, 1, 2, 3, 4, 5]), 'blob')).toThrow(/binary data that is not a point format/)
     expect(() => detectFormat(new Uint8Array(0), 'x.ply')).toThrow('byte 0: the file is empty')
