@@ -39,6 +39,7 @@ const Env = z.object({
   UPLOAD_LIMIT_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
   LAZ_LIMIT_BYTES: z.coerce.number().int().positive().default(512 * 1024 ** 2),
   WORKER: z.enum(['spawn', 'none']).default('spawn'),
+  WORKERS: z.coerce.number({ error: 'must be a whole number from 1 to 16' }).int({ error: 'must be a whole number from 1 to 16' }).min(1, { error: 'must be a whole number from 1 to 16' }).max(16, { error: 'must be a whole number from 1 to 16' }).default(1),
   /** Worker threads for heavy marker checks; default: the machine's cores less one, at least 1. */
   COMPUTE_THREADS: z.coerce.number().int().min(1, { error: 'COMPUTE_THREADS must be at least 1' }).max(256).optional(),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).optional(),
@@ -97,6 +98,8 @@ export interface Config {
   uploads: { limitBytes: number; lazLimitBytes: number }
   /** 'spawn' runs the ingest worker as a child process; 'none' leaves it to a separate `server/worker.ts`. */
   worker: 'spawn' | 'none'
+  /** Ingest worker processes this server starts (WORKERS; they share the queue, a claim each per scan). */
+  workers: number
   /**
    * The worker threads that run heavy marker checks (sections, openings, object outlines, clearance fits:
    * server/compute/pool.ts): how many at most (COMPUTE_THREADS; default cores - 1, at least 1), and how long
@@ -254,6 +257,7 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     },
     uploads: { limitBytes: e.UPLOAD_LIMIT_BYTES, lazLimitBytes: e.LAZ_LIMIT_BYTES },
     worker: e.WORKER,
+    workers: e.WORKERS,
     compute: { threads: e.COMPUTE_THREADS ?? defaultComputeThreads(), idleTimeoutMs: 30_000 },
     ingestStaleMs: test ? 3000 : 30_000,
     liveSettleMs: test ? 300 : 2000,

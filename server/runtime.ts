@@ -66,7 +66,8 @@ export class SpanmarkServer {
     readonly config: Config,
     private readonly http: http.Server,
     private readonly fakes: { smtp: FakeSmtp | null; s3: FakeS3 | null },
-    readonly worker: WorkerSupervisor | null,
+    /** The ingest worker processes this server supervises (config.workers; none with WORKER=none). */
+    readonly workers: WorkerSupervisor[],
     readonly url: string,
     /** What a worker process of this server runs with (the fakes' real addresses filled in). */
     readonly workerConfig: Config,
@@ -77,6 +78,11 @@ export class SpanmarkServer {
     /** This server's hold on the compute threads (server/compute/pool.ts): heavy marker checks run there. */
     private readonly compute: { close(): Promise<void> },
   ) {}
+
+  /** The first ingest worker (tests that kill one). */
+  get worker(): WorkerSupervisor | null {
+    return this.workers[0] ?? null
+  }
 
   static async start(config: Config, log: pino.Logger): Promise<SpanmarkServer> {
     refuseDevConveniences(config)
@@ -125,9 +131,11 @@ export class SpanmarkServer {
       }
       // The worker process gets the resolved addresses of the fakes, not the configured ports.
       const workerConfig: Config = { ...config, storage: { ...storage, fake: false }, mail: { ...config.mail, port: mailPort, fake: false } }
-      const worker = config.worker === 'spawn' ? new WorkerSupervisor(workerConfig, log) : null
-      worker?.start()
-      if (worker) started.push({ close: () => worker.stop() })
+      const workers = config.worker === 'spawn' ? Array.from({ length: config.workers }, () => new WorkerSupervisor(workerConfig, log)) : []
+      for (const worker of workers) {
+        worker.start()
+        started.push({ close: () => worker.stop() })
+      }
 
       const seeded = config.seedDemo && (await seedDemo(services))
       const server = http.createServer(createApp(services))
@@ -148,7 +156,7 @@ export class SpanmarkServer {
       services.mailer.start()
       const commentNotices = new CommentNoticeSender(db, services.mailer, { ...config.commentMail, origin: () => services.publicOrigin() }, log)
       commentNotices.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, worker, url, workerConfig, collab, commentNotices, compute)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, workers, url, workerConfig, collab, commentNotices, compute)
       app.startSweeper()
       const orphaned = await failOrphanedRefinements(services)
       if (orphaned) log.info({ registrations: orphaned }, 'refinements left running by an earlier server marked failed')
@@ -177,10 +185,12 @@ export class SpanmarkServer {
       }
       // Rate-limit windows that have ended (shared by every process; any of them may sweep).
       await sweepRateLimits(db)
-      const mine = this.worker?.claimName
-      if (mine && [...failed, ...queued].some((s) => s.claimed_by === mine)) {
-        log.warn({ worker: mine }, 'the ingest worker holds a stalled scan; starting a fresh one')
-        this.worker!.restart()
+      for (const worker of this.workers) {
+        const mine = worker.claimName
+        if (mine && [...failed, ...queued].some((s) => s.claimed_by === mine)) {
+          log.warn({ worker: mine }, 'an ingest worker holds a stalled scan; starting a fresh one')
+          worker.restart()
+        }
       }
     }
     void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed'))
@@ -197,7 +207,7 @@ export class SpanmarkServer {
       this.http.closeIdleConnections()
       setTimeout(() => this.http.closeAllConnections(), 5000).unref()
     })
-    await this.worker?.stop()
+    await Promise.all(this.workers.map((w) => w.stop()))
     await this.services.registrationJobs.stop()
     this.services.markerChecks.stop()
     await this.services.markerChecks.idle()

@@ -186,6 +186,8 @@ export interface ScansTable {
   attempts: Generated<number>
   /** The worker process (host:pid) that claimed the latest attempt. */
   claimed_by: string | null
+  /** The current claim (a new one per attempt): only its holder's writes count (migration 20261205145000). */
+  claim_id: string | null
   /** E57 stations: the upload's scan (station 0) for the others; null on the upload's own row. */
   source_scan_id: string | null
   /** E57: which data3D entry of the file this scan reads (null: the whole file). */
@@ -214,6 +216,8 @@ export interface ScanTilesTable {
   max_z: number
   byte_size: number
   data: Buffer
+  /** The claim that made the tile; it must be the scan's current one (a foreign key). */
+  claim_id: string
 }
 
 export interface ScenesTable {

@@ -1,7 +1,7 @@
 import type { Readable } from 'node:stream'
 import type pino from 'pino'
 import type { Db } from '../db'
-import { claimScan, deleteTiles, updateScan } from '../repositories/scans'
+import { claimScan, deleteTiles, updateClaimedScan } from '../repositories/scans'
 import type { ObjectStore } from '../storage/objects'
 import { buildOctree } from './octree/buildOctree'
 import { encodeNodeTile } from './octree/nodeTile'
@@ -92,6 +92,14 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
   const { db, log } = deps
   const scan = await claimScan(db, scanId, deps.staleMs, deps.maxAttempts, deps.name ?? null)
   if (!scan) return 'skipped'
+  // Every write below counts only while this claim is the scan's current one (another worker may take a
+  // scan whose heartbeat stopped: this one then stops, and its late writes are discarded).
+  const claim = scan.claim_id!
+  let lost = false
+  const write = async (values: Parameters<typeof updateClaimedScan>[3]) => {
+    if (!(await updateClaimedScan(db, scanId, claim, values))) lost = true
+    if (lost) throw new ClaimLostError()
+  }
   const project = await db.selectFrom('projects').select('max_scan_points').where('id', '=', scan.project_id).executeTakeFirst()
   // The lower of the project's setting and what this worker can hold in memory decides.
   const projectLimit = Number(project?.max_scan_points ?? Infinity)
@@ -104,7 +112,9 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     const now = Date.now()
     if (!force && now - lastWrite < 250) return
     lastWrite = now
-    pending = pending.then(() => updateScan(db, scanId, { progress: Math.min(0.999, progress), stage, heartbeat_at: new Date() }))
+    pending = pending.then(() => write({ progress: Math.min(0.999, progress), stage, heartbeat_at: new Date() }))
+    // Marked handled now; awaited (and thrown) at the next stage.
+    pending.catch(() => {})
   }
   // Seconds per stage, logged with the result: where an ingest spends its time.
   const timings: Record<string, number> = { waited: Math.round(Date.now() - scan.created_at.getTime()) / 1000 }
@@ -204,7 +214,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     const tree = buildOctree(buffer)
     lap('octree')
     let done = 0
-    type TileRow = { scan_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }
+    type TileRow = { scan_id: string; claim_id: string; node_key: string; level: number; point_count: number; min_x: number; min_y: number; min_z: number; max_x: number; max_y: number; max_z: number; byte_size: number; data: Buffer }
     let batch: TileRow[] = []
     let batchBytes = 0
     // One insert in flight while the next batch is encoded: PostgreSQL stores one while Node encodes the next.
@@ -222,7 +232,8 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     for (const node of tree.nodes) {
       const bytes = encodeNodeTile(buffer, node)
       const b = node.bounds
-      batch.push({ scan_id: scanId, node_key: node.key, level: node.level, point_count: node.pointCount, min_x: b.min[0], min_y: b.min[1], min_z: b.min[2], max_x: b.max[0], max_y: b.max[1], max_z: b.max[2], byte_size: bytes.length, data: Buffer.from(bytes.buffer, bytes.byteOffset, bytes.length) })
+      if (lost) throw new ClaimLostError()
+      batch.push({ scan_id: scanId, claim_id: claim, node_key: node.key, level: node.level, point_count: node.pointCount, min_x: b.min[0], min_y: b.min[1], min_z: b.min[2], max_x: b.max[0], max_y: b.max[1], max_z: b.max[2], byte_size: bytes.length, data: Buffer.from(bytes.buffer, bytes.byteOffset, bytes.length) })
       batchBytes += bytes.length
       done += node.pointCount
       if (batchBytes > 4 * 1024 * 1024) {
@@ -238,7 +249,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     const station = header.format === 'station-log'
       ? { stationId: header.stationId, laserClass: header.laserClass, ratedRange: header.ratedRange, shotsPerReading: header.shotsPerReading, readings: summary.pointCount + Object.values(summary.dropped).reduce((a, n) => a + (n ?? 0), 0) }
       : null
-    await updateScan(db, scanId, {
+    await write({
       status: 'ready',
       progress: 1,
       stage: null,
@@ -272,12 +283,28 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
     return 'done'
   } catch (err) {
     await pending.catch(() => {})
+    // Taken over by another worker (or its tiles refused by the claim's foreign key): leave everything to it.
+    if (lost || err instanceof ClaimLostError || isForeignKeyOf(err, 'scan_tiles_claim')) {
+      log.warn({ scanId, claim }, 'another worker has taken this scan; this one stops and its writes are discarded')
+      return 'skipped'
+    }
     const message = err instanceof ScanFormatError || err instanceof PointLimitError ? err.message : `processing failed: ${err instanceof Error ? err.message : String(err)}`
     if (!(err instanceof ScanFormatError || err instanceof PointLimitError)) log.error({ err, scanId }, 'scan processing failed')
-    await deleteTiles(db, scanId).catch(() => {})
-    await updateScan(db, scanId, { status: 'failed', stage: null, error: message, heartbeat_at: null }).catch(() => {})
+    // Only this claim's tiles and state: a scan another worker has taken meanwhile is left alone.
+    if (await updateClaimedScan(db, scanId, claim, { status: 'failed', stage: null, error: message, heartbeat_at: null }).catch(() => false)) await deleteTiles(db, scanId).catch(() => {})
     return 'failed'
   }
+}
+
+/** This worker's claim on a scan is no longer the current one. */
+class ClaimLostError extends Error {
+  constructor() {
+    super('the scan was taken by another worker')
+  }
+}
+
+function isForeignKeyOf(err: unknown, constraint: string): boolean {
+  return typeof err === 'object' && err !== null && (err as { code?: string }).code === '23503' && (err as { constraint?: string }).constraint === constraint
 }
 
 function median(values: Float32Array): number | null {

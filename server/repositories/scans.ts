@@ -27,6 +27,15 @@ export function updateScan(db: Conn, scanId: string, values: ScanUpdate) {
   return db.updateTable('scans').set({ ...values, updated_at: new Date() }).where('id', '=', scanId).execute()
 }
 
+/**
+ * A write of the worker holding claim `claimId`: it counts only while that claim is the scan's current one.
+ * Answers whether it did (false: another worker has taken the scan since; this one must stop).
+ */
+export async function updateClaimedScan(db: Conn, scanId: string, claimId: string, values: ScanUpdate): Promise<boolean> {
+  const r = await db.updateTable('scans').set({ ...values, updated_at: new Date() }).where('id', '=', scanId).where('claim_id', '=', claimId).executeTakeFirst()
+  return Number(r.numUpdatedRows) > 0
+}
+
 export function deleteScan(db: Conn, scanId: string) {
   return db.deleteFrom('scans').where('id', '=', scanId).returning(['blob_key']).executeTakeFirst()
 }
@@ -40,7 +49,7 @@ export function deleteScan(db: Conn, scanId: string) {
 export function claimScan(db: Conn, scanId: string, staleMs: number, maxAttempts: number, worker: string | null = null) {
   return db
     .updateTable('scans')
-    .set((eb) => ({ status: 'processing', progress: 0, stage: 'starting', error: null, heartbeat_at: sql`now()`, updated_at: sql`now()`, attempts: eb('attempts', '+', 1), claimed_by: worker }))
+    .set((eb) => ({ status: 'processing', progress: 0, stage: 'starting', error: null, heartbeat_at: sql`now()`, updated_at: sql`now()`, attempts: eb('attempts', '+', 1), claimed_by: worker, claim_id: sql`gen_random_uuid()` }))
     .where('id', '=', scanId)
     .where('attempts', '<', maxAttempts)
     .where((eb) =>

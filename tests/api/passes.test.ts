@@ -41,8 +41,9 @@ beforeAll(async () => {
   scanId = scan.body.scan.id
   // Ready with one stored tile, so the hierarchy and tile routes answer as for a processed scan.
   const bounds = { min_x: 0, min_y: 0, min_z: 0, max_x: 1, max_y: 1, max_z: 0 }
-  await t.server.services.db.updateTable('scans').set({ status: 'ready', ready_at: new Date(), point_count: 3, spacing: 1, ...bounds }).where('id', '=', scanId).execute()
-  await t.server.services.db.insertInto('scan_tiles').values({ scan_id: scanId, node_key: 'r', level: 0, point_count: 3, byte_size: 4, data: Buffer.from([1, 2, 3, 4]), ...bounds }).execute()
+  const claim = '00000000-0000-4000-8000-0000000c1a1e'
+  await t.server.services.db.updateTable('scans').set({ status: 'ready', ready_at: new Date(), point_count: 3, spacing: 1, claim_id: claim, ...bounds }).where('id', '=', scanId).execute()
+  await t.server.services.db.insertInto('scan_tiles').values({ scan_id: scanId, claim_id: claim, node_key: 'r', level: 0, point_count: 3, byte_size: 4, data: Buffer.from([1, 2, 3, 4]), ...bounds }).execute()
   instanceId = (await owner.agent.post(`/api/scenes/${sceneId}/instances`).send({ scanId: scan.body.scan.id }).expect(201)).body.instance.id
   markerId = (
     await owner.agent

@@ -12,7 +12,10 @@ import type { WebsocketProvider } from 'y-websocket'
 import { CLOSE_CODES, WORK_MAPS } from '@shared/collab/documents'
 import { Room } from '../../server/collab/room'
 import { insertUpdate, writeSnapshot } from '../../server/repositories/sceneUpdates'
+import { ingestScan } from '../../server/points/ingest'
+import { writeBinaryPly } from '../../server/points/writers/plyWriter'
 import { liveClient, synced } from '../utils/live'
+import { upload } from '../utils/scans'
 import { joinProject, signUpAgent, startPeer, startTestServer, type TestServer } from '../utils/server'
 
 let a: TestServer
@@ -168,5 +171,35 @@ describe('live documents across two processes', () => {
       await c.stop()
       await d.stop()
     }
+  })
+
+  it('lets only the current claim on a scan write: a stale worker’s late tiles and states are discarded', async () => {
+    const { db, objects, log } = a.server.services
+    const n = 5000
+    const positions = new Float64Array(3 * n).map((_, i) => (i % 3 === 2 ? 0 : (i * 0.37) % 2))
+    const id = (await upload(owner.agent, projectId, writeBinaryPly({ count: n, positions }), 'claimed.ply').expect(202)).body.scan.id as string
+    const deps = { db, objects, log, lazLimitBytes: a.config.uploads.lazLimitBytes, staleMs: a.config.ingestStaleMs, maxAttempts: 3 }
+    // Worker A claims the scan, then stalls before it reads a byte (its object store waits on a gate).
+    let release!: () => void
+    const gate = new Promise<void>((r) => (release = r))
+    const stalled = { ...objects, get: async (key: string) => (await gate, objects.get(key)) } as typeof objects
+    const workerA = ingestScan({ ...deps, objects: stalled, name: 'worker-a' }, id)
+    await until(async () => (await db.selectFrom('scans').select('claimed_by').where('id', '=', id).executeTakeFirst())?.claimed_by === 'worker-a', 5000, 'A’s claim')
+    const claimA = (await db.selectFrom('scans').select('claim_id').where('id', '=', id).executeTakeFirstOrThrow()).claim_id!
+    // A's heartbeat stops (as a stalled worker's would); worker B takes the scan and finishes it.
+    await db.updateTable('scans').set({ heartbeat_at: new Date(Date.now() - 3_600_000) }).where('id', '=', id).execute()
+    expect(await ingestScan({ ...deps, name: 'worker-b' }, id)).toBe('done')
+    const claimB = (await db.selectFrom('scans').select('claim_id').where('id', '=', id).executeTakeFirstOrThrow()).claim_id
+    expect(claimB).not.toBe(claimA)
+    // A wakes up: everything it writes is discarded, and it says so by stopping.
+    release()
+    expect(await workerA).toBe('skipped')
+    const scan = await db.selectFrom('scans').select(['status', 'point_count', 'claimed_by']).where('id', '=', id).executeTakeFirstOrThrow()
+    expect({ ...scan, point_count: Number(scan.point_count) }).toEqual({ status: 'ready', point_count: n, claimed_by: 'worker-b' })
+    const tiles = await db.selectFrom('scan_tiles').select(['node_key', 'point_count', 'claim_id']).where('scan_id', '=', id).execute()
+    expect(tiles.reduce((sum, t) => sum + t.point_count, 0)).toBe(n)
+    expect(new Set(tiles.map((t) => t.claim_id))).toEqual(new Set([claimB]))
+    // A late tile of the old claim is refused by the database itself.
+    await expect(db.insertInto('scan_tiles').values({ scan_id: id, claim_id: claimA, node_key: 'r7', level: 1, point_count: 1, byte_size: 1, data: Buffer.from([0]), min_x: 0, min_y: 0, min_z: 0, max_x: 0, max_y: 0, max_z: 0 }).execute()).rejects.toThrow(/scan_tiles_claim/)
   })
 })
