@@ -2,6 +2,7 @@ import { fitThrough } from '@shared/measure/clearance'
 import { fittedMargin, fittedOpening, fittedOutline } from '@shared/measure/edges'
 import { freeOpening } from '@shared/measure/opening'
 import { concaveOutline } from '@shared/measure/polygon'
+import { searchPassage, supportPoints } from '@shared/measure/orientation'
 
 /**
  * The tasks a compute worker thread runs: the heavy functions of shared/measure, by name. Each runs as it is
@@ -15,6 +16,8 @@ export const TASKS = {
   fitThrough,
   fittedMargin,
   concaveOutline,
+  supportPoints,
+  searchPassage,
 }
 
 export type Tasks = typeof TASKS

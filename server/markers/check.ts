@@ -81,9 +81,88 @@ export const CLEARANCE_ASSUMPTIONS = [
   'The object passes straight along the direction of travel, without turning on the way.',
   'The object may be turned in the opening plane only as far as the marker allows (any turn unless limited).',
   'The opening is thin: its free outline in this one section holds along the whole passage.',
-  'The object is its silhouette along the direction of travel (its convex hull), as scanned.',
+  'The object is rigid and is its silhouette along the direction of travel (its convex hull), as scanned.',
   'Islands of points inside the opening smaller than the object are not looked for.',
 ]
+
+/** What this clearance assumed, in words: the fixed list with its turning and carriage made specific. */
+function clearanceAssumptions(params: ClearanceParams, carriage: 'floor' | 'trolley' | 'carried', lift: number | null): string[] {
+  const o = params.orientation
+  const turning = !o
+    ? CLEARANCE_ASSUMPTIONS[1]!
+    : o.mode === 'as-it-stands'
+      ? 'The object goes through as it stands (no turn, no tip).'
+      : o.mode === 'upright'
+        ? 'The object stays upright and may be turned about the vertical (searched in 10-degree steps, refined to 0.5 degrees).'
+        : o.mode === 'tipped'
+          ? `The object may be tipped at most ${o.maxTipDegrees} degrees from upright and turned any way (searched in 10-degree steps, refined to 0.5 degrees).`
+          : 'The object may be turned and tipped any way (searched in 10-degree steps, refined to 0.5 degrees).'
+  const moving =
+    carriage === 'floor'
+      ? 'The object rests on the opening\'s floor and slides or rolls through: the margin is to the sides and the head, not to the floor.'
+      : carriage === 'trolley'
+        ? `The object rides on a trolley or skates ${formatMetres(lift ?? 0)} high, narrower than the object: the margin is to the sides and the head.`
+        : 'The object is carried free in the opening (it may be lifted): the margin is to every side.'
+  return [CLEARANCE_ASSUMPTIONS[0]!, turning, CLEARANCE_ASSUMPTIONS[2]!, CLEARANCE_ASSUMPTIONS[3]!, moving, CLEARANCE_ASSUMPTIONS[4]!]
+}
+
+const formatMetres = (m: number) => `${(Math.round(m * 1000) / 1000).toFixed(3)} m`
+
+/** Section points (u v pairs) above a level: a resting object's floor is left out of its margin. */
+function pointsAbove(uv: Float64Array, v: number): Float64Array {
+  let n = 0
+  for (let i = 1; i < uv.length; i += 2) if (uv[i]! >= v) n++
+  const out = new Float64Array(2 * n)
+  for (let i = 0, k = 0; i < uv.length; i += 2) if (uv[i + 1]! >= v) (out[k++] = uv[i]!), (out[k++] = uv[i + 1]!)
+  return out
+}
+
+/**
+ * The best orientation within the limits (shared/measure/orientation.ts, in the compute pool): the object's
+ * points go to the passage frame (u, v of the section, w along travel) with the scene's up (z); its support
+ * points are searched; then every point is turned by the best rotation about the support centre and the
+ * silhouette is written again in place (the fit that follows places it).
+ */
+async function orientObject(
+  local: Float64Array,
+  m: readonly number[],
+  sec: SectionComputation,
+  dir: readonly number[],
+  opening: FreeOpening,
+  limits: NonNullable<ClearanceParams['orientation']>,
+  restOn: number | undefined,
+  silhouette: Float64Array,
+) {
+  const count = local.length / 3
+  const [ox, oy, oz] = sec.frame.origin
+  const { u, v } = sec.frame
+  const xyz = sharedFloat64Array(3 * count)
+  for (let i = 0; i < count; i++) {
+    if ((i & 0x1ffff) === 0x1ffff) await new Promise<void>((resolve) => setImmediate(resolve))
+    const x = local[3 * i]!, y = local[3 * i + 1]!, z = local[3 * i + 2]!
+    const px = m[0]! * x + m[4]! * y + m[8]! * z + m[12]! - ox
+    const py = m[1]! * x + m[5]! * y + m[9]! * z + m[13]! - oy
+    const pz = m[2]! * x + m[6]! * y + m[10]! * z + m[14]! - oz
+    xyz[3 * i] = u[0] * px + u[1] * py + u[2] * pz
+    xyz[3 * i + 1] = v[0] * px + v[1] * py + v[2] * pz
+    xyz[3 * i + 2] = dir[0]! * px + dir[1]! * py + dir[2]! * pz
+  }
+  const support = await compute.supportPoints(xyz)
+  if (!support) throw new Stop('invalid-geometry', 'the object has too few points to turn.')
+  // The scene's up (z) in the passage frame.
+  const up: [number, number, number] = [u[2], v[2], dir[2]!]
+  const found = await compute.searchPassage(opening, support.points, up, { mode: limits.mode, ...(limits.maxTipDegrees !== undefined ? { maxTipDegrees: limits.maxTipDegrees } : {}) }, restOn)
+  if (!found.ok) throw new Stop('invalid-geometry', `the object's orientations cannot be searched (${found.reason}).`)
+  const r = found.best.matrix, [cx, cy, cz] = support.centre
+  for (let i = 0; i < count; i++) {
+    const x = xyz[3 * i]! - cx, y = xyz[3 * i + 1]! - cy, z = xyz[3 * i + 2]! - cz
+    silhouette[2 * i] = r[0] * x + r[1] * y + r[2] * z + cx
+    silhouette[2 * i + 1] = r[3] * x + r[4] * y + r[5] * z + cy
+  }
+  return {
+    result: { words: found.words, turn: round(found.best.turn), tip: round(found.best.tip), spin: round(found.best.spin), matrix: found.best.matrix.map((x) => Math.round(x * 1e9) / 1e9), asItStands: found.asItStands },
+  }
+}
 
 class Stop extends Error {
   constructor(
@@ -379,6 +458,27 @@ const OPENING_METHOD =
 interface OpeningOutcome {
   opening: FreeOpening
   result: NonNullable<SectionResult['opening']>
+  /** The opening's lower edge (section v, metres: fitted, or the grid's), and whether it is a floor. */
+  bottom: number
+  floor: boolean
+}
+
+/**
+ * Is the opening's lower edge a floor (the object can rest on it and roll through) rather than a sill? A sill
+ * has wall below it: section points more than 0.1 m under the edge within the opening's width; a floor has
+ * none (nothing is scanned below a floor's surface). Common practice, no source; 1 % of the points allowed
+ * for strays.
+ */
+function isFloor(uv: Float64Array, o: FreeOpening, bottom: number, spacing: number): boolean {
+  const below = bottom - Math.max(0.1, 5 * spacing)
+  let under = 0, total = 0
+  for (let i = 0; i < uv.length; i += 2) {
+    const u = uv[i]!, v = uv[i + 1]!
+    if (u < o.extents.uMin || u > o.extents.uMax) continue
+    total++
+    if (v < below) under++
+  }
+  return under <= Math.max(2, 0.01 * total)
 }
 
 /** Stops a check whose marker moved on while a computation ran (latest wins). */
@@ -419,8 +519,11 @@ async function openingOf(sec: SectionComputation, ctx: CheckContext): Promise<Op
   ]
   const uw = combineInQuadrature(widthParts), uh = combineInQuadrature(heightParts)
   const parts = widthParts
+  const bottom = fittedEdges.ok ? fittedEdges.edges.bottom : found.extents.vMin - found.radius
   return {
     opening: found,
+    bottom,
+    floor: isFloor(sec.uv, found, bottom, sec.spacing),
     result: {
       seed: [round(sec.seedUv[0]), round(sec.seedUv[1])],
       outline: ring(found.outline),
@@ -523,15 +626,32 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
     silhouette[2 * i + 1] = sec.frame.v[0] * qx + sec.frame.v[1] * qy + sec.frame.v[2] * qz
   }
   const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
+  // How it moves: resting on the floor (default when the lower edge is one), on a trolley, or carried.
+  const carriageMode = params.carriage?.mode ?? (opening.floor ? 'floor' : 'carried')
+  if (carriageMode !== 'carried' && !opening.floor) throw new Stop('invalid-geometry', "the opening's lower edge is a sill, not a floor (there is wall below it): the object cannot rest on it. Choose carried, or a section through a door.")
+  const restOn = carriageMode === 'floor' ? opening.bottom : carriageMode === 'trolley' ? opening.bottom + (params.carriage as { height: number }).height : null
+  // Turning and tipping by the object's own up (shared/measure/orientation.ts), travel straight through.
+  let turned: Awaited<ReturnType<typeof orientObject>> | null = null
+  if (params.orientation && params.orientation.mode !== 'as-it-stands') {
+    if (Math.abs(cos) < 0.999) throw new Stop('invalid-geometry', 'turning and tipping are searched for travel straight through the opening: leave the direction of travel unset, or keep the object as it stands.')
+    turned = await orientObject(local, object.matrix, sec, dir, opening.opening, params.orientation, restOn ?? undefined, silhouette)
+    stillWanted(ctx)
+  }
   // The object's outline fitted to its points (shared/measure/edges.ts), placed by the fit, and the margin
   // measured to the opening's fitted surfaces.
   const outline = await compute.fittedOutline(silhouette, objectScan.pointUncertainty ?? 0, objectScan.spacing ?? sec.spacing)
   stillWanted(ctx)
   if (!outline.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${outline.reason}).`)
-  const fit = await compute.fitThrough(opening.opening, outline.xy, requiredMargin, 0, params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees })
-  if (!fit.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${fit.reason}).`)
+  const fitOptions = {
+    ...(turned ? { maxTurnDegrees: 0 } : params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees }),
+    ...(restOn === null ? {} : { restOn }),
+  }
+  const fit = await compute.fitThrough(opening.opening, outline.xy, requiredMargin, 0, fitOptions)
+  if (!fit.ok) throw new Stop('invalid-geometry', fit.reason === 'rest-level-outside' ? 'the object resting at that height does not reach into the opening (the trolley is higher than the opening).' : `the object's silhouette cannot be fitted (${fit.reason}).`)
   stillWanted(ctx)
-  const fitted = fit.margin > 0 ? await compute.fittedMargin(opening.opening, fit.placed, sec.pointUncertainty) : null
+  // Resting: the floor under it is no gap to measure (its points are left out) and it only slides across.
+  const marginOpening = restOn === null ? opening.opening : { ...opening.opening, points: pointsAbove(opening.opening.points, restOn + 2 * sec.spacing) }
+  const fitted = fit.margin > 0 ? await compute.fittedMargin(marginOpening, fit.placed, sec.pointUncertainty, 24, { keepHeight: restOn !== null }) : null
   // Margin uncertainty: the edge fits on both sides, both registrations; an overlap (negative margin) is
   // measured on the grid, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
   const parts: CheckPart[] = [
@@ -561,7 +681,9 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
     silhouette: ring(fit.placed),
     objectPointCount: count,
     resolution: fit.resolution,
-    assumptions: CLEARANCE_ASSUMPTIONS,
+    assumptions: clearanceAssumptions(params, carriageMode, restOn === null ? null : restOn - opening.bottom),
+    carriage: { mode: carriageMode, restOn: restOn === null ? null : round(restOn), floorFound: opening.floor },
+    orientation: turned && params.orientation ? { mode: params.orientation.mode, ...turned.result } : null,
   }
   return {
     ...base,

@@ -340,7 +340,7 @@ export interface FittedMargin {
  * for the outline's samples nearest the section points (within `nearWithin` of the closest), the opening's
  * surface is fitted across the gap (see the header) and the smallest gap is the margin.
  */
-export function fittedMargin(o: FreeOpening, placed: Float64Array, sigma: number, maxContacts = 24): FittedMargin | { ok: false; reason: 'no-contact' } {
+export function fittedMargin(o: FreeOpening, placed: Float64Array, sigma: number, maxContacts = 24, options: { keepHeight?: boolean } = {}): FittedMargin | { ok: false; reason: 'no-contact' } {
   const cell = o.grid.cell, pts = o.points, np = pts.length >> 1
   const samples: number[] = []
   const n = placed.length >> 1
@@ -389,7 +389,8 @@ export function fittedMargin(o: FreeOpening, placed: Float64Array, sigma: number
   for (let level = 0, span = reach; level < 3; level++, span /= 20) {
     const ox = cx, oy = cy
     for (let a = -steps; a <= steps; a++) {
-      for (let b = -steps; b <= steps; b++) {
+      // Resting on a level (keepHeight): the object may only slide across, not up or down.
+      for (let b = options.keepHeight ? 0 : -steps; b <= (options.keepHeight ? 0 : steps); b++) {
         const dx = ox + (a / steps) * span, dy = oy + (b / steps) * span
         let low = Infinity, lu = 0
         for (const f of found) {

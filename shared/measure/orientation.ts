@@ -1,3 +1,5 @@
+import { fitResolution, fitThrough } from './clearance'
+import type { FreeOpening } from './opening'
 import { convexHull } from './polygon'
 
 /**
@@ -409,4 +411,22 @@ export function describeOrientation(m: Mat3, axes: PassageAxes): string {
   const onto = down === 'side' ? 'a side' : `its ${down}`
   if (Math.abs(tip - 90) < 1) return down === 'side' ? `laid on a side, ${leading}` : `tipped onto ${onto}, ${leading}`
   return `tipped ${Math.round(tip)} degrees towards ${onto}, ${leading}`
+}
+
+/**
+ * The search through one opening, as a check runs it: the margin of each orientation is the clearance fit
+ * (clearance.ts `fitThrough`) at that orientation without an in-plane turn, resting on `restOn` when given;
+ * the bound comes from the free region's extents plus the fit's grid resolution. `points`: the object's
+ * support points about their centre (`supportPoints`), passage frame.
+ */
+export function searchPassage(opening: FreeOpening, points: Float64Array, up: Vec3, limits: OrientationLimits, restOn?: number): OrientationResult {
+  const fitOptions = { maxTurnDegrees: 0, ...(restOn !== undefined ? { restOn } : {}) }
+  const margin = (s: Float64Array) => {
+    const f = fitThrough(opening, s, 0, 0, fitOptions)
+    return f.ok ? f.margin : -Infinity
+  }
+  const e = opening.extents
+  const pad = 2 * opening.radius + opening.grid.cell
+  const bound = boxBound(e.uMax - e.uMin + pad, e.vMax - e.vMin + pad, restOn !== undefined, fitResolution(opening))
+  return searchOrientations(points, up, limits, margin, bound)
 }

@@ -257,6 +257,45 @@ describe('clearances', () => {
     expect(Math.abs(c.margin - 0.05)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
   })
 
+  it('turns the box about the vertical to pass the 0.9 m doorway upright, resting on its floor, and says how (derived)', async () => {
+    // Box 1.0 (across) x 0.6 (along travel) x 0.8 m (up); doorway 0.9 x 2.1 m with a floor. As it stands it is
+    // 1.0 m wide: (0.9 - 1.0) / 2 = -0.05. Turned 90 degrees about the vertical it is 0.6 m wide: the sides
+    // give (0.9 - 0.6) / 2 = 0.15, the head, resting on the floor, 2.1 - 0.8 = 1.3: the margin is 0.15.
+    const m = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: medium.id, orientation: { mode: 'upright' } } })
+    expect(m.check.state, m.check.reason ?? '').toBe('checked')
+    const c = m.check.clearance!
+    expect(c.carriage).toEqual({ mode: 'floor', restOn: expect.any(Number), floorFound: true })
+    // Resting on the floor: z = 0, one metre below the section's origin (its anchors are at z = 1).
+    expect(Math.abs(c.carriage!.restOn! - -1)).toBeLessThan(0.01)
+    expect(c.orientation!.words).toBe('turned 90 degrees, a side leading')
+    expect(Math.abs(c.orientation!.asItStands - -0.05)).toBeLessThanOrEqual(0.02)
+    expect(Math.abs(c.margin - 0.15)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
+    expect(c.outcome).toBe('passes')
+    expect(c.assumptions.join(' ')).toMatch(/stays upright and may be turned about the vertical/)
+    expect(c.assumptions.join(' ')).toMatch(/rests on the opening's floor/)
+  })
+
+  it('lifts the box on a trolley until its head no longer clears, and carries it when asked (derived)', async () => {
+    // Doorway 1.4 x 2.1 m. On a 1.5 m trolley the 0.8 m box reaches 2.3 m > 2.1 m: it cannot pass.
+    const high = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, carriage: { mode: 'trolley', height: 1.5 }, maxTurnDegrees: 0 } })
+    expect(high.check.clearance!.carriage!.mode).toBe('trolley')
+    expect(high.check.clearance!.outcome).toBe('does-not-pass')
+    expect(high.check.clearance!.assumptions.join(' ')).toMatch(/trolley or skates 1.500 m high/)
+    const carried = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, carriage: { mode: 'carried' }, maxTurnDegrees: 0 } })
+    // Carried, centred, as it stands: min((1.4 - 1.0) / 2, (2.1 - 0.8) / 2) = 0.2.
+    expect(Math.abs(carried.check.clearance!.margin - 0.2)).toBeLessThanOrEqual(carried.check.expandedUncertainty! + 0.005)
+    expect(carried.check.clearance!.carriage).toEqual({ mode: 'carried', restOn: null, floorFound: true })
+  })
+
+  it('names the field of a bad turning or carriage setting', async () => {
+    const bad = async (params: object) => (await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, ...params } }).expect(400)).body.error.message as string
+    expect(await bad({ orientation: { mode: 'tipped' } })).toMatch(/orientation\.maxTipDegrees: is required when the object may be tipped/)
+    expect(await bad({ orientation: { mode: 'sideways' } })).toMatch(/orientation\.mode: must be one of as-it-stands, upright, tipped, any/)
+    expect(await bad({ orientation: { mode: 'upright' }, maxTurnDegrees: 10 })).toMatch(/maxTurnDegrees: give either/)
+    expect(await bad({ carriage: { mode: 'trolley' } })).toMatch(/carriage\.height/)
+    expect(await bad({ carriage: { mode: 'trolley', height: 9 } })).toMatch(/carriage\.height: must be at most 3 m/)
+  })
+
   it('is too close to call when the required margin lies within the uncertainty', async () => {
     const c = (await clearance('box', wide, 0.3)).check.clearance!
     expect(c.outcome).toBe('too-close-to-call')

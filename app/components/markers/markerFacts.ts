@@ -16,6 +16,8 @@ export interface Fact {
 
 const PM = '\u00b1'
 
+const CARRIAGE_WORDS = { floor: 'resting on the floor', trolley: 'on a trolley or skates', carried: 'carried, free in the opening' } as const
+
 function withU(value: number, expanded: number | null, unit: LengthUnit): string {
   return expanded === null ? formatLength(value, unit) : `${formatLength(value, unit)} ${PM} ${formatUncertainty(expanded, unit)}`
 }
@@ -73,7 +75,13 @@ export function clearanceFacts(marker: Marker, markers: readonly Marker[], insta
   out.push(
     { term: 'smallest margin', text: withU(c.margin, marker.check.expandedUncertainty, unit) },
     { term: 'required margin', text: formatLength(c.requiredMargin, unit) },
-    { term: 'best turn in the plane', text: formatDegrees(c.rotationDegrees, 1) },
+    ...(c.orientation
+      ? [
+          { term: 'best way through', text: c.orientation.words },
+          { term: 'as it stands', text: `${formatLength(c.orientation.asItStands, unit)} (the search's grid value)` },
+        ]
+      : [{ term: 'best turn in the plane', text: formatDegrees(c.rotationDegrees, 1) }]),
+    ...(c.carriage ? [{ term: 'moved', text: CARRIAGE_WORDS[c.carriage.mode] + (c.carriage.mode === 'floor' || c.carriage.floorFound ? '' : ' (no floor found under the opening)') }] : []),
     { term: 'where (object)', text: uv(c.nearest.silhouettePoint, unit) },
     { term: 'where (opening)', text: uv(c.nearest.boundaryPoint, unit) },
     { term: 'object points', text: formatCount(c.objectPointCount) },

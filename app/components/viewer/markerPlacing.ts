@@ -3,7 +3,7 @@
  * clicks make, and the live preview value. Pure functions (no Vue, no three.js), so they are unit-tested.
  * Points are in the scene frame (metres, Z up) as the viewer picks them.
  */
-import type { Anchor, MarkerCreateBody } from '@shared/schemas'
+import type { Anchor, ClearanceParams, MarkerCreateBody } from '@shared/schemas'
 import { measureAngle } from '@shared/measure/angle'
 import { measureDistance } from '@shared/measure/distance'
 import { formatWithUncertainty, type LengthUnit } from '@shared/format/units'
@@ -120,14 +120,20 @@ export interface ClearanceOptions {
   sectionMarkerId: string
   /** Metres; omitted: the project's required margin. */
   requiredMargin?: number
+  /** How it moves; omitted: on the floor when the opening has one, else carried. */
+  carriage?: ClearanceParams['carriage']
+  /** How it may be turned or tipped; omitted: any turn in the opening's plane. */
+  orientation?: ClearanceParams['orientation']
 }
 
 export function clearanceBody(options: ClearanceOptions): MarkerCreateBody {
-  const params: { objectInstanceId: string; sectionMarkerId: string; requiredMargin?: number } = {
+  const params: ClearanceParams = {
     objectInstanceId: options.objectInstanceId,
     sectionMarkerId: options.sectionMarkerId,
   }
   if (options.requiredMargin !== undefined) params.requiredMargin = options.requiredMargin
+  if (options.carriage) params.carriage = options.carriage
+  if (options.orientation) params.orientation = options.orientation
   return { kind: 'clearance', anchors: [], params }
 }
 
