@@ -34,6 +34,7 @@ export const UNCERTAINTY_SOURCES: Record<UncertaintySource, string> = {
 const DROP_REASONS: Record<string, string> = {
   tooFewSamples: 'with too few valid range samples',
   beyondRatedRange: 'beyond the rated range',
+  notANumber: 'without a return (NaN coordinates)',
 }
 
 export interface DroppedReason {
