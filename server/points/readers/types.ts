@@ -45,14 +45,14 @@ export interface ReaderOptions {
   byteLength?: number
   /** A header declaring more points than this fails at once. Default 2e9. */
   maxPoints?: number
-  /** LAZ is decompressed whole in memory: files larger than this are refused. Default 256 MiB. */
+  /** The compressed LAZ file is held whole in memory while decoded: files larger than this are refused. Default 256 MiB. */
   maxLazBytes?: number
   /**
    * PCD `DATA binary_compressed` is one LZF block, unpacked whole in memory: a block declaring more unpacked
    * bytes than this is refused before anything is allocated. Default 64 MiB.
    */
   maxPcdUnpackedBytes?: number
-  /** LAZ files declaring more points than this are refused (the decoder allocates for all). Default 25 M. */
+  /** LAZ files declaring more points than this are refused. Default: no cap beyond `maxPoints` (decoded a batch at a time). */
   maxLazPoints?: number
 }
 

@@ -188,10 +188,40 @@ describe('crate fixtures (tests/fixtures)', () => {
     expect(laz.summary.bounds).toEqual(las.summary.bounds)
   })
 
+  it('crate.laz decodes a batch at a time (1000 points a batch) to the same points as crate.las', async () => {
+    const las = await readAll(fixture('crate.las'), 'las')
+    const { createReader } = await import('../../../server/points/readers/index')
+    const sizes: number[] = []
+    const positions: number[] = []
+    const reader = createReader('laz', {
+      batchSize: 1000,
+      reuseBuffers: true,
+      onBatch: (b) => {
+        sizes.push(b.count)
+        positions.push(...b.positions)
+      },
+    })
+    reader.push(fixture('crate.laz'))
+    const summary = await reader.end()
+    expect(sizes).toEqual([1000, 1000, 1000, 1000, 1000, 220])
+    expect(summary.pointCount).toBe(5220)
+    expect(positions).toEqual(Array.from(las.positions))
+  })
+
+  it('a damaged LAZ fails with the decoder\'s own words, and the next LAZ still decodes', async () => {
+    const damaged = new Uint8Array(fixture('crate.laz'))
+    const { offsetToPoints } = (await readAll(fixture('crate.laz'), 'laz')).header as LasHeaderInfo
+    for (let i = offsetToPoints + 60; i < offsetToPoints + 400; i++) damaged[i] = (i * 131) & 255
+    await expect(readAll(damaged, 'laz')).rejects.toThrow(
+      new RegExp(`^byte ${offsetToPoints}: the compressed points could not be decoded: the LAZ data is damaged \\(it stopped after \\d+ of 5220 points; the decoder said: `),
+    )
+    expect((await readAll(fixture('crate.laz'), 'laz')).count).toBe(5220)
+  })
+
   it('LAZ above the size cap is refused with a message, before decoding', async () => {
     const bytes = fixture('crate.laz')
     await expect(readAll(bytes, 'laz', { maxLazBytes: 10_000 })).rejects.toThrow(
-      /LAZ files are decompressed whole in memory and this one is larger than the 10000-byte limit/,
+      /LAZ files are held whole in memory while decoded and this one is larger than the 10000-byte limit/,
     )
     await expect(readAll(bytes, 'laz', { maxLazPoints: 5000 })).rejects.toThrow(
       "header field 'number of point records': 5220 points, more than the 5000 a LAZ file may hold here",
