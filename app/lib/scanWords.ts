@@ -15,7 +15,7 @@ export const FORMAT_LABELS: Record<ScanFormat, string> = {
 export const ACCEPTED_FORMATS: readonly { label: string; extensions: string; note: string }[] = [
   { label: 'PLY', extensions: '.ply', note: 'ASCII, binary little or big endian' },
   { label: 'XYZ text', extensions: '.xyz .csv .txt', note: 'x y z, with or without colour and intensity columns' },
-  { label: 'PCD', extensions: '.pcd', note: 'ASCII or binary' },
+  { label: 'PCD', extensions: '.pcd', note: 'ASCII, binary or binary compressed' },
   { label: 'LAS', extensions: '.las', note: 'LAS 1.2 to 1.4' },
   { label: 'LAZ', extensions: '.laz', note: 'compressed LAS' },
   { label: 'station log', extensions: '.log', note: 'pan, tilt and range readings from a scanning head' },
