@@ -34,7 +34,7 @@ import { decompress as lzfDecompress } from 'lzfjs'
  * pixel without a return) is dropped and counted as `notANumber`; what follows the block is ignored.
  */
 
-export const DEFAULT_MAX_PCD_UNPACKED_BYTES = 64 * 1024 * 1024
+export const DEFAULT_MAX_PCD_UNPACKED_BYTES = 32 * 1024 * 1024
 
 const MAX_HEADER = 1 << 16
 const KEYS = ['VERSION', 'FIELDS', 'SIZE', 'TYPE', 'COUNT', 'WIDTH', 'HEIGHT', 'VIEWPOINT', 'POINTS', 'DATA']

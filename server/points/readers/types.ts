@@ -49,7 +49,7 @@ export interface ReaderOptions {
   maxLazBytes?: number
   /**
    * PCD `DATA binary_compressed` is one LZF block, unpacked whole in memory: a block declaring more unpacked
-   * bytes than this is refused before anything is allocated. Default 64 MiB.
+   * bytes than this is refused before anything is allocated. Default 32 MiB.
    */
   maxPcdUnpackedBytes?: number
   /** LAZ files declaring more points than this are refused. Default: no cap beyond `maxPoints` (decoded a batch at a time). */
