@@ -56,14 +56,15 @@ export class LazRecords {
   /** The decoder copies `file` into its own memory: the caller may drop its copy afterwards. */
   static async open(file: Uint8Array): Promise<LazRecords> {
     const glue = await loadGlue()
-    return new LazRecords(new glue.WasmLasZipDecompressor(file))
+    return new LazRecords(withPanicText(() => new glue.WasmLasZipDecompressor(file)))
   }
 
   /** Fills `out` (a whole number of records) with the next records. */
   next(out: Uint8Array): void {
-    if (!this.decompressor) throw new Error('the LAZ decoder is closed')
+    const decompressor = this.decompressor
+    if (!decompressor) throw new Error('the LAZ decoder is closed')
     try {
-      this.decompressor.decompress_many(out)
+      withPanicText(() => decompressor.decompress_many(out))
     } catch (error) {
       // A trap leaves the object borrowed for good: drop it without free() (which would throw).
       this.decompressor = null
@@ -75,5 +76,28 @@ export class LazRecords {
     const decompressor = this.decompressor
     this.decompressor = null
     decompressor?.free()
+  }
+}
+
+/**
+ * laz-rs reports a panic through console.error (its panic hook) and then traps with a bare "unreachable":
+ * while it runs, console.error is collected, and a trap is rethrown with the panic's own message (the
+ * file path of the panic's source line left out). The call is synchronous, so nothing else logs meanwhile.
+ */
+export function withPanicText<T>(call: () => T): T {
+  const said: string[] = []
+  const original = console.error
+  console.error = (...args: unknown[]) => {
+    said.push(args.map(String).join(' '))
+  }
+  try {
+    return call()
+  } catch (error) {
+    const text = said.join('\n').trim()
+    if (text === '') throw error
+    const lines = text.split('\n').map((l) => l.trim()).filter((l) => l !== '' && !/^panicked at /.test(l))
+    throw new Error(lines.join(' ') || text, { cause: error })
+  } finally {
+    console.error = original
   }
 }

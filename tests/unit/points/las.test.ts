@@ -218,6 +218,17 @@ describe('crate fixtures (tests/fixtures)', () => {
     expect((await readAll(fixture('crate.laz'), 'laz')).count).toBe(5220)
   })
 
+  it("a decoder panic (console.error, then a wasm trap) is reported in the panic's own words", async () => {
+    const { withPanicText } = await import('../../../server/points/readers/lazDecoder')
+    const trap = () => {
+      console.error('panicked at /somewhere/src/laszip.rs:12:5:\nthe chunk table is missing')
+      throw new WebAssembly.RuntimeError('unreachable')
+    }
+    expect(() => withPanicText(trap)).toThrow(/^the chunk table is missing$/)
+    expect(() => withPanicText(() => { throw new Error('plain') })).toThrow(/^plain$/)
+    expect(withPanicText(() => 7)).toBe(7)
+  })
+
   it('LAZ above the size cap is refused with a message, before decoding', async () => {
     const bytes = fixture('crate.laz')
     await expect(readAll(bytes, 'laz', { maxLazBytes: 10_000 })).rejects.toThrow(
