@@ -15,7 +15,7 @@ export const FORMAT_LABELS: Record<ScanFormat, string> = {
 export const ACCEPTED_FORMATS: readonly { label: string; extensions: string; note: string }[] = [
   { label: 'PLY', extensions: '.ply', note: 'ASCII, binary little or big endian' },
   { label: 'XYZ text', extensions: '.xyz .csv .txt', note: 'x y z, with or without colour and intensity columns' },
-  { label: 'PCD', extensions: '.pcd', note: 'ASCII or binary' },
+  { label: 'PCD', extensions: '.pcd', note: 'ASCII, binary or binary compressed' },
   { label: 'LAS', extensions: '.las', note: 'LAS 1.2 to 1.4' },
   { label: 'LAZ', extensions: '.laz', note: 'compressed LAS' },
   { label: 'station log', extensions: '.log', note: 'pan, tilt and range readings from a scanning head' },
@@ -34,6 +34,7 @@ export const UNCERTAINTY_SOURCES: Record<UncertaintySource, string> = {
 const DROP_REASONS: Record<string, string> = {
   tooFewSamples: 'with too few valid range samples',
   beyondRatedRange: 'beyond the rated range',
+  notANumber: 'without a return (NaN coordinates)',
 }
 
 export interface DroppedReason {

@@ -159,7 +159,7 @@ export async function ingestScan(deps: IngestDeps, scanId: string): Promise<'don
       // Sized once from the header (growing to 10 M points costs twice the memory and time), but never
       // beyond one point per byte of the file, so a lying header cannot allocate billions.
       const declared = reader!.header?.declaredPointCount
-      // A header over the limit fails before anything is sized from it (LAZ: before it is decompressed).
+      // A header over the limit fails before anything is sized from it (LAZ: before it is decoded).
       if (declared && declared > pointLimit) throw new PointLimitError(pointLimitMessage(pointLimit, declared, format, limitSource))
       if (!reserved && declared) {
         buffer.reserve(Math.min(declared, size, pointLimit))

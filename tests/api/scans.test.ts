@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { readAll } from '../../server/points/readers'
 import { sampleE57 } from '../unit/points/lib/e57Samples'
 import { writeE57 } from '../unit/points/lib/e57Writer'
+import { writeCompressedPcd } from '../unit/points/lib/pcdCompressed'
 import { waitForScan, upload } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
@@ -68,6 +69,39 @@ describe('uploads', () => {
       expect(scan.bounds!.min[axis]).toBeCloseTo(Math.min(...expected.map((e) => e.world[axis]!)), 9)
       expect(scan.bounds!.max[axis]).toBeCloseTo(Math.max(...expected.map((e) => e.world[axis]!)), 9)
     }
+  })
+
+  // PCD binary_compressed as PCL lays it out (tests/unit/points/lib/pcdCompressed.ts): an organised 40 x 30
+  // cloud whose every seventh pixel is NaN (no return); expected figures from the inputs in float32.
+  it('reads an organised binary_compressed PCD with capital X Y Z: the returns kept, the NaN pixels counted', async () => {
+    const xs: number[] = []
+    const ys: number[] = []
+    const zs: number[] = []
+    const kept: number[][] = []
+    for (let i = 0; i < 1200; i++) {
+      const p = i % 7 === 2 ? [NaN, NaN, NaN] : [(i % 40) * 0.01, 0 - Math.floor(i / 40) * 0.02, 1.25 + (i % 13) * 0.001]
+      xs.push(p[0]!), ys.push(p[1]!), zs.push(p[2]!)
+      if (!Number.isNaN(p[0]!)) kept.push(p.map(Math.fround))
+    }
+    const bytes = writeCompressedPcd({
+      width: 40,
+      height: 30,
+      columns: [
+        { name: 'X', type: 'F', size: 4, values: xs },
+        { name: 'Y', type: 'F', size: 4, values: ys },
+        { name: 'Z', type: 'F', size: 4, values: zs },
+      ],
+    })
+    const res = await upload(owner.agent, projectId, bytes, 'shelf frame.pcd').expect(202)
+    const { scan } = await waitForScan(owner.agent, res.body.scan.id)
+    expect(scan.status, scan.error ?? '').toBe('ready')
+    expect(scan.format).toBe('pcd')
+    expect(scan.pointCount).toBe(kept.length)
+    expect(scan.dropped).toEqual({ notANumber: 1200 - kept.length })
+    expect(scan.bounds).toEqual({
+      min: [0, 1, 2].map((a) => Math.min(...kept.map((p) => p[a]!))),
+      max: [0, 1, 2].map((a) => Math.max(...kept.map((p) => p[a]!))),
+    })
   })
 
   it('makes a scan per station of a three-scan E57 and, in one step, a scene with each placed at its pose', async () => {

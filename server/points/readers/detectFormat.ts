@@ -65,6 +65,14 @@ export function detectFormat(firstBytes: Uint8Array, fileName: string): ScanForm
   return content
 }
 
+/** The line 'ply', which writers may follow with spaces or tabs before its line end. */
+function isPlyMagic(bytes: Uint8Array): boolean {
+  if (!startsWith(bytes, 'ply')) return false
+  let at = 3
+  while (at < bytes.length && (bytes[at] === 32 || bytes[at] === 9)) at++
+  return at === bytes.length || bytes[at] === 10 || bytes[at] === 13
+}
+
 function startsWith(bytes: Uint8Array, text: string, at = 0): boolean {
   if (bytes.length < at + text.length) return false
   for (let i = 0; i < text.length; i++) if (bytes[at + i] !== text.charCodeAt(i)) return false
@@ -72,7 +80,7 @@ function startsWith(bytes: Uint8Array, text: string, at = 0): boolean {
 }
 
 function sniff(bytes: Uint8Array, expected: readonly Content[] | undefined): Content {
-  if (startsWith(bytes, 'ply') && (bytes.length === 3 || bytes[3] === 10 || bytes[3] === 13)) return 'ply'
+  if (isPlyMagic(bytes)) return 'ply'
   if (startsWith(bytes, 'LASF')) {
     if (bytes.length > 104) return ((bytes[104] as number) & 0xc0) !== 0 ? 'laz' : 'las'
     return expected?.[0] === 'laz' ? 'laz' : 'las'

@@ -22,9 +22,16 @@ export const LAS_POINT_FORMATS: Record<number, { core: number; color: number }> 
   1: { core: 28, color: -1 },
   2: { core: 26, color: 20 },
   3: { core: 34, color: 28 },
+  // 4, 5, 9 and 10 are 1, 3, 6 and 8 followed by 29 bytes of waveform packet fields (wave packet
+  // descriptor index u8, byte offset u64, packet size u32, return point location f32, Xt Yt Zt f32),
+  // which are not read: 57, 63, 59 and 67 bytes (LAS 1.4 R15, Tables 11, 12, 16, 17).
+  4: { core: 57, color: -1 },
+  5: { core: 63, color: 28 },
   6: { core: 30, color: -1 },
   7: { core: 36, color: 30 },
   8: { core: 38, color: 30 },
+  9: { core: 59, color: -1 },
+  10: { core: 67, color: 30 },
 }
 
 /** The header size field, once 96 bytes are there. */
@@ -69,7 +76,12 @@ export function parseLasHeader(bytes: Uint8Array, expectCompressed: boolean): La
   }
   const layout = LAS_POINT_FORMATS[pointFormat]
   if (!layout) {
-    throw errorInHeader(`point format ${pointFormat} is not read (formats 0-3 and 6-8 are)`, { field: 'point data format' })
+    throw errorInHeader(`point format ${pointFormat} is not read (formats 0-10 are)`, { field: 'point data format' })
+  }
+  if ((pointFormat === 4 || pointFormat === 5) && versionMinor < 3) {
+    throw errorInHeader(`point format ${pointFormat} needs LAS 1.3 or later, the file says 1.${versionMinor}`, {
+      field: 'point data format',
+    })
   }
   if (pointFormat >= 6 && versionMinor < 4) {
     throw errorInHeader(`point format ${pointFormat} needs LAS 1.4, the file says 1.${versionMinor}`, {

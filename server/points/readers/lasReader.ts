@@ -6,7 +6,7 @@ import { lasColors, lasCoordinates } from './recordLoops'
 import type { LasHeaderInfo, ReaderOptions } from './types'
 
 /**
- * Uncompressed LAS 1.0-1.4, point formats 0-3 and 6-8 (ASPRS LAS 1.4 R15). Streams the records straight
+ * Uncompressed LAS 1.0-1.4, point formats 0-10 (ASPRS LAS 1.4 R15). Streams the records straight
  * from the chunks: X = X_record * scale + offset in double precision, intensity as the raw u16, RGB
  * (formats 2, 3, 7, 8; 16-bit by the specification) keeps its high byte. VLRs are skipped; EVLRs
  * (1.4) and waveform data after the points are allowed, other bytes after the last record are not.

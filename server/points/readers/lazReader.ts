@@ -1,16 +1,18 @@
 import { ScanFormatError, errorAtByte, errorInHeader } from './errors'
-import { LAS_MIN_HEADER, lasHeaderSize, parseLasHeader } from './lasHeader'
-import type { DecodedLaz } from './lazDecoder'
+import { LAS_MIN_HEADER, LAS_POINT_FORMATS, lasHeaderSize, parseLasHeader } from './lasHeader'
+import type { LazRecords } from './lazDecoder'
 import { ReaderBase } from './readerBase'
+import { lasColors, lasCoordinates } from './recordLoops'
 import type { LasHeaderInfo, ReaderOptions } from './types'
 
 export const DEFAULT_MAX_LAZ_BYTES = 256 * 1024 * 1024
-export const DEFAULT_MAX_LAZ_POINTS = 25_000_000
+/** No cap of its own since the points are decoded a batch at a time (the reader's maxPoints still holds). */
+export const DEFAULT_MAX_LAZ_POINTS = Number.POSITIVE_INFINITY
 
 /**
- * LAZ: the chunks are collected (up to a size cap), the header is checked as soon as it is in, and the
- * whole file is decompressed at end() by @loaders.gl/las (see lazDecoder.ts). The decoded points are
- * then handed out in batches like every other reader's.
+ * LAZ: the compressed file is collected (up to a size cap), the header is checked as soon as it is in,
+ * and at end() laz-rs (lazDecoder.ts) decompresses it a batch of records at a time, each batch decoded
+ * like LAS records (formats 0-10) and handed out: the decoded points are never all in memory.
  */
 export class LazReader extends ReaderBase {
   readonly format = 'laz' as const
@@ -68,50 +70,44 @@ export class LazReader extends ReaderBase {
         ? (this.buffer.buffer as ArrayBuffer)
         : (this.buffer.buffer.slice(this.buffer.byteOffset, this.buffer.byteOffset + this.length) as ArrayBuffer)
     this.buffer = new Uint8Array(0)
-    let decoded: DecodedLaz
+    let records: LazRecords
+    let done = 0
+    const damaged = (error: unknown): unknown => {
+      if (error instanceof ScanFormatError || this.sink?.inCallback) return error
+      const detail = error instanceof Error ? error.message : String(error)
+      return errorAtByte(
+        header.offsetToPoints,
+        `the compressed points could not be decoded: the LAZ data is damaged (it stopped after ${done} of ${header.pointCount} points; the decoder said: ${detail})`,
+      )
+    }
     try {
       // Loaded on first use: servers that never see a LAZ file never load the decoder.
-      const { decodeLaz } = await import('./lazDecoder')
-      decoded = await decodeLaz(file)
+      const { LazRecords } = await import('./lazDecoder')
+      records = await LazRecords.open(new Uint8Array(file))
     } catch (error) {
-      if (error instanceof ScanFormatError) throw error
-      const detail = error instanceof Error ? error.message : String(error)
-      throw errorAtByte(
-        header.offsetToPoints,
-        `the compressed points could not be decoded: the LAZ data is damaged (the decoder said: ${detail})`,
-      )
+      throw damaged(error)
     }
-    if (decoded.count !== header.pointCount) {
-      throw errorAtByte(
-        header.offsetToPoints,
-        `the decoder found ${decoded.count} points, the header declares ${header.pointCount}`,
-      )
-    }
-    this.emit(decoded)
-  }
-
-  private emit(decoded: DecodedLaz): void {
-    const sink = this.sink!
-    let done = 0
-    while (done < decoded.count) {
-      const n = Math.min(sink.room, decoded.count - done)
-      sink.positions.set(decoded.positions.subarray(done * 3, (done + n) * 3), sink.count * 3)
-      if (sink.colors && decoded.colors) {
-        const c = sink.colors
-        const source = decoded.colors
-        for (let i = 0, w = sink.count * 3, r = done * 4; i < n; i++, w += 3, r += 4) {
-          c[w] = source[r] as number
-          c[w + 1] = source[r + 1] as number
-          c[w + 2] = source[r + 2] as number
+    try {
+      const sink = this.sink!
+      const stride = header.recordLength
+      const color = (LAS_POINT_FORMATS[header.pointFormat] as { color: number }).color
+      const out = new Uint8Array(Math.min(sink.room || 1, header.pointCount) * stride)
+      const view = new DataView(out.buffer)
+      while (done < header.pointCount) {
+        const n = Math.min(sink.room, header.pointCount - done)
+        const part = n * stride === out.length ? out : out.subarray(0, n * stride)
+        try {
+          records.next(part)
+        } catch (error) {
+          throw damaged(error)
         }
+        lasCoordinates(view, 0, stride, n, header.scale, header.offset, sink.positions, sink.count * 3, sink.intensities!, sink.count)
+        if (color >= 0) lasColors(view, 0, stride, n, color, sink.colors!, sink.count * 3)
+        done += n
+        sink.commit(n)
       }
-      if (sink.intensities && decoded.intensities) {
-        const values = sink.intensities
-        const source = decoded.intensities
-        for (let i = 0, w = sink.count, r = done; i < n; i++) values[w + i] = source[r + i] as number
-      }
-      sink.commit(n)
-      done += n
+    } finally {
+      records.close()
     }
   }
 
@@ -131,16 +127,15 @@ export class LazReader extends ReaderBase {
     const header = parseLasHeader(this.buffer.subarray(0, this.length), true)
     const limit = Math.min(this.maxPoints, this.maxLazPoints)
     if (header.pointCount > limit) {
-      throw errorInHeader(
-        `${header.pointCount} points, more than the ${limit} a LAZ file may hold here (it is decompressed whole in memory)`,
-        { field: 'number of point records' },
-      )
+      throw errorInHeader(`${header.pointCount} points, more than the ${limit} a LAZ file may hold here`, {
+        field: 'number of point records',
+      })
     }
     if (header.pointCount === 0) {
       throw errorInHeader('0, so the file holds no points', { field: 'number of point records' })
     }
     this.header = header
-    const colored = header.hasColor
+    const colored = (LAS_POINT_FORMATS[header.pointFormat] as { color: number }).color >= 0
     this.createSink({ color: colored, intensity: true, uncertainty: false }, () => ({ byte: header.offsetToPoints }))
   }
 
@@ -149,7 +144,7 @@ export class LazReader extends ReaderBase {
     const limit = Number.isInteger(mib) ? `${mib} MiB` : `${this.maxBytes}-byte`
     return errorAtByte(
       at,
-      `LAZ files are decompressed whole in memory and this one is larger than the ${limit} limit (convert it to LAS, or split it)`,
+      `LAZ files are held whole in memory while decoded and this one is larger than the ${limit} limit (convert it to LAS, or split it)`,
     )
   }
 }

@@ -21,13 +21,20 @@ import {
 } from './scalarTypes'
 import { clip, notANumber } from './textUtil'
 import type { PcdField, PcdHeaderInfo, ReaderOptions } from './types'
+import { decompress as lzfDecompress } from 'lzfjs'
 
 /**
  * PCD 0.7 (the Point Cloud Library's format): a text header VERSION, FIELDS, SIZE, TYPE, COUNT, WIDTH,
  * HEIGHT, VIEWPOINT, POINTS, DATA, then the points as ascii lines or little-endian binary records.
  * Reads x y z, a packed colour (`rgb`: the 4 bytes of a float holding 0x00RRGGBB, or `rgba`: a uint32
- * 0xAARRGGBB) and `intensity`. DATA binary_compressed is refused with a message.
+ * 0xAARRGGBB) and `intensity`; field names in any case (`X Y Z`). DATA binary_compressed is one LZF
+ * block after two uint32 sizes (compressed, unpacked) holding the points field by field (all x, then all
+ * y, ...); it is unpacked whole, its sizes checked against the file, the points and `maxPcdUnpackedBytes`
+ * before anything is allocated. A point whose x, y and z are all NaN (how PCL marks an organised cloud's
+ * pixel without a return) is dropped and counted as `notANumber`; what follows the block is ignored.
  */
+
+export const DEFAULT_MAX_PCD_UNPACKED_BYTES = 32 * 1024 * 1024
 
 const MAX_HEADER = 1 << 16
 const KEYS = ['VERSION', 'FIELDS', 'SIZE', 'TYPE', 'COUNT', 'WIDTH', 'HEIGHT', 'VIEWPOINT', 'POINTS', 'DATA']
@@ -55,6 +62,10 @@ export class PcdReader extends ReaderBase {
   private tokensPerLine = 0
   private bodyStart = 0
   private pointsDeclared = 0
+  /** ascii: point lines read, kept or dropped. */
+  private asciiPoints = 0
+  /** binary_compressed: the 8-byte size prefix, then the LZF block, gathered whole. */
+  private compressed: { prefix: Uint8Array; prefixLength: number; block: Uint8Array | null; filled: number; done: boolean } | null = null
   private readonly packed = new Float32Array(1)
   private readonly packedBits = new Uint32Array(this.packed.buffer)
 
@@ -72,6 +83,10 @@ export class PcdReader extends ReaderBase {
     }
     if (this.lines) {
       this.lines.push(chunk, pos, chunk.length)
+      return
+    }
+    if (this.compressed) {
+      this.consumeCompressed(chunk, pos, fileOffset)
       return
     }
     const feeder = this.feeder!
@@ -92,9 +107,23 @@ export class PcdReader extends ReaderBase {
     }
     if (this.lines) {
       this.lines.end()
-      const done = this.sink!.total
+      const done = this.asciiPoints
       if (done < this.pointsDeclared) {
         throw errorAtLine(this.lines.line, `file ends after ${done} of ${this.pointsDeclared} points declared in the header`)
+      }
+      return
+    }
+    if (this.compressed) {
+      const c = this.compressed
+      if (!c.done) {
+        const got = c.prefixLength + c.filled
+        const need = 8 + (c.block ? c.block.length : 0)
+        throw errorAtByte(
+          this.bytesSeen,
+          c.block
+            ? `file ends inside the compressed block (${got} of its ${need} bytes with the size prefix)`
+            : `file ends inside the binary_compressed size prefix (${got} of 8 bytes)`,
+        )
       }
       return
     }
@@ -135,13 +164,7 @@ export class PcdReader extends ReaderBase {
       return Number(word)
     }
     const data = require('DATA')[0] ?? ''
-    if (data === 'binary_compressed') {
-      throw errorInHeader(
-        'DATA binary_compressed is not read: save the cloud with DATA binary or ascii',
-        { line: line('DATA') },
-      )
-    }
-    if (data !== 'ascii' && data !== 'binary') {
+    if (data !== 'ascii' && data !== 'binary' && data !== 'binary_compressed') {
       throw errorInHeader(`DATA '${clip(data)}' is not ascii, binary or binary_compressed`, { line: line('DATA') })
     }
     const names = require('FIELDS')
@@ -180,7 +203,8 @@ export class PcdReader extends ReaderBase {
     const columns = new Map<string, Column & { field: PcdField }>()
     for (const field of fields) {
       const code = scalarCode(field, line('TYPE'))
-      if (!columns.has(field.name)) columns.set(field.name, { offset, type: code, token, field })
+      const key = field.name.toLowerCase()
+      if (!columns.has(key)) columns.set(key, { offset, type: code, token, field })
       offset += field.size * field.count
       token += field.count
     }
@@ -189,7 +213,7 @@ export class PcdReader extends ReaderBase {
     const pick = (name: string): (Column & { field: PcdField }) | null => {
       const column = columns.get(name) ?? null
       if (column && column.field.count !== 1) {
-        throw errorInHeader(`field ${name} has COUNT ${column.field.count}, expected 1`, { line: line('COUNT') })
+        throw errorInHeader(`field ${column.field.name} has COUNT ${column.field.count}, expected 1`, { line: line('COUNT') })
       }
       return column
     }
@@ -197,7 +221,7 @@ export class PcdReader extends ReaderBase {
     const y = pick('y')
     const z = pick('z')
     for (const [name, found] of [['x', x], ['y', y], ['z', z]] as const) {
-      if (!found) throw errorInHeader(`FIELDS has no '${name}'`, { line: line('FIELDS') })
+      if (!found) throw errorInHeader(`FIELDS has no '${name}' (in any case)`, { line: line('FIELDS') })
     }
     this.xyz = [x!, y!, z!]
     const color = pick('rgb') ?? pick('rgba')
@@ -240,10 +264,188 @@ export class PcdReader extends ReaderBase {
     if (data === 'ascii') {
       this.lines = new LineSplitter((b, s, e, l) => this.asciiLine(b, s, e, l), this.headerLines.line + 1)
       this.createSink(layout, () => ({ line: this.lines?.line ?? 0 }))
-    } else {
+    } else if (data === 'binary') {
       this.feeder = new RecordFeeder(points, offset, this.decode)
       this.createSink(layout, (index): ScanErrorLocation => ({ byte: this.bodyStart + index * this.recordLength }))
+    } else {
+      this.compressed = { prefix: new Uint8Array(8), prefixLength: 0, block: null, filled: 0, done: false }
+      this.createSink(layout, (): ScanErrorLocation => ({ byte: this.bodyStart }))
     }
+  }
+
+  /** binary_compressed: gathers the size prefix and the block, then unpacks and decodes it. */
+  private consumeCompressed(chunk: Uint8Array, start: number, fileOffset: number): void {
+    const c = this.compressed!
+    let pos = start
+    if (c.prefixLength < 8) {
+      const take = Math.min(8 - c.prefixLength, chunk.length - pos)
+      c.prefix.set(chunk.subarray(pos, pos + take), c.prefixLength)
+      c.prefixLength += take
+      pos += take
+      if (c.prefixLength < 8) return
+      c.block = new Uint8Array(this.checkCompressedSizes())
+    }
+    if (!c.done) {
+      const block = c.block!
+      const take = Math.min(block.length - c.filled, chunk.length - pos)
+      block.set(chunk.subarray(pos, pos + take), c.filled)
+      c.filled += take
+      pos += take
+      if (c.filled < block.length) return
+      c.done = true
+      this.unpack(block)
+      c.block = null
+    }
+    // What follows the block is ignored: PCL's writer sizes the file it maps in whole pages, zero-filled.
+    void fileOffset
+  }
+
+  /** Checks the two declared sizes before anything is allocated; returns the compressed size. */
+  private checkCompressedSizes(): number {
+    const view = new DataView(this.compressed!.prefix.buffer)
+    const packedSize = view.getUint32(0, true)
+    const unpackedSize = view.getUint32(4, true)
+    const where = this.bodyStart
+    const points = this.pointsDeclared
+    const limit = this.options.maxPcdUnpackedBytes ?? DEFAULT_MAX_PCD_UNPACKED_BYTES
+    // PCL leaves padding fields named '_' out of the compressed block.
+    const padding = this.header!.fields.filter((f) => f.name === '_').reduce((n, f) => n + f.size * f.count, 0)
+    const accepted = padding > 0 ? [this.recordLength, this.recordLength - padding] : [this.recordLength]
+    const stride = accepted.find((length) => length * points === unpackedSize)
+    if (stride === undefined) {
+      throw errorAtByte(
+        where + 4,
+        `the compressed block declares ${unpackedSize} unpacked bytes, but POINTS ${points} of ${this.recordLength} bytes need ${points * this.recordLength}`,
+      )
+    }
+    if (unpackedSize > limit) {
+      throw errorAtByte(
+        where + 4,
+        `the compressed block unpacks to ${unpackedSize} bytes, more than the ${limit} this reader unpacks in memory: save the cloud with DATA binary`,
+      )
+    }
+    if (packedSize === 0) throw errorAtByte(where, 'the compressed block declares a size of 0 bytes')
+    // LZF never grows data by more than 1/32 plus a byte (liblzf's lzf.h).
+    const packedLimit = unpackedSize + Math.ceil(unpackedSize / 32) + 16
+    if (packedSize > packedLimit) {
+      throw errorAtByte(where, `the compressed block declares ${packedSize} bytes, more than LZF can take for ${unpackedSize} unpacked bytes`)
+    }
+    if (this.options.byteLength !== undefined && where + 8 + packedSize > this.options.byteLength) {
+      throw errorAtByte(
+        where,
+        `the compressed block declares ${packedSize} bytes, but the file holds ${Math.max(0, this.options.byteLength - where - 8)} after its size prefix`,
+      )
+    }
+    this.unpackedStride = stride
+    this.unpackedSize = unpackedSize
+    return packedSize
+  }
+
+  private unpackedStride = 0
+  private unpackedSize = 0
+
+  private unpack(block: Uint8Array): void {
+    const where = this.bodyStart + 8
+    const length = lzfLength(block, this.unpackedSize)
+    if (length.error !== null) throw errorAtByte(where + length.at, `the compressed block is not valid LZF (${length.error})`)
+    if (length.size !== this.unpackedSize) {
+      throw errorAtByte(where, `the compressed block unpacks to ${length.size} bytes, not the ${this.unpackedSize} it declares`)
+    }
+    let unpacked: Uint8Array
+    try {
+      unpacked = lzfDecompress(block)
+    } catch (error) {
+      throw errorAtByte(where, `the compressed block is not valid LZF (${error instanceof Error ? error.message : String(error)})`)
+    }
+    if (unpacked.length !== this.unpackedSize) {
+      throw errorAtByte(where, `the compressed block unpacks to ${unpacked.length} bytes, not the ${this.unpackedSize} it declares`)
+    }
+    this.decodeFields(new DataView(unpacked.buffer, unpacked.byteOffset, unpacked.byteLength))
+  }
+
+  /** The unpacked block holds each field for every point before the next field (structure of arrays). */
+  private decodeFields(view: DataView): void {
+    const points = this.pointsDeclared
+    const skipPadding = this.unpackedStride !== this.recordLength
+    const starts = new Map<number, number>()
+    let at = 0
+    let recordOffset = 0
+    for (const field of this.header!.fields) {
+      const size = field.size * field.count
+      starts.set(recordOffset, at)
+      recordOffset += size
+      if (skipPadding && field.name === '_') continue
+      at += size * points
+    }
+    const column = (c: Column) => ({ base: starts.get(c.offset) as number, size: (this.header!.fields.find((_, i, all) => offsetOf(all, i) === c.offset) as PcdField).size })
+    const [cx, cy, cz] = this.xyz!.map(column) as [{ base: number; size: number }, { base: number; size: number }, { base: number; size: number }]
+    const [x, y, z] = this.xyz!
+    const color = this.color ? column(this.color) : null
+    const intensity = this.intensity ? column(this.intensity) : null
+    const sink = this.sink!
+    let done = 0
+    while (done < points) {
+      const n = Math.min(sink.room, points - done)
+      const p = sink.positions
+      let w = sink.count * 3
+      for (let i = done; i < done + n; i++, w += 3) {
+        p[w] = readScalar(view, cx.base + i * cx.size, x.type, true)
+        p[w + 1] = readScalar(view, cy.base + i * cy.size, y.type, true)
+        p[w + 2] = readScalar(view, cz.base + i * cz.size, z.type, true)
+      }
+      if (color) {
+        const c = sink.colors!
+        let j = sink.count * 3
+        for (let i = done; i < done + n; i++, j += 3) {
+          const packed = view.getUint32(color.base + i * 4, true)
+          c[j] = (packed >>> 16) & 255
+          c[j + 1] = (packed >>> 8) & 255
+          c[j + 2] = packed & 255
+        }
+      }
+      if (intensity) {
+        const values = sink.intensities!
+        let j = sink.count
+        for (let i = done; i < done + n; i++, j++) values[j] = readScalar(view, intensity.base + i * intensity.size, this.intensity!.type, true)
+      }
+      sink.commit(this.dropNaN(n))
+      done += n
+    }
+  }
+
+  /**
+   * Moves the points whose x, y and z are all NaN (PCL's mark for a pixel without a return) out of the
+   * sink's last `n` slots; returns how many stay. A point with only some NaN coordinates stays, and the
+   * sink refuses it as not finite.
+   */
+  private dropNaN(n: number): number {
+    const sink = this.sink!
+    const p = sink.positions
+    const c = sink.colors
+    const v = sink.intensities
+    const first = sink.count
+    let kept = first
+    for (let i = first; i < first + n; i++) {
+      const w = i * 3
+      if (Number.isNaN(p[w]) && Number.isNaN(p[w + 1]) && Number.isNaN(p[w + 2])) {
+        this.countDrop('notANumber')
+        continue
+      }
+      if (kept !== i) {
+        const k = kept * 3
+        p[k] = p[w] as number
+        p[k + 1] = p[w + 1] as number
+        p[k + 2] = p[w + 2] as number
+        if (c) {
+          c[k] = c[w] as number
+          c[k + 1] = c[w + 1] as number
+          c[k + 2] = c[w + 2] as number
+        }
+        if (v) v[kept] = v[i] as number
+      }
+      kept++
+    }
+    return kept - first
   }
 
   private readonly decode = (view: DataView, offset: number, count: number): void => {
@@ -282,7 +484,7 @@ export class PcdReader extends ReaderBase {
         let j = sink.count
         for (let i = 0, b = first; i < n; i++, b += stride, j++) values[j] = readScalar(view, b + o, type, true)
       }
-      sink.commit(n)
+      sink.commit(this.dropNaN(n))
       done += n
     }
   }
@@ -292,7 +494,7 @@ export class PcdReader extends ReaderBase {
     while (pos < end && isSpace(bytes[pos] as number)) pos++
     if (pos === end) return
     const sink = this.sink!
-    if (sink.total >= this.pointsDeclared) {
+    if (this.asciiPoints >= this.pointsDeclared) {
       throw errorAtLine(
         line,
         `data continues after the ${this.pointsDeclared} points declared in the header (POINTS disagrees with the body)`,
@@ -326,10 +528,16 @@ export class PcdReader extends ReaderBase {
       throw errorAtLine(line, `expected ${this.tokensPerLine} values (${this.header!.fields.map((f) => f.name).join(' ')}), found ${token}`)
     }
     const axes = ['x', 'y', 'z']
+    const p = sink.positions
+    this.asciiPoints++
+    if (Number.isNaN(p[w]) && Number.isNaN(p[w + 1]) && Number.isNaN(p[w + 2])) {
+      this.countDrop('notANumber')
+      return
+    }
     for (let a = 0; a < 3; a++) {
       const v = sink.positions[w + a] as number
       if (v - v !== 0) {
-        throw errorAtLine(line, `point ${sink.total + 1} has a coordinate that is not a finite number (${axes[a]} = ${v})`)
+        throw errorAtLine(line, `point ${this.asciiPoints} has a coordinate that is not a finite number (${axes[a]} = ${v})`)
       }
     }
     sink.commit(1)
@@ -362,4 +570,44 @@ function scalarCode(field: PcdField, line: number): ScalarCode {
 
 function isSpace(c: number): boolean {
   return c === 32 || c === 9 || c === 13
+}
+
+/** Byte offset within a record of field `index`. */
+function offsetOf(fields: PcdField[], index: number): number {
+  let offset = 0
+  for (let i = 0; i < index; i++) offset += (fields[i] as PcdField).size * (fields[i] as PcdField).count
+  return offset
+}
+
+/**
+ * Walks an LZF block's control bytes (liblzf's lzf_d.c format: a byte below 32 starts a literal run of
+ * that many plus one bytes; otherwise its top 3 bits (7: plus a length byte) and low 5 bits with the next
+ * byte give a back reference of length + 2) and returns the unpacked size without unpacking, stopping once
+ * it passes `limit`. Lets the reader check the declared size before the decompressor allocates.
+ */
+export function lzfLength(block: Uint8Array, limit: number): { size: number; error: string | null; at: number } {
+  let ip = 0
+  let op = 0
+  while (ip < block.length) {
+    const at = ip
+    const ctrl = block[ip++] as number
+    if (ctrl < 32) {
+      const run = ctrl + 1
+      if (ip + run > block.length) return { size: op, error: `a literal run of ${run} bytes goes past the block's end`, at }
+      ip += run
+      op += run
+    } else {
+      let len = ctrl >> 5
+      if (len === 7) {
+        if (ip >= block.length) return { size: op, error: 'a back reference is cut by the block\'s end', at }
+        len += block[ip++] as number
+      }
+      if (ip >= block.length) return { size: op, error: 'a back reference is cut by the block\'s end', at }
+      const distance = ((ctrl & 31) << 8) + (block[ip++] as number) + 1
+      if (distance > op) return { size: op, error: `a back reference reaches ${distance} bytes back, before the block's start`, at }
+      op += len + 2
+    }
+    if (op > limit) return { size: op, error: `it unpacks to more than the ${limit} bytes declared`, at }
+  }
+  return { size: op, error: null, at: 0 }
 }

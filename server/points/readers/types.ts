@@ -45,9 +45,14 @@ export interface ReaderOptions {
   byteLength?: number
   /** A header declaring more points than this fails at once. Default 2e9. */
   maxPoints?: number
-  /** LAZ is decompressed whole in memory: files larger than this are refused. Default 256 MiB. */
+  /** The compressed LAZ file is held whole in memory while decoded: files larger than this are refused. Default 256 MiB. */
   maxLazBytes?: number
-  /** LAZ files declaring more points than this are refused (the decoder allocates for all). Default 25 M. */
+  /**
+   * PCD `DATA binary_compressed` is one LZF block, unpacked whole in memory: a block declaring more unpacked
+   * bytes than this is refused before anything is allocated. Default 32 MiB.
+   */
+  maxPcdUnpackedBytes?: number
+  /** LAZ files declaring more points than this are refused. Default: no cap beyond `maxPoints` (decoded a batch at a time). */
   maxLazPoints?: number
 }
 
@@ -127,7 +132,7 @@ export interface PcdHeaderInfo extends HeaderBase {
   height: number
   viewpoint: number[]
   points: number
-  data: 'ascii' | 'binary'
+  data: 'ascii' | 'binary' | 'binary_compressed'
 }
 
 export interface TextColumnsHeaderInfo extends HeaderBase {
@@ -183,7 +188,13 @@ export type ScanHeaderInfo =
  * Why a reading was left out: station logs (beyond the rated range, too few samples); E57 points whose
  * cartesianInvalidState / sphericalInvalidState is 2 (no data) or 1 (a direction without a usable range).
  */
-export type DropReason = 'beyondRatedRange' | 'tooFewSamples' | 'invalidState' | 'directionOnly'
+export type DropReason =
+  | 'beyondRatedRange'
+  | 'tooFewSamples'
+  | 'invalidState'
+  | 'directionOnly'
+  /** PCD: a point whose x, y or z is NaN (an organised cloud's pixel without a return). */
+  | 'notANumber'
 
 /** One scan (a data3D entry) of an E57 file. */
 export interface E57ScanInfo {

@@ -109,6 +109,40 @@ describe('LAS from the ASPRS tables', () => {
     })
   }
 
+  // Waveform formats (LAS 1.4 R15 Tables 11, 12, 16, 17): 4 = 1 + 29 wave packet bytes = 57, 5 = 3 + 29 = 63,
+  // 9 = 6 + 29 = 59, 10 = 8 + 29 = 67. The points are read, the wave packet fields skipped.
+  for (const [pointFormat, minor, size] of [[4, 3, 57], [5, 3, 63], [9, 4, 59], [10, 4, 67]] as const) {
+    it(`LAS 1.${minor} format ${pointFormat} (${size}-byte records with waveform packets): points read, waveform skipped`, async () => {
+      const color = pointFormat === 5 || pointFormat === 10
+      const options: LasBuildOptions = { minor, pointFormat, ...common, points: samplePoints(40, color), extraBytes: 3 }
+      const bytes = buildLas(options)
+      expect(bytes[105]! | (bytes[106]! << 8)).toBe(size + 3)
+      const ours = await readAll(bytes, 'las', { chunkSize: 101 })
+      expectHeader(ours.header as LasHeaderInfo, options, bytes)
+      expect(ours.count).toBe(40)
+      options.points.forEach((p, i) => {
+        expect(ours.positions[i * 3]).toBe(p.X * options.scale[0] + options.offset[0])
+        expect(ours.positions[i * 3 + 1]).toBe(p.Y * options.scale[1] + options.offset[1])
+        expect(ours.positions[i * 3 + 2]).toBe(p.Z * options.scale[2] + options.offset[2])
+        expect(ours.intensities![i]).toBe(p.intensity)
+        if (p.rgb) for (let k = 0; k < 3; k++) expect(ours.colors![i * 3 + k]).toBe(p.rgb[k]! >> 8)
+      })
+      expect(ours.colors !== undefined).toBe(color)
+      // Bounds from the builder's integers, not from the reader.
+      for (let a = 0; a < 3; a++) {
+        const key = (['X', 'Y', 'Z'] as const)[a]!
+        const values = options.points.map((p) => p[key] * options.scale[a]! + options.offset[a]!)
+        expect(ours.summary.bounds.min[a]).toBe(Math.min(...values))
+        expect(ours.summary.bounds.max[a]).toBe(Math.max(...values))
+      }
+    })
+  }
+
+  it('a waveform format in a LAS 1.2 file is refused, naming the field', async () => {
+    const bytes = buildLas({ minor: 2, pointFormat: 4, ...common, points: samplePoints(3, false) })
+    await expect(readAll(bytes, 'las')).rejects.toThrow(/point data format.*point format 4 needs LAS 1.3/)
+  })
+
   it('LAS 1.3 header (235 bytes) reads too', async () => {
     const options: LasBuildOptions = { minor: 3, pointFormat: 1, ...common, points: samplePoints(5, false) }
     const bytes = buildLas(options)
@@ -154,10 +188,51 @@ describe('crate fixtures (tests/fixtures)', () => {
     expect(laz.summary.bounds).toEqual(las.summary.bounds)
   })
 
+  it('crate.laz decodes a batch at a time (1000 points a batch) to the same points as crate.las', async () => {
+    const las = await readAll(fixture('crate.las'), 'las')
+    const { createReader } = await import('../../../server/points/readers/index')
+    const sizes: number[] = []
+    const positions: number[] = []
+    const reader = createReader('laz', {
+      batchSize: 1000,
+      reuseBuffers: true,
+      onBatch: (b) => {
+        sizes.push(b.count)
+        positions.push(...b.positions)
+      },
+    })
+    reader.push(fixture('crate.laz'))
+    const summary = await reader.end()
+    expect(sizes).toEqual([1000, 1000, 1000, 1000, 1000, 220])
+    expect(summary.pointCount).toBe(5220)
+    expect(positions).toEqual(Array.from(las.positions))
+  })
+
+  it('a damaged LAZ fails with the decoder\'s own words, and the next LAZ still decodes', async () => {
+    const damaged = new Uint8Array(fixture('crate.laz'))
+    const { offsetToPoints } = (await readAll(fixture('crate.laz'), 'laz')).header as LasHeaderInfo
+    for (let i = offsetToPoints + 60; i < offsetToPoints + 400; i++) damaged[i] = (i * 131) & 255
+    await expect(readAll(damaged, 'laz')).rejects.toThrow(
+      new RegExp(`^byte ${offsetToPoints}: the compressed points could not be decoded: the LAZ data is damaged \\(it stopped after \\d+ of 5220 points; the decoder said: `),
+    )
+    expect((await readAll(fixture('crate.laz'), 'laz')).count).toBe(5220)
+  })
+
+  it("a decoder panic (console.error, then a wasm trap) is reported in the panic's own words", async () => {
+    const { withPanicText } = await import('../../../server/points/readers/lazDecoder')
+    const trap = () => {
+      console.error('panicked at /somewhere/src/laszip.rs:12:5:\nthe chunk table is missing')
+      throw new WebAssembly.RuntimeError('unreachable')
+    }
+    expect(() => withPanicText(trap)).toThrow(/^the chunk table is missing$/)
+    expect(() => withPanicText(() => { throw new Error('plain') })).toThrow(/^plain$/)
+    expect(withPanicText(() => 7)).toBe(7)
+  })
+
   it('LAZ above the size cap is refused with a message, before decoding', async () => {
     const bytes = fixture('crate.laz')
     await expect(readAll(bytes, 'laz', { maxLazBytes: 10_000 })).rejects.toThrow(
-      /LAZ files are decompressed whole in memory and this one is larger than the 10000-byte limit/,
+      /LAZ files are held whole in memory while decoded and this one is larger than the 10000-byte limit/,
     )
     await expect(readAll(bytes, 'laz', { maxLazPoints: 5000 })).rejects.toThrow(
       "header field 'number of point records': 5220 points, more than the 5000 a LAZ file may hold here",

@@ -83,14 +83,14 @@ describe('PCD', () => {
     expect([info.width, info.height, info.points]).toEqual([2, 2, 4])
   })
 
-  it('POINTS must be WIDTH x HEIGHT; binary_compressed is refused; counts against the body', async () => {
+  it('POINTS must be WIDTH x HEIGHT; an unknown DATA is refused; counts against the body', async () => {
     const head = (extra: string) =>
       `VERSION 0.7\nFIELDS x y z\nSIZE 4 4 4\nTYPE F F F\nCOUNT 1 1 1\nWIDTH 2\nHEIGHT 1\n${extra}`
     await expect(readAll(encode(head('POINTS 3\nDATA ascii\n1 2 3\n')), 'pcd')).rejects.toThrow(
       'header line 8: POINTS 3 is not WIDTH x HEIGHT (2 x 1 = 2)',
     )
-    await expect(readAll(encode(head('POINTS 2\nDATA binary_compressed\n')), 'pcd')).rejects.toThrow(
-      'header line 9: DATA binary_compressed is not read',
+    await expect(readAll(encode(head('POINTS 2\nDATA binary_packed\n')), 'pcd')).rejects.toThrow(
+      "header line 9: DATA 'binary_packed' is not ascii, binary or binary_compressed",
     )
     await expect(readAll(encode(head('POINTS 2\nDATA ascii\n1 2 3\n')), 'pcd')).rejects.toThrow(
       'line 10: file ends after 1 of 2 points declared in the header',

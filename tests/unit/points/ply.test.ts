@@ -1,7 +1,7 @@
 import { Color, SRGBColorSpace } from 'three'
 import { PLYLoader } from 'three/examples/jsm/loaders/PLYLoader.js'
 import { describe, expect, it } from 'vitest'
-import { ScanFormatError, readAll } from '../../../server/points/readers/index'
+import { ScanFormatError, detectFormat, readAll } from '../../../server/points/readers/index'
 import { concatBytes, writePly, type PlyEncoding } from './lib/writers'
 import { sampleCloud } from './lib/samples'
 
@@ -106,5 +106,27 @@ describe('PLY against three PLYLoader', () => {
   it('ascii: wrong value counts name the line', async () => {
     const bytes = new TextEncoder().encode('ply\nformat ascii 1.0\nelement vertex 2\nproperty float x\nproperty float y\nproperty float z\nend_header\n1.5 2.5 3.5\n4.5 5.5\n')
     await expect(readAll(bytes, 'ply')).rejects.toThrow('line 9: expected 3 numbers (x y z), found 2')
+  })
+
+  // Turk's PLY description separates header words by whitespace; writers leave spaces or tabs at line ends.
+  it('header lines with trailing spaces and tabs (ply, format, element, property, end_header) read right', async () => {
+    const head = 'ply \t\r\nformat ascii 1.0  \ncomment made here\t\nelement vertex 3\t\nproperty float x \nproperty float y\t \nproperty float z  \nend_header \t\n'
+    const bytes = new TextEncoder().encode(`${head}1.5 -2 3 \n-4 5.25 6\t\n7 8 -9.5  \n`)
+    expect(detectFormat(bytes, 'trailing.ply')).toBe('ply')
+    const cloud = await readAll(bytes, 'ply', { chunkSize: 7 })
+    expect(cloud.count).toBe(3)
+    expect(Array.from(cloud.positions)).toEqual([1.5, -2, 3, -4, 5.25, 6, 7, 8, -9.5])
+    expect(cloud.summary.bounds).toEqual({ min: [-4, -2, -9.5], max: [7, 8, 6] })
+  })
+
+  it('binary body after an end_header line with trailing spaces starts at the byte after its newline', async () => {
+    const head = new TextEncoder().encode('ply  \nformat binary_little_endian 1.0 \nelement vertex 2 \nproperty double x\t\nproperty double y \nproperty double z \nend_header  \n')
+    const body = new Float64Array([0.125, 32, -1, 10, -20.5, 2.75])
+    const bytes = concatBytes([head, new Uint8Array(body.buffer)])
+    expect(detectFormat(bytes, 'trailing.ply')).toBe('ply')
+    const cloud = await readAll(bytes, 'ply')
+    expect(cloud.count).toBe(2)
+    expect(Array.from(cloud.positions)).toEqual(Array.from(body))
+    expect(cloud.summary.bounds).toEqual({ min: [0.125, -20.5, -1], max: [10, 32, 2.75] })
   })
 })

@@ -1,7 +1,8 @@
 /**
  * Builds LAS files byte by byte from the ASPRS LAS Specification 1.4 R15 (2019) tables, independently
  * of the reader: Table 3 (public header block; 1.2 uses its first 227 bytes, 1.4 all 375), Table 4
- * (variable length record header, 54 bytes), Tables 7-10 (point formats 0-3) and 13-15 (formats 6-8).
+ * (variable length record header, 54 bytes), Tables 7-10 (point formats 0-3), 11-12 (4-5), 13-15 (6-8) and
+ * 16-17 (9-10: 6 and 8 with the 29 bytes of wave packet fields).
  * Little-endian throughout.
  */
 
@@ -22,7 +23,7 @@ export interface LasTestPoint {
 
 export interface LasBuildOptions {
   minor: 2 | 3 | 4
-  pointFormat: 0 | 1 | 2 | 3 | 6 | 7 | 8
+  pointFormat: 0 | 1 | 2 | 3 | 4 | 5 | 6 | 7 | 8 | 9 | 10
   scale: [number, number, number]
   offset: [number, number, number]
   points: LasTestPoint[]
@@ -38,7 +39,10 @@ export interface LasBuildOptions {
 }
 
 /** Table 7-15 core record sizes. */
-export const CORE_SIZE: Record<number, number> = { 0: 20, 1: 28, 2: 26, 3: 34, 6: 30, 7: 36, 8: 38 }
+export const CORE_SIZE: Record<number, number> = { 0: 20, 1: 28, 2: 26, 3: 34, 4: 57, 5: 63, 6: 30, 7: 36, 8: 38, 9: 59, 10: 67 }
+
+/** The format whose fields a waveform format starts with (Tables 11, 12, 16, 17). */
+const WAVE_BASE: Record<number, number> = { 4: 1, 5: 3, 9: 6, 10: 8 }
 
 function putText(view: DataView, at: number, text: string, length: number): void {
   for (let i = 0; i < length; i++) view.setUint8(at + i, i < text.length ? text.charCodeAt(i) : 0)
@@ -107,12 +111,14 @@ export function buildLas(options: LasBuildOptions): Uint8Array {
   }
 
   // Point records.
+  const wave = WAVE_BASE[pointFormat] !== undefined
+  const base = WAVE_BASE[pointFormat] ?? pointFormat
   for (const p of points) {
     view.setInt32(at, p.X, true)
     view.setInt32(at + 4, p.Y, true)
     view.setInt32(at + 8, p.Z, true)
     view.setUint16(at + 12, p.intensity, true)
-    if (pointFormat < 6) {
+    if (base < 6) {
       // Table 7: return number bits 0-2, number of returns bits 3-5, then classification, scan angle
       // rank (char), user data, point source id; format 1 adds GPS time at 20; 2 adds RGB at 20; 3 both.
       view.setUint8(at + 14, (p.returnNumber & 7) | ((p.numberOfReturns & 7) << 3))
@@ -120,8 +126,8 @@ export function buildLas(options: LasBuildOptions): Uint8Array {
       view.setInt8(at + 16, -5)
       view.setUint8(at + 17, 0)
       view.setUint16(at + 18, 7, true)
-      if (pointFormat === 1 || pointFormat === 3) view.setFloat64(at + 20, p.gpsTime ?? 0, true)
-      const colorAt = pointFormat === 2 ? 20 : pointFormat === 3 ? 28 : -1
+      if (base === 1 || base === 3) view.setFloat64(at + 20, p.gpsTime ?? 0, true)
+      const colorAt = base === 2 ? 20 : base === 3 ? 28 : -1
       if (colorAt >= 0) for (let k = 0; k < 3; k++) view.setUint16(at + colorAt + k * 2, p.rgb?.[k] ?? 0, true)
     } else {
       // Table 13: return number bits 0-3, number of returns bits 4-7; classification flags, channel,
@@ -133,8 +139,20 @@ export function buildLas(options: LasBuildOptions): Uint8Array {
       view.setInt16(at + 18, -1000, true)
       view.setUint16(at + 20, 7, true)
       view.setFloat64(at + 22, p.gpsTime ?? 0, true)
-      if (pointFormat >= 7) for (let k = 0; k < 3; k++) view.setUint16(at + 30 + k * 2, p.rgb?.[k] ?? 0, true)
-      if (pointFormat === 8) view.setUint16(at + 36, p.nir ?? 0, true)
+      if (base >= 7) for (let k = 0; k < 3; k++) view.setUint16(at + 30 + k * 2, p.rgb?.[k] ?? 0, true)
+      if (base === 8) view.setUint16(at + 36, p.nir ?? 0, true)
+    }
+    if (wave) {
+      // Table 11 / 16 wave packet fields after the base record: descriptor index u8, byte offset to waveform
+      // data u64, waveform packet size u32, return point waveform location f32, X(t) Y(t) Z(t) f32.
+      const w = at + (CORE_SIZE[base] as number)
+      view.setUint8(w, 1)
+      view.setBigUint64(w + 1, 123456789n, true)
+      view.setUint32(w + 9, 256, true)
+      view.setFloat32(w + 13, 1500.25, true)
+      view.setFloat32(w + 17, 0.25, true)
+      view.setFloat32(w + 21, -0.5, true)
+      view.setFloat32(w + 25, 0.75, true)
     }
     // Extra bytes stay as a pattern a careless reader would notice.
     for (let e = CORE_SIZE[pointFormat] as number; e < recordLength; e++) view.setUint8(at + e, 0xa5)
