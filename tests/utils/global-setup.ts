@@ -1,8 +1,13 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
 import pg from 'pg'
 import { createDb, createPool } from '../../server/db'
 import { migrateToLatest } from '../../server/db/migrate'
 
 export const TEMPLATE_DB = 'spanmark_template'
+/** Kept in step with tests/utils/demoScene.ts (not imported: that module loads the browser driver). */
+const DEMO_TEMPLATE_DB = 'spanmark_demo_template'
 
 /**
  * Migrates one template database per run; each test file then clones it (CREATE DATABASE ... TEMPLATE),
@@ -14,6 +19,9 @@ export default async function setup(): Promise<void> {
   if (!admin) return
   const client = new pg.Client({ connectionString: admin })
   await client.connect()
+  // The processed demo of an earlier run (tests/utils/demoScene.ts) goes too: each run seeds its own.
+  await client.query(`DROP DATABASE IF EXISTS ${DEMO_TEMPLATE_DB} WITH (FORCE)`)
+  fs.rmSync(path.join(os.tmpdir(), `spanmark-demo-template-${new URL(admin).port}`), { recursive: true, force: true })
   await client.query(`DROP DATABASE IF EXISTS ${TEMPLATE_DB} WITH (FORCE)`)
   await client.query(`CREATE DATABASE ${TEMPLATE_DB}`)
   await client.end()
