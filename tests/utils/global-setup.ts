@@ -14,14 +14,15 @@ const DEMO_TEMPLATE_DB = 'spanmark_demo_template'
  * which takes milliseconds and keeps files independent. Without TEST_DATABASE_ADMIN_URL (a unit-only run
  * outside `npm test`) nothing is prepared and database tests say so.
  */
-export default async function setup(): Promise<void> {
+export default async function setup(): Promise<(() => void) | undefined> {
   const admin = process.env.TEST_DATABASE_ADMIN_URL
-  if (!admin) return
+  if (!admin) return undefined
   const client = new pg.Client({ connectionString: admin })
   await client.connect()
   // The processed demo of an earlier run (tests/utils/demoScene.ts) goes too: each run seeds its own.
   await client.query(`DROP DATABASE IF EXISTS ${DEMO_TEMPLATE_DB} WITH (FORCE)`)
-  fs.rmSync(path.join(os.tmpdir(), `spanmark-demo-template-${new URL(admin).port}`), { recursive: true, force: true })
+  const demoDir = path.join(os.tmpdir(), `spanmark-demo-template-${new URL(admin).port}`)
+  fs.rmSync(demoDir, { recursive: true, force: true })
   await client.query(`DROP DATABASE IF EXISTS ${TEMPLATE_DB} WITH (FORCE)`)
   await client.query(`CREATE DATABASE ${TEMPLATE_DB}`)
   await client.end()
@@ -31,4 +32,6 @@ export default async function setup(): Promise<void> {
   const db = createDb(pool)
   await migrateToLatest(db)
   await db.destroy()
+  // The processed demo's data folder does not outlive the run (its database goes with the cluster).
+  return () => fs.rmSync(demoDir, { recursive: true, force: true })
 }
