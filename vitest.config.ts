@@ -11,9 +11,6 @@ export default mergeConfig(
       testTimeout: 20_000,
       hookTimeout: 60_000,
       pool: 'forks',
-      // Two files at a time even on two cores (vitest would take one there): most of a file's time is spent
-      // waiting on PostgreSQL, the ingest worker or Chromium, not on the CPU.
-      maxWorkers: 2,
     },
   }),
 )

@@ -50,8 +50,8 @@ const entry = (label: string, x = 0) => ({ kind: 'distance', label, anchors: [{ 
 
 beforeAll(async () => {
   // A run of live edits settles into one revision once its author leaves the marker alone for liveSettleMs.
-  // Each edit is checked against the database before its timer starts again; on a loaded machine (two test
-  // files at a time, other work beside) that can take longer than the test setting's 300 ms between two edits
+  // Each edit is checked against the database before its timer starts again; on a loaded machine (other work
+  // beside the suite) that can take longer than the test setting's 300 ms between two edits
   // sent 40 ms apart, and the run splits in two. A second leaves a busy machine room and still tells one run
   // from separate edits.
   t = await startTestServer({ liveSettleMs: 1000 })
