@@ -4,9 +4,23 @@
 // plain line `N passed, N failed` and exits non-zero on any failure.
 import fs from 'node:fs'
 import path from 'node:path'
-import { spawnSync } from 'node:child_process'
+import { spawn, spawnSync } from 'node:child_process'
 import { ensureChromium, ensureNodeModules, fail, localBin, log, root } from './lib/system.mjs'
 import { ensurePostgresInstalled, withThrowawayCluster } from './lib/postgres.mjs'
+
+/** Runs a tool with its output shown, logs how long it took, and resolves to its exit code. */
+function timed(name, cmd, args) {
+  const started = Date.now()
+  return new Promise((resolve) => {
+    const child = spawn(cmd, args, { stdio: 'inherit', cwd: root })
+    const done = (code) => {
+      log(`${name} took ${((Date.now() - started) / 1000).toFixed(0)} s`)
+      resolve(code)
+    }
+    child.on('error', () => done(1))
+    child.on('exit', (code) => done(code ?? 1))
+  })
+}
 
 async function main() {
   const started = Date.now()
@@ -21,11 +35,14 @@ async function main() {
     // SPANMARK_QUICK=1 (a contributor re-running one file) skips the type check and the client build.
     if (process.env.SPANMARK_QUICK === '1') log('quick run: type check and client build skipped')
     else {
-      const tc = spawnSync(localBin('vue-tsc'), ['--noEmit', '-p', 'tsconfig.json'], { stdio: 'inherit', cwd: root })
-      if (tc.status === 0) { passed++; log('type check: passed') } else { failed++; log('type check: FAILED') }
-
-      const build = spawnSync(localBin('vite'), ['build', '--logLevel', 'warn'], { stdio: 'inherit', cwd: root })
-      if (build.status === 0) { passed++; log('client build: passed') } else { failed++; log('client build: FAILED') }
+      // The type check and the client build side by side: neither needs the other's output.
+      const [tc, build] = await Promise.all([
+        timed('type check', localBin('vue-tsc'), ['--noEmit', '-p', 'tsconfig.json']),
+        timed('client build', localBin('vite'), ['build', '--logLevel', 'warn']),
+      ])
+      for (const [name, code] of [['type check', tc], ['client build', build]]) {
+        if (code === 0) { passed++; log(`${name}: passed`) } else { failed++; log(`${name}: FAILED`) }
+      }
     }
 
     const outDir = path.join(root, 'tests', 'output')
@@ -33,12 +50,14 @@ async function main() {
     const report = path.join(outDir, 'vitest.json')
     fs.rmSync(report, { force: true })
     const args = ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${report}`, ...process.argv.slice(2)]
+    const vitestStarted = Date.now()
     const vt = spawnSync(localBin('vitest'), args, {
       stdio: 'inherit',
       cwd: root,
       env: { ...process.env, SPANMARK_ENV: 'test', TEST_DATABASE_ADMIN_URL: cluster.adminUrl },
     })
     vitestCode = vt.status ?? 1
+    log(`vitest took ${((Date.now() - vitestStarted) / 1000).toFixed(0)} s`)
     if (fs.existsSync(report)) {
       const r = JSON.parse(fs.readFileSync(report, 'utf8'))
       passed += r.numPassedTests

@@ -207,8 +207,7 @@ describe('authorization matrix', () => {
   for (const route of apiRoutes.filter((r) => r.access.kind === 'project')) {
     const access = route.access as { right: Parameters<typeof can>[1]; rigKey?: boolean }
     it(`${routeName(route)} with a rig key (${access.rigKey ? 'accepted' : 'refused'})`, async () => {
-      const own = await freshProject()
-      const other = await freshProject()
+      const [own, other] = await Promise.all([freshProject(), freshProject()])
       const withKey = (secret: string, f: Fixture) => call(t.agent().set('Authorization', `Bearer ${secret}`), route, fillPath(route, f))
       const res = await withKey(own.secret, own)
       if (!access.rigKey) expect(res.status).toBe(401)

@@ -49,7 +49,12 @@ const M1 = '5e0e0000-0000-4000-8000-0000000000c1', M2 = '5e0e0000-0000-4000-8000
 const entry = (label: string, x = 0) => ({ kind: 'distance', label, anchors: [{ instanceId, x, y: 0, z: 0 }, { instanceId, x: x + 1, y: 0, z: 0 }], params: {} })
 
 beforeAll(async () => {
-  t = await startTestServer()
+  // A run of live edits settles into one revision once its author leaves the marker alone for liveSettleMs.
+  // Each edit is checked against the database before its timer starts again; on a loaded machine (other work
+  // beside the suite) that can take longer than the test setting's 300 ms between two edits
+  // sent 40 ms apart, and the run splits in two. A second leaves a busy machine room and still tells one run
+  // from separate edits.
+  t = await startTestServer({ liveSettleMs: 1000 })
   const people = { owner: await signUpAgent(t, 'Live Owner'), measurer: await signUpAgent(t, 'Live Measurer'), mentor: await signUpAgent(t, 'Live Mentor'), outsider: await signUpAgent(t, 'Live Outsider') }
   const projectId = (await people.owner.agent.post('/api/projects').send({ name: 'Live' }).expect(201)).body.project.id
   for (const role of ['measurer', 'mentor'] as const) await joinProject(t, people.owner.agent, projectId, people[role], role)
@@ -259,7 +264,7 @@ describe('history', () => {
       w.markers.set(id, { kind: 'distance', label: `dragging ${i}`, anchors: at(i * 0.1), params: {} })
       await new Promise((r) => setTimeout(r, 40))
     }
-    const deadline = Date.now() + 5000
+    const deadline = Date.now() + 5000 + t.config.liveSettleMs
     let revisions: { action: string; state: { label: string } }[] = []
     while (Date.now() < deadline) {
       const res = await ownerAgent.get(`/api/markers/${id}/history`)
@@ -267,7 +272,8 @@ describe('history', () => {
       if (revisions.length > 0) break
       await new Promise((r) => setTimeout(r, 100))
     }
-    await new Promise((r) => setTimeout(r, 600))
+    // Twice the window more: a second revision of the same run would have been written by then.
+    await new Promise((r) => setTimeout(r, 2 * t.config.liveSettleMs))
     revisions = (await ownerAgent.get(`/api/markers/${id}/history`).expect(200)).body.revisions
     expect(revisions.map((r) => [r.action, r.state.label])).toEqual([['created', 'dragging 4']])
   })

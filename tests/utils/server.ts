@@ -33,13 +33,21 @@ function defaultLog(): pino.Logger {
   return pino({ level }, pino.destination({ dest: path.join(dir, `server-${process.pid}-${++logged}.log`), sync: true }))
 }
 
+/** What a test server starts from, when not an empty database: a template database and a data folder to copy. */
+export interface StartFrom {
+  template?: string
+  dataDir?: string
+}
+
 /**
  * The real server (real PostgreSQL, real fake SMTP) on port 0 with a database of its own. `log`: a logger
- * of the test's own (to read what the server logs); see defaultLog otherwise.
+ * of the test's own (to read what the server logs); see defaultLog otherwise. `from`: a copy of a prepared
+ * database and data folder instead of an empty one (the browser tests' processed demo, tests/utils/demoScene.ts).
  */
-export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}, log: pino.Logger = defaultLog()): Promise<TestServer> {
-  const database = await createTestDatabase()
+export async function startTestServer(overrides: Partial<Config> = {}, env: NodeJS.ProcessEnv = {}, log: pino.Logger = defaultLog(), from: StartFrom = {}): Promise<TestServer> {
+  const database = await createTestDatabase(from.template)
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-data-'))
+  if (from.dataDir) fs.cpSync(from.dataDir, dataDir, { recursive: true })
   const config = {
     ...loadConfig({
       SPANMARK_ENV: 'test',
