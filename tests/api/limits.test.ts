@@ -309,7 +309,7 @@ describe('uploads', () => {
     const again = await readyScan(p, project, plyOf(100), 'again.ply')
     // This server's worker, as the sweeper sees it (none runs here: a stand-in records the restart).
     const restarts: string[] = []
-    Object.defineProperty(t.server, 'worker', { value: { claimName: 'rig-host:4242', restart: () => restarts.push('restart') }, configurable: true })
+    Object.defineProperty(t.server, 'workers', { value: [{ claimName: 'rig-host:4242', restart: () => restarts.push('restart') }], configurable: true })
     try {
       // As a worker leaves them when it dies or hangs: processing, an old heartbeat. The second is held by
       // this server's own worker, which is still running: it stalled.
@@ -331,7 +331,7 @@ describe('uploads', () => {
       const row = await db.selectFrom('scans').select('attempts').where('id', '=', again).executeTakeFirstOrThrow()
       expect(row.attempts).toBe(2)
     } finally {
-      Object.defineProperty(t.server, 'worker', { value: null, configurable: true })
+      Object.defineProperty(t.server, 'workers', { value: [], configurable: true })
     }
   })
 })
