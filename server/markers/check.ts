@@ -118,39 +118,51 @@ function pointsAbove(uv: Float64Array, v: number): Float64Array {
 }
 
 /**
- * The best orientation within the limits (shared/measure/orientation.ts, in the compute pool): the object's
- * points go to the passage frame (u, v of the section, w along travel) with the scene's up (z); its support
- * points are searched; then every point is turned by the best rotation about the support centre and the
- * silhouette is written again in place (the fit that follows places it).
+ * The object's points placed in the scene and written in the section's frame: u, v and the distance along the
+ * section's normal n (x y z triples, metres, in shared memory for the compute threads). Done once per check;
+ * the silhouette and the orientation search both read it.
  */
-async function orientObject(
-  local: Float64Array,
-  m: readonly number[],
-  sec: SectionComputation,
-  dir: readonly number[],
-  opening: FreeOpening,
-  limits: NonNullable<ClearanceParams['orientation']>,
-  restOn: number | undefined,
-  silhouette: Float64Array,
-) {
+async function inSectionFrame(local: Float64Array, m: readonly number[], frame: SectionComputation['frame']): Promise<Float64Array> {
   const count = local.length / 3
-  const [ox, oy, oz] = sec.frame.origin
-  const { u, v } = sec.frame
-  const xyz = sharedFloat64Array(3 * count)
+  const [ox, oy, oz] = frame.origin
+  const { u, v, n } = frame
+  const out = sharedFloat64Array(3 * count)
   for (let i = 0; i < count; i++) {
+    // A turn for the event loop every 131 072 points (a million-point object takes about 80 ms here).
     if ((i & 0x1ffff) === 0x1ffff) await new Promise<void>((resolve) => setImmediate(resolve))
     const x = local[3 * i]!, y = local[3 * i + 1]!, z = local[3 * i + 2]!
     const px = m[0]! * x + m[4]! * y + m[8]! * z + m[12]! - ox
     const py = m[1]! * x + m[5]! * y + m[9]! * z + m[13]! - oy
     const pz = m[2]! * x + m[6]! * y + m[10]! * z + m[14]! - oz
-    xyz[3 * i] = u[0] * px + u[1] * py + u[2] * pz
-    xyz[3 * i + 1] = v[0] * px + v[1] * py + v[2] * pz
-    xyz[3 * i + 2] = dir[0]! * px + dir[1]! * py + dir[2]! * pz
+    out[3 * i] = u[0] * px + u[1] * py + u[2] * pz
+    out[3 * i + 1] = v[0] * px + v[1] * py + v[2] * pz
+    out[3 * i + 2] = n[0] * px + n[1] * py + n[2] * pz
   }
+  return out
+}
+
+/**
+ * The best orientation within the limits (shared/measure/orientation.ts, in the compute pool), for travel
+ * straight through (along +n or -n: `sign`): the section-frame points are the passage frame (w = sign * n),
+ * with the scene's up (z); the support points are searched; then every point is turned by the best rotation
+ * about the support centre and the silhouette is written in place (the fit that follows places it).
+ */
+async function orientObject(
+  framed: Float64Array,
+  sign: 1 | -1,
+  frame: SectionComputation['frame'],
+  opening: FreeOpening,
+  limits: NonNullable<ClearanceParams['orientation']>,
+  restOn: number | undefined,
+  silhouette: Float64Array,
+) {
+  const count = framed.length / 3
+  const xyz = sign === 1 ? framed : sharedFloat64Array(3 * count)
+  if (sign === -1) for (let i = 0; i < 3 * count; i++) xyz[i] = i % 3 === 2 ? -framed[i]! : framed[i]!
   const support = await compute.supportPoints(xyz)
   if (!support) throw new Stop('invalid-geometry', 'the object has too few points to turn.')
   // The scene's up (z) in the passage frame.
-  const up: [number, number, number] = [u[2], v[2], dir[2]!]
+  const up: [number, number, number] = [frame.u[2], frame.v[2], sign * frame.n[2]]
   const found = await compute.searchPassage(opening, support.points, up, { mode: limits.mode, ...(limits.maxTipDegrees !== undefined ? { maxTipDegrees: limits.maxTipDegrees } : {}) }, restOn)
   if (!found.ok) throw new Stop('invalid-geometry', `the object's orientations cannot be searched (${found.reason}).`)
   const r = found.best.matrix, [cx, cy, cz] = support.centre
@@ -609,22 +621,8 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   if (local.length / 3 > cap) throw new Stop('invalid-geometry', tooManyPoints("the object's scan", cap, 'upload the object as a scan of its own, cropped to the object (or thinned), and place that instead'))
   const count = local.length / 3
   if (count < 3) throw new Stop('invalid-geometry', 'the object has no stored points.')
-  // Project each object point along the direction of travel onto the section plane, then to u v.
-  const [ox, oy, oz] = sec.frame.origin
+  const framed = await inSectionFrame(local, object.matrix, sec.frame)
   const silhouette = sharedFloat64Array(2 * count)
-  const m = object.matrix
-  for (let i = 0; i < count; i++) {
-    // A turn for the event loop every 131 072 points (a million-point object takes about 80 ms here).
-    if ((i & 0x1ffff) === 0x1ffff) await new Promise<void>((resolve) => setImmediate(resolve))
-    const x = local[3 * i]!, y = local[3 * i + 1]!, z = local[3 * i + 2]!
-    const px = m[0]! * x + m[4]! * y + m[8]! * z + m[12]! - ox
-    const py = m[1]! * x + m[5]! * y + m[9]! * z + m[13]! - oy
-    const pz = m[2]! * x + m[6]! * y + m[10]! * z + m[14]! - oz
-    const t = (px * n[0] + py * n[1] + pz * n[2]) / cos
-    const qx = px - t * dir[0], qy = py - t * dir[1], qz = pz - t * dir[2]
-    silhouette[2 * i] = sec.frame.u[0] * qx + sec.frame.u[1] * qy + sec.frame.u[2] * qz
-    silhouette[2 * i + 1] = sec.frame.v[0] * qx + sec.frame.v[1] * qy + sec.frame.v[2] * qz
-  }
   const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
   // How it moves: resting on the floor (default when the lower edge is one), on a trolley, or carried.
   const carriageMode = params.carriage?.mode ?? (opening.floor ? 'floor' : 'carried')
@@ -634,8 +632,18 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   let turned: Awaited<ReturnType<typeof orientObject>> | null = null
   if (params.orientation && params.orientation.mode !== 'as-it-stands') {
     if (Math.abs(cos) < 0.999) throw new Stop('invalid-geometry', 'turning and tipping are searched for travel straight through the opening: leave the direction of travel unset, or keep the object as it stands.')
-    turned = await orientObject(local, object.matrix, sec, dir, opening.opening, params.orientation, restOn ?? undefined, silhouette)
+    turned = await orientObject(framed, cos > 0 ? 1 : -1, sec.frame, opening.opening, params.orientation, restOn ?? undefined, silhouette)
     stillWanted(ctx)
+  } else {
+    // As scanned: each point slides along the direction of travel onto the section plane (n . q = 0), then
+    // to u v: q = p - t dir with t = (n . p) / (n . dir).
+    const ud = sec.frame.u[0] * dir[0] + sec.frame.u[1] * dir[1] + sec.frame.u[2] * dir[2]
+    const vd = sec.frame.v[0] * dir[0] + sec.frame.v[1] * dir[1] + sec.frame.v[2] * dir[2]
+    for (let i = 0; i < count; i++) {
+      const t = framed[3 * i + 2]! / cos
+      silhouette[2 * i] = framed[3 * i]! - t * ud
+      silhouette[2 * i + 1] = framed[3 * i + 1]! - t * vd
+    }
   }
   // The object's outline fitted to its points (shared/measure/edges.ts), placed by the fit, and the margin
   // measured to the opening's fitted surfaces.
