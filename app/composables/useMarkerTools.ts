@@ -1,25 +1,12 @@
 import { computed, onBeforeUnmount, onMounted, reactive, ref, toValue, watch, type MaybeRefOrGetter, type Ref, type ShallowRef } from 'vue'
-import { SECTION_THICKNESS, type Instance, type Marker, type MarkerCreateBody, type Scan } from '@shared/schemas'
+import { checkOutcome, MARKER_KINDS, type Instance, type Marker, type MarkerCreateBody, type MarkerKind, type Scan } from '@shared/schemas'
 import { anchorBudget } from '@shared/measure/uncertainty'
 import type { LengthUnit } from '@shared/format/units'
 import { ApiError } from '@/api/http'
 import { markerView, previewView } from '@/components/viewer/markerViews'
-import {
-  addPick,
-  anchorsNeeded,
-  angleBody,
-  clearanceBody,
-  distanceBody,
-  placingHint,
-  previewText,
-  sectionBody,
-  sectionNumbersBody,
-  sectionProblem,
-  type ClearanceOptions,
-  type Picked,
-  type SectionClicks,
-} from '@/components/viewer/markerPlacing'
-import { MARKER_TOOL_KIND, isMarkerTool, type MarkerTool, type ViewerTool } from '@/components/viewer/viewerTools'
+import { addPick, type Picked } from '@/components/viewer/markerPlacing'
+import type { ViewerTool } from '@/components/viewer/viewerTools'
+import { kindOfTool, kindUi, type PlacingContext } from '@/kinds'
 import type { MarkerView } from '@/viewer/markerLayer'
 import type { PointViewer } from '@/viewer/PointViewer'
 import type { PickResult, Vec3 } from '@/viewer/types'
@@ -37,40 +24,37 @@ export interface MarkerToolsOptions {
   onCreated: (marker: Marker) => void
 }
 
-const KIND_WORD: Record<MarkerTool, string> = { distance: 'distance', angle: 'angle', 'section-marker': 'section', clearance: 'clearance' }
-
 function problemText(error: unknown): string {
   if (error instanceof ApiError) return error.message
   return error instanceof Error ? error.message : String(error)
 }
 
 /**
- * Placing markers by clicks on the points: distance (two clicks), angle (arm, vertex, arm), section (two or
- * three clicks, then its panel), clearance (a panel only). Shows what to click next and a live preview of
- * the value (shared/measure with each scan's uncertainty; the server's check is the value that counts),
- * saves through `create`, and cancels on Esc.
+ * Placing markers, whatever their kind (app/kinds: each says how many clicks it takes, what to click next,
+ * its preview, its options and its panel): the clicks on the points, a live preview of the value
+ * (shared/measure with each scan's uncertainty; the server's check is the value that counts), saving through
+ * `create`, and Esc to start over.
  */
 export function useMarkerTools(options: MarkerToolsOptions) {
   const { tool, viewer, hover, unit } = options
   const picks = ref<Picked[]>([])
   const saving = ref(false)
   const error = ref<string | null>(null)
-  const section = reactive<{ plane: SectionClicks; thickness: number; opening: boolean }>({
-    plane: 'two-points',
-    thickness: SECTION_THICKNESS.default,
-    opening: true,
-  })
+  /** Each kind's tool options (a section's plane, thickness and opening), kept while the page is open. */
+  const kindOptions = reactive(Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).options?.() ?? {}]))) as Record<MarkerKind, Record<string, unknown>>
 
-  const markerTool = computed<MarkerTool | null>(() => (isMarkerTool(tool.value) ? tool.value : null))
-  const needed = computed(() => (markerTool.value ? anchorsNeeded(markerTool.value, section.plane) : 0))
+  const active = computed(() => kindOfTool(tool.value) ?? null)
+  const markerTool = computed<string | null>(() => active.value?.tool.id ?? null)
+  const activeOptions = computed(() => (active.value ? kindOptions[active.value.kind] : {}))
+  const needed = computed(() => (active.value ? active.value.clicks(activeOptions.value) : 0))
   const hint = computed(() => {
-    const t = markerTool.value
-    if (!t) return ''
-    if (saving.value) return `Saving the ${KIND_WORD[t]}; the server checks it against the stored points…`
-    return placingHint(t, picks.value.length, section.plane)
+    const k = active.value
+    if (!k) return ''
+    if (saving.value) return `Saving the ${k.word}; the server checks it against the stored points…`
+    return k.hint(picks.value.length, activeOptions.value)
   })
-  const sectionReady = computed(() => markerTool.value === 'section-marker' && picks.value.length === needed.value)
-  const sectionIssue = computed(() => (markerTool.value === 'section-marker' ? sectionProblem(picks.value, section.plane) : null))
+  const ready = computed(() => !!active.value && needed.value > 0 && picks.value.length === needed.value)
+  const problem = computed(() => active.value?.problem?.(picks.value, activeOptions.value) ?? null)
 
   /** The picks so far, and the cursor while more are needed. */
   const previewPoints = computed<{ points: Vec3[]; u: number[] }>(() => {
@@ -79,15 +63,11 @@ export function useMarkerTools(options: MarkerToolsOptions) {
     if (h && list.length > 0 && list.length < needed.value && !saving.value) list.push({ point: h.point, instanceId: h.instanceId })
     return { points: list.map((p) => p.point), u: list.map((p) => options.uncertaintyOf(p.instanceId)) }
   })
-  const preview = computed(() => {
-    const t = markerTool.value
-    if (!t) return null
-    return previewText(t, previewPoints.value.points, previewPoints.value.u, unit.value)
-  })
+  const preview = computed(() => active.value?.preview?.(previewPoints.value.points, previewPoints.value.u, unit.value) ?? null)
 
   watch(
-    [markerTool, previewPoints, preview, viewer],
-    ([t, { points }, text, v]) => v?.setMarkerPreview(t && t !== 'clearance' ? previewView(MARKER_TOOL_KIND[t], points, text) : null),
+    [active, previewPoints, preview, viewer],
+    ([k, { points }, text, v]) => v?.setMarkerPreview(k && k.clicks(kindOptions[k.kind]) > 0 ? previewView(k.kind, points, text) : null),
     { immediate: true },
   )
 
@@ -99,9 +79,12 @@ export function useMarkerTools(options: MarkerToolsOptions) {
   }
 
   watch(markerTool, cancel)
+  // Some options change what the clicks mean (a section's plane): the clicks start over.
   watch(
-    () => section.plane,
-    () => (picks.value = []),
+    () => (active.value?.restartOn ?? []).map((key) => activeOptions.value[key]),
+    (now, before) => {
+      if (now.some((v, i) => v !== before?.[i])) picks.value = []
+    },
   )
 
   async function save(body: MarkerCreateBody): Promise<Marker | null> {
@@ -122,27 +105,13 @@ export function useMarkerTools(options: MarkerToolsOptions) {
   }
 
   function takePick(pick: PickResult): void {
-    const t = markerTool.value
-    if (!t || t === 'clearance' || saving.value) return
+    const k = active.value
+    if (!k || needed.value === 0 || saving.value) return
     error.value = null
     picks.value = addPick(picks.value, { instanceId: pick.instanceId, point: pick.point }, needed.value)
     if (picks.value.length < needed.value) return
-    if (t === 'distance') void save(distanceBody(picks.value))
-    else if (t === 'angle') void save(angleBody(picks.value))
-    // A section waits for its panel's "Create section".
-  }
-
-  async function createSection(): Promise<Marker | null> {
-    if (!sectionReady.value || sectionIssue.value) return null
-    return save(sectionBody(picks.value, { plane: section.plane, thickness: section.thickness, opening: section.opening }))
-  }
-
-  function createSectionByNumbers(plane: { origin: Vec3; normal: Vec3; instanceIds: string[] }): Promise<Marker | null> {
-    return save(sectionNumbersBody(plane, { thickness: section.thickness, opening: section.opening }))
-  }
-
-  function createClearance(input: ClearanceOptions): Promise<Marker | null> {
-    return save(clearanceBody(input))
+    // Kinds made by clicks alone save now; the others wait for their panel (a section's "Create section").
+    if (k.bodyOf) void save(k.bodyOf(picks.value, activeOptions.value))
   }
 
   function onKey(event: KeyboardEvent): void {
@@ -157,23 +126,23 @@ export function useMarkerTools(options: MarkerToolsOptions) {
     viewer.value?.setMarkerPreview(null)
   })
 
-  return {
-    markerTool,
-    picks,
-    needed,
-    hint,
-    preview,
-    saving,
-    error,
-    section,
-    sectionReady,
-    sectionIssue,
-    takePick,
+  /** What the active kind's panel is handed (app/kinds/types.ts, PlacingContext). */
+  const placing = computed<PlacingContext['tools']>(() => ({
+    hint: hint.value,
+    count: picks.value.length,
+    needed: needed.value,
+    ready: ready.value,
+    problem: problem.value,
+    preview: preview.value,
+    saving: saving.value,
+    error: error.value,
+    picks: picks.value,
+    options: activeOptions.value,
+    save,
     cancel,
-    createSection,
-    createSectionByNumbers,
-    createClearance,
-  }
+  }))
+
+  return { active, markerTool, picks, needed, hint, preview, saving, error, ready, problem, placing, takePick, cancel, save }
 }
 
 /**
@@ -239,7 +208,7 @@ export function useMarkerToolTestHook(viewer: ShallowRef<PointViewer | null>, ma
         state: m.check.state,
         value: m.check.value,
         expandedUncertainty: m.check.expandedUncertainty,
-        outcome: m.check.clearance?.outcome ?? null,
+        outcome: checkOutcome(m.check),
       })),
     selected: () => selectedId.value,
     seenAt: (id) => firstSeen.get(id) ?? null,

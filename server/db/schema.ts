@@ -1,4 +1,5 @@
 import type { ColumnType, Generated, Insertable, Selectable, Updateable } from 'kysely'
+import type { MarkerKind } from '@shared/kinds'
 
 /** Timestamps come back as Date and may be written as Date or ISO text. */
 type Timestamp = ColumnType<Date, Date | string | undefined, Date | string>
@@ -244,7 +245,8 @@ export interface SceneInstancesTable {
 export interface MarkersTable {
   id: Generated<string>
   scene_id: string
-  kind: 'distance' | 'angle' | 'section' | 'clearance'
+  /** One of the kinds in shared/kinds (the schemas decide; the database keeps no list of its own). */
+  kind: MarkerKind
   label: string
   /** JSON: [{instanceId, x, y, z}] in each placement's own frame. */
   anchors: Json<{ instanceId: string; x: number; y: number; z: number }[]>

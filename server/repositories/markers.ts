@@ -1,7 +1,7 @@
 import { sql } from 'kysely'
 import type { Conn } from '../db'
 import type { CheckState } from '@shared/collab/states'
-import type { MarkerKind } from '@shared/schemas'
+import { DEPENDENT_PARAMS, PLACEMENT_PARAMS, type MarkerKind } from '@shared/schemas'
 
 export interface StoredAnchor {
   instanceId: string
@@ -158,8 +158,8 @@ export async function storeCheck(db: Conn, markerId: string, revision: number, s
 }
 
 /**
- * Markers that depend on a placement: anchored on it, a section cutting it, a clearance of it as the object,
- * and clearances through a section that depends on it. They go back to pending with a new revision.
+ * Markers that depend on a placement: anchored on it, naming it in a param (a section cutting it, a clearance
+ * of it as the object: the kinds' `placementParams`), and those measured through such a marker. They go back to pending with a new revision.
  */
 export async function invalidateMarkersOfInstance(db: Conn, sceneId: string, instanceId: string): Promise<{ id: string; revision: number }[]> {
   const direct = await db
@@ -169,25 +169,27 @@ export async function invalidateMarkersOfInstance(db: Conn, sceneId: string, ins
     .where((eb) =>
       eb.or([
         sql<boolean>`anchors @> ${JSON.stringify([{ instanceId }])}::jsonb`,
-        sql<boolean>`coalesce(params->'instanceIds', '[]'::jsonb) @> ${JSON.stringify([instanceId])}::jsonb`,
-        sql<boolean>`params->>'objectInstanceId' = ${instanceId}`,
+        // A param naming the placement, one id or a list (a jsonb array contains a scalar it holds).
+        ...PLACEMENT_PARAMS.map((param) => sql<boolean>`coalesce(params->${param}, 'null'::jsonb) @> to_jsonb(${instanceId}::text)`),
       ]),
     )
     .returning(['id', 'revision'])
     .execute()
-  const dependants = await invalidateClearancesThrough(db, sceneId, direct.map((m) => m.id))
+  const dependants = await invalidateDependents(db, sceneId, direct.map((m) => m.id))
   return [...direct, ...dependants]
 }
 
-/** Clearances through any of these section markers go back to pending. */
-export async function invalidateClearancesThrough(db: Conn, sceneId: string, sectionIds: string[]): Promise<{ id: string; revision: number }[]> {
-  if (sectionIds.length === 0) return []
+/**
+ * Markers measured through any of these markers (a clearance through its section: the kinds' `dependsOn`
+ * params, shared/kinds) go back to pending.
+ */
+export async function invalidateDependents(db: Conn, sceneId: string, markerIds: string[]): Promise<{ id: string; revision: number }[]> {
+  if (markerIds.length === 0 || DEPENDENT_PARAMS.length === 0) return []
   return db
     .updateTable('markers')
     .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
     .where('scene_id', '=', sceneId)
-    .where('kind', '=', 'clearance')
-    .where(sql<string>`params->>'sectionMarkerId'`, 'in', sectionIds)
+    .where((eb) => eb.or(DEPENDENT_PARAMS.map(({ kind, param }) => eb.and([eb('kind', '=', kind), eb(sql<string>`params->>${param}`, 'in', markerIds)]))))
     .returning(['id', 'revision'])
     .execute()
 }

@@ -7,6 +7,7 @@ import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import type { Services } from '../types'
+import { kindCheck } from '../markers/kinds'
 
 /**
  * The one set of checks every marker and placement write goes through, whichever door it came in by: the
@@ -61,23 +62,18 @@ function toScene(anchors: readonly repo.StoredAnchor[], placements: Placements):
   })
 }
 
-/** Placements, sections and objects named by the marker must be in its scene. */
+/** Placements and markers named by the marker (its anchors, and what its kind's params name) must be in its scene. */
 export async function validateReferences(s: Services, sceneId: string, body: MarkerCreateBody, placements: Placements, markerId?: string): Promise<void> {
   body.anchors.forEach((a, i) => {
     if (!placements.has(a.instanceId)) throw invalid(`anchors.${i}.instanceId`, 'no placement with this id in the scene.')
   })
-  if (body.kind === 'section') {
-    body.params.instanceIds?.forEach((id, i) => {
-      if (!placements.has(id)) throw invalid(`params.instanceIds.${i}`, 'no placement with this id in the scene.')
-    })
-  }
-  if (body.kind === 'clearance') {
-    if (!placements.has(body.params.objectInstanceId)) throw invalid('params.objectInstanceId', 'no placement with this id in the scene.')
-    const section = await repo.findMarkerCore(s.db, body.params.sectionMarkerId)
-    if (!section || section.scene_id !== sceneId || section.id === markerId) throw invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
-    if (section.kind !== 'section') throw invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)
-    if (!(section.params as { opening?: boolean }).opening) throw invalid('params.sectionMarkerId', 'that section does not look for a free opening; turn "find the free opening" on first.')
-  }
+  await kindCheck(body.kind).references?.(body.params, {
+    sceneId,
+    ...(markerId === undefined ? {} : { markerId }),
+    hasPlacement: (id) => placements.has(id),
+    findMarker: (id) => repo.findMarkerCore(s.db, id),
+    invalid,
+  })
 }
 
 /**

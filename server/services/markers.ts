@@ -1,6 +1,6 @@
 import { transformPoint } from '@shared/geometry/rigidTransform'
 import type { LiveMarker } from '@shared/collab/documents'
-import type { Anchor, HistoryPageQuery, Marker, MarkerCreateBody, MarkerKind, MarkerReviewBody, MarkerRevision, MarkerUpdateBody } from '@shared/schemas'
+import { kindWord, type Anchor, type HistoryPageQuery, type Marker, type MarkerCreateBody, type MarkerKind, type MarkerReviewBody, type MarkerRevision, type MarkerUpdateBody } from '@shared/schemas'
 import { CHECK_STATE_LOOK } from '@shared/collab/states'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
@@ -24,7 +24,7 @@ function sameAnchors(a: readonly repo.StoredAnchor[], b: readonly repo.StoredAnc
 }
 
 function defaultLabel(kind: MarkerKind, n: number): string {
-  return `${kind} ${n}`
+  return `${kindWord(kind)} ${n}`
 }
 
 function checker(s: Services): MarkerChecker {
@@ -80,7 +80,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
   if (geometry) {
     if (moved) await reopenSignedOff(s, row.scene_id, [markerId], options.action === 'restored' ? REOPEN_NOTES.restored : REOPEN_NOTES.geometry, userId, { live: false })
     await checker(s).checkNow(markerId)
-    if (row.kind === 'section') await sectionChanged(s, row.scene_id, merged.label ?? row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'changed')
+    await dependencyChanged(s, row.scene_id, row.kind, merged.label ?? row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId]), userId, 'changed')
   }
   await s.live.markerChanged(row.scene_id, markerId)
   return present(s, markerId)
@@ -92,8 +92,8 @@ const REOPEN_NOTES = {
   restored: 'An earlier version of its anchors or settings was restored after the sign-off.',
   placementMoved: (name: string) => `The placement “${name}” it is measured on was moved after the sign-off.`,
   placementRemoved: (name: string) => `The placement “${name}” it is measured on was removed from the scene.`,
-  sectionChanged: (label: string) => `The section “${label}” it is measured through changed after the sign-off.`,
-  sectionDeleted: (label: string) => `The section “${label}” it was measured through was deleted.`,
+  throughChanged: (kind: MarkerKind, label: string) => `The ${kindWord(kind)} “${label}” it is measured through changed after the sign-off.`,
+  throughDeleted: (kind: MarkerKind, label: string) => `The ${kindWord(kind)} “${label}” it was measured through was deleted.`,
 }
 
 /**
@@ -109,11 +109,15 @@ async function reopenSignedOff(s: Services, sceneId: string, markerIds: readonly
   }
 }
 
-/** Clearances through a section that changed or went are checked again, and signed-off ones reopened. */
-async function sectionChanged(s: Services, sceneId: string, label: string, clearances: { id: string; revision: number }[], userId: string | null, how: 'changed' | 'deleted'): Promise<void> {
-  const note = how === 'changed' ? REOPEN_NOTES.sectionChanged(label) : REOPEN_NOTES.sectionDeleted(label)
-  await reopenSignedOff(s, sceneId, clearances.map((c) => c.id), note, userId, { live: true })
-  await recheck(s, sceneId, clearances)
+/**
+ * Markers measured through one that changed or went (a clearance through its section: the kinds' `dependsOn`,
+ * shared/kinds) are checked again, and signed-off ones reopened.
+ */
+async function dependencyChanged(s: Services, sceneId: string, kind: MarkerKind, label: string, dependents: { id: string; revision: number }[], userId: string | null, how: 'changed' | 'deleted'): Promise<void> {
+  if (dependents.length === 0) return
+  const note = how === 'changed' ? REOPEN_NOTES.throughChanged(kind, label) : REOPEN_NOTES.throughDeleted(kind, label)
+  await reopenSignedOff(s, sceneId, dependents.map((c) => c.id), note, userId, { live: true })
+  await recheck(s, sceneId, dependents)
 }
 
 /**
@@ -161,7 +165,7 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
       revision = updated?.revision ?? row.revision
       // The caller writes this marker's record entry next (with its review back to open).
       if (geometry) await reopenSignedOff(s, sceneId, [markerId], REOPEN_NOTES.geometry, userId, { live: false })
-      if (geometry && row.kind === 'section') await sectionChanged(s, sceneId, row.label, await repo.invalidateClearancesThrough(s.db, sceneId, [markerId]), userId, 'changed')
+      if (geometry) await dependencyChanged(s, sceneId, row.kind, row.label, await repo.invalidateDependents(s.db, sceneId, [markerId]), userId, 'changed')
     } else {
       const checked = await checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, markerId)
       revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: checked.body.kind, label: entry.label, anchors: checked.anchors, params: checked.body.params, userId })).revision
@@ -190,7 +194,7 @@ export async function removeMarker(s: Services, markerId: string, actor: Actor, 
   await revisions.insertRevision(s.db, row, 'deleted', userId)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
-  if (row.kind === 'section') await sectionChanged(s, row.scene_id, row.label, await repo.invalidateClearancesThrough(s.db, row.scene_id, [markerId]), userId, 'deleted')
+  await dependencyChanged(s, row.scene_id, row.kind, row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId]), userId, 'deleted')
   if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 

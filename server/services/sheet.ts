@@ -1,5 +1,5 @@
 import { CAUTIONS } from '@shared/format/cautions'
-import type { Marker, Sheet, SheetScan } from '@shared/schemas'
+import { checkOutcome, type Marker, type Sheet, type SheetScan } from '@shared/schemas'
 import { HttpError } from '../errors'
 import { getCheckpoint } from './checkpoints'
 import { registrationStates } from '../registration/current'
@@ -124,7 +124,7 @@ export function sheetCsv(sheet: Sheet): string {
         c.expandedUncertainty,
         c.coverageFactor,
         c.state,
-        c.clearance?.outcome ?? null,
+        checkOutcome(c),
         m.review.state,
         m.review.by?.name,
         m.review.at,

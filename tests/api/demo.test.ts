@@ -1,4 +1,5 @@
 // The demo's synthetic scans go through the real upload and ingest path when the demo is seeded.
+import { resultOf } from '@shared/schemas'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Marker, Scan } from '@shared/schemas'
 import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD } from '../../server/demo/accounts'
@@ -74,14 +75,14 @@ it('seeds the demo project with its three scans, processed to ready', { timeout:
   expect(Math.abs(head.check.value! - DOOR.height)).toBeLessThan(head.check.expandedUncertainty! + 0.005)
   const section = by['west door, free opening']!
   expect(section.check.state, section.check.reason ?? '').toBe('checked')
-  const opening = section.check.section!.opening!
+  const opening = resultOf(section.check, 'section')!.opening!
   expect(Math.abs(opening.clearWidth - 2 * DOOR.halfWidth)).toBeLessThan(opening.uncertainty.width + 0.01)
   expect(Math.abs(opening.clearHeight - DOOR.height)).toBeLessThan(opening.uncertainty.height + 0.01)
   const upright = by['chest upright through the door']!.check
   expect(upright.state, upright.reason ?? '').toBe('checked')
-  expect(upright.clearance).toMatchObject({ outcome: 'does-not-pass', requiredMargin: 0.08, rotationDegrees: 0 })
-  expect(Math.abs(upright.clearance!.margin - (2 * DOOR.halfWidth - CHEST.length) / 2)).toBeLessThan(upright.expandedUncertainty! + 0.01)
-  const free = by['chest, any turn']!.check.clearance!
+  expect(resultOf(upright, 'clearance')).toMatchObject({ outcome: 'does-not-pass', requiredMargin: 0.08, rotationDegrees: 0 })
+  expect(Math.abs(resultOf(upright, 'clearance')!.margin - (2 * DOOR.halfWidth - CHEST.length) / 2)).toBeLessThan(upright.expandedUncertainty! + 0.01)
+  const free = resultOf(by['chest, any turn']!.check, 'clearance')!
   expect(free.outcome).toBe('passes')
   expect(Math.abs(Math.abs(free.rotationDegrees) - 90)).toBeLessThan(3)
   // Across the stations: B only roughly placed, so the width reads off the true 1.40 m by more than its U.

@@ -2,6 +2,7 @@
 // (seeded noise, 1 cm grids, 1 mm normal noise): tests/utils/solids.ts. Reference values are the solids' own
 // dimensions; budgets follow GUM (JCGM 100:2008) 4.3.7 and 5.1; the decision rule is DOMAIN section 2's guard
 // band (after JCGM 106:2012).
+import { resultOf } from '@shared/schemas'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { Matrix4 } from 'three'
 import type { Marker } from '@shared/schemas'
@@ -103,8 +104,8 @@ describe('distance and angle', () => {
     expect(m.check.unit).toBe('m')
     // Reference: the solid's own width 1.4 m; the anchors snap within 1 mm noise of it.
     expect(Math.abs(m.check.value! - 1.4)).toBeLessThan(m.check.expandedUncertainty!)
-    expect(m.check.distance!.horizontal).toBeCloseTo(m.check.value!, 2)
-    expect(Math.abs(m.check.distance!.vertical)).toBeLessThan(0.01)
+    expect(resultOf(m.check, 'distance')!.horizontal).toBeCloseTo(m.check.value!, 2)
+    expect(Math.abs(resultOf(m.check, 'distance')!.vertical)).toBeLessThan(0.01)
     const spacing = (await owner.agent.get(`/api/scans/${scanIds.wide}`).expect(200)).body.scan.spacing as number
     for (const a of m.check.anchors) {
       expect(a.onScan).toBe(true)
@@ -176,25 +177,25 @@ describe('sections', () => {
   it('finds the clear width and height of a rectangular doorway within the stated uncertainty', async () => {
     const m = await openingSection('wide', 0.7)
     expect(m.check.state).toBe('checked')
-    const o = m.check.section!.opening!
+    const o = resultOf(m.check, 'section')!.opening!
     expect(Math.abs(o.clearWidth - 1.4)).toBeLessThanOrEqual(o.uncertainty.width)
     expect(Math.abs(o.clearHeight - 2.1)).toBeLessThanOrEqual(o.uncertainty.height)
     expect(m.check.value).toBe(o.clearWidth)
-    expect(m.check.section!.pointCount).toBeGreaterThan(1000)
-    expect(m.check.section!.outline.length).toBeGreaterThan(6)
+    expect(resultOf(m.check, 'section')!.pointCount).toBeGreaterThan(1000)
+    expect(resultOf(m.check, 'section')!.outline.length).toBeGreaterThan(6)
     expect(o.outline.length).toBeGreaterThan(6)
     // The frame: a vertical plane through the jambs, v up.
-    expect(m.check.section!.frame.v[2]).toBeCloseTo(1, 9)
+    expect(resultOf(m.check, 'section')!.frame.v[2]).toBeCloseTo(1, 9)
   })
 
   it('finds the clear width and the crown height of an arched opening (semicircular head, R = 0.7 m)', async () => {
     const m = await openingSection('arch', 0.7)
     expect(m.check.state).toBe('checked')
-    const o = m.check.section!.opening!
+    const o = resultOf(m.check, 'section')!.opening!
     // Derived from the solid (R = 0.7, springing s = 0.8, growth radius r = one spacing): the clear width is the
     // narrowest row of the middle half, its top row, a quarter of the shrunk height below the shrunk crown;
     // the clear height the lowest column of the middle half, at a quarter of the shrunk width.
-    const R = 0.7, s = 0.8, r = m.check.section!.spacing
+    const R = 0.7, s = 0.8, r = resultOf(m.check, 'section')!.spacing
     const vTop = r + 0.75 * (s + R - 2 * r)
     const width = 2 * Math.sqrt((R - r) ** 2 - (vTop - s) ** 2) + 2 * r
     const height = s + ((R - r) * Math.sqrt(3)) / 2 + r
@@ -232,7 +233,7 @@ describe('clearances', () => {
   it('passes a 1.0 x 0.8 m box through a 1.4 x 2.1 m doorway, best stood on its end with 0.3 m either side', async () => {
     const m = await clearance('box', wide)
     expect(m.check.state).toBe('checked')
-    const c = m.check.clearance!
+    const c = resultOf(m.check, 'clearance')!
     expect(c.outcome).toBe('passes')
     expect(c.requiredMargin).toBe(0.05)
     // Upright the margin is (1.4 - 1.0) / 2 = 0.2; turned 90 degrees in the opening plane (0.8 m wide) it is
@@ -244,14 +245,14 @@ describe('clearances', () => {
   })
 
   it('does not pass the box through a 0.7 m doorway, turned or not', async () => {
-    const c = (await clearance('box', narrow)).check.clearance!
+    const c = resultOf((await clearance('box', narrow)).check, 'clearance')!
     expect(c.outcome).toBe('does-not-pass')
     expect(c.margin).toBeLessThan(0)
   })
 
   it('passes the box through a 0.9 m doorway only turned about 90 degrees in the opening plane', async () => {
     const m = await clearance('box', medium, 0.02)
-    const c = m.check.clearance!
+    const c = resultOf(m.check, 'clearance')!
     expect(c.outcome).toBe('passes')
     expect(Math.abs(((c.rotationDegrees + 360) % 180) - 90)).toBeLessThan(3)
     expect(Math.abs(c.margin - 0.05)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
@@ -263,7 +264,7 @@ describe('clearances', () => {
     // give (0.9 - 0.6) / 2 = 0.15, the head, resting on the floor, 2.1 - 0.8 = 1.3: the margin is 0.15.
     const m = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: medium.id, orientation: { mode: 'upright' } } })
     expect(m.check.state, m.check.reason ?? '').toBe('checked')
-    const c = m.check.clearance!
+    const c = resultOf(m.check, 'clearance')!
     expect(c.carriage).toEqual({ mode: 'floor', restOn: expect.any(Number), floorFound: true })
     // Resting on the floor: z = 0, one metre below the section's origin (its anchors are at z = 1).
     expect(Math.abs(c.carriage!.restOn! - -1)).toBeLessThan(0.01)
@@ -278,13 +279,13 @@ describe('clearances', () => {
   it('lifts the box on a trolley until its head no longer clears, and carries it when asked (derived)', async () => {
     // Doorway 1.4 x 2.1 m. On a 1.5 m trolley the 0.8 m box reaches 2.3 m > 2.1 m: it cannot pass.
     const high = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, carriage: { mode: 'trolley', height: 1.5 }, maxTurnDegrees: 0 } })
-    expect(high.check.clearance!.carriage!.mode).toBe('trolley')
-    expect(high.check.clearance!.outcome).toBe('does-not-pass')
-    expect(high.check.clearance!.assumptions.join(' ')).toMatch(/trolley or skates 1.500 m high/)
+    expect(resultOf(high.check, 'clearance')!.carriage!.mode).toBe('trolley')
+    expect(resultOf(high.check, 'clearance')!.outcome).toBe('does-not-pass')
+    expect(resultOf(high.check, 'clearance')!.assumptions.join(' ')).toMatch(/trolley or skates 1.500 m high/)
     const carried = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, carriage: { mode: 'carried' }, maxTurnDegrees: 0 } })
     // Carried, centred, as it stands: min((1.4 - 1.0) / 2, (2.1 - 0.8) / 2) = 0.2.
-    expect(Math.abs(carried.check.clearance!.margin - 0.2)).toBeLessThanOrEqual(carried.check.expandedUncertainty! + 0.005)
-    expect(carried.check.clearance!.carriage).toEqual({ mode: 'carried', restOn: null, floorFound: true })
+    expect(Math.abs(resultOf(carried.check, 'clearance')!.margin - 0.2)).toBeLessThanOrEqual(carried.check.expandedUncertainty! + 0.005)
+    expect(resultOf(carried.check, 'clearance')!.carriage).toEqual({ mode: 'carried', restOn: null, floorFound: true })
   })
 
   it('names the field of a bad turning or carriage setting', async () => {
@@ -297,15 +298,15 @@ describe('clearances', () => {
   })
 
   it('is too close to call when the required margin lies within the uncertainty', async () => {
-    const c = (await clearance('box', wide, 0.3)).check.clearance!
+    const c = resultOf((await clearance('box', wide, 0.3)).check, 'clearance')!
     expect(c.outcome).toBe('too-close-to-call')
   })
 
   it('passes a drum (radius 0.65 m) through the arch where its bounding square 1.3 x 1.3 m does not', async () => {
-    const drum = (await clearance('drum', arch, 0)).check.clearance!
+    const drum = resultOf((await clearance('drum', arch, 0)).check, 'clearance')!
     expect(drum.outcome).toBe('passes')
     expect(Math.abs(drum.margin - 0.05)).toBeLessThan(0.02)
-    const square = (await clearance('square', arch, 0)).check.clearance!
+    const square = resultOf((await clearance('square', arch, 0)).check, 'clearance')!
     expect(square.outcome).toBe('does-not-pass')
   })
 

@@ -2,6 +2,7 @@
 // through the seeded door section with the C tool, and the values the page shows are the API's. The demo's
 // geometry is invented (server/demo/synth/scene.ts); the reference here is the API's own answer, and for the
 // distance also the invented door's dimensions.
+import { resultOf } from '@shared/schemas'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'
 import type { Marker, Scene } from '@shared/schemas'
@@ -105,7 +106,7 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   const after = await list()
   const clearance = after.at(-1)!
   expect(clearance.kind).toBe('clearance')
-  expect(clearance.check.clearance!.outcome).toBe('passes')
+  expect(resultOf(clearance.check, 'clearance')!.outcome).toBe('passes')
   await expect.poll(() => page.getByTestId('marker-outcome').innerText()).toMatch(/passes/)
   await expect.poll(() => page.getByTestId('marker-value').innerText()).toBe(formatWithUncertainty(clearance.check.value, clearance.check.expandedUncertainty, 'length', 'm'))
   await expect(page.getByTestId('marker-figure').count()).resolves.toBe(1)

@@ -67,3 +67,6 @@ export const ICONS = {
 } as const
 
 export type IconName = keyof typeof ICONS
+
+/** An icon by name, or a path list drawn the same way (16 x 16 grid, 1.5 px stroke). */
+export type IconSource = IconName | readonly string[]

@@ -244,3 +244,9 @@ function num(x: number): string {
 export function svg(p: Uv): Uv {
   return [p[0], -p[1]]
 }
+
+/** What a plane figure draws: a section's points and opening, and a clearance's silhouette through it. */
+export interface MarkerFigureData {
+  section: import('@shared/schemas').SectionFigure | null
+  clearance: import('@shared/schemas').ClearanceResult | null
+}

@@ -4,14 +4,18 @@
  * (check.unit); uncertainties in parts are standard (k = 1), check.expandedUncertainty is k = 2.
  */
 import { CHECK_STATE_LOOK, CHECK_STATES, CLEARANCE_LOOK, REVIEW_LOOK, REVIEW_STATES, type CheckState, type ClearanceOutcome, type ReviewState, type StateLook } from '@shared/collab/states'
-import { formatArea, formatDegrees, formatLength, formatUncertainty, formatWithUncertainty, type LengthUnit } from '@shared/format/units'
-import { MARKER_KINDS, type Instance, type Marker, type MarkerKind, type Vec3 } from '@shared/schemas'
-import type { IconName } from '@/components/base/icons'
+import type { LengthUnit } from '@shared/format/units'
+import { checkOutcome, MARKER_KINDS, type Marker, type MarkerKind } from '@shared/schemas'
+import type { IconSource } from '@/components/base/icons'
+import { kindUi } from '@/kinds'
+import { formatQuantity, uncertaintyShort, valueKindOf } from './markerValues'
 
-export const KIND_WORDS: Record<MarkerKind, string> = { distance: 'distance', angle: 'angle', section: 'section', clearance: 'clearance' }
-export const KIND_ICONS: Record<MarkerKind, IconName> = { distance: 'kindDistance', angle: 'kindAngle', section: 'kindSection', clearance: 'kindClearance' }
-/** The kinds' viewport colours (the brand palette in app/plugins/theme.ts), for drawing on the charcoal chip only: they are too light for white. */
-export const KIND_COLORS: Record<MarkerKind, string> = { distance: '#F2B134', angle: '#7FC8C2', section: '#C7A0E8', clearance: '#F08A5D' }
+export * from './markerValues'
+
+/** Each kind's word, icon and viewport colour (its module in app/kinds; the colours are for the charcoal chip only: too light for white). */
+export const KIND_WORDS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).word])) as Record<MarkerKind, string>
+export const KIND_ICONS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).icon])) as Record<MarkerKind, IconSource>
+export const KIND_COLORS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).colour])) as Record<MarkerKind, string>
 
 export type AnyState = CheckState | ClearanceOutcome | ReviewState
 
@@ -25,71 +29,9 @@ export function lookOf(state: AnyState): StateLook {
 /** The caution shown beside every clearance result (DESIGN section 11). */
 export { CLEARANCE_CAUTION } from '@shared/format/cautions'
 
-export type ValueKind = 'length' | 'angle' | 'area'
-
-/** What the check's value measures: its stated unit, else what the kind gives. */
-export function valueKindOf(marker: Marker): ValueKind {
-  const unit = marker.check.unit
-  if (unit === 'deg') return 'angle'
-  if (unit === 'm2') return 'area'
-  if (unit === 'm') return 'length'
-  return marker.kind === 'angle' ? 'angle' : 'length'
-}
-
-/** A single quantity in the value's own kind (no uncertainty): for breakdowns and parts. */
-export function formatQuantity(value: number | null | undefined, kind: ValueKind, unit: LengthUnit): string {
-  if (kind === 'angle') return formatDegrees(value, 2)
-  if (kind === 'area') return formatArea(value, unit)
-  return formatLength(value, unit)
-}
-
-/** A standard uncertainty (k = 1) of a part, in the value's own kind. */
-export function formatPart(u: number | null | undefined, kind: ValueKind, unit: LengthUnit): string {
-  if (kind === 'angle') return formatDegrees(u, 3)
-  if (kind === 'area') return u === null || u === undefined || !Number.isFinite(u) ? '\u2014' : `${u.toFixed(4)} m\u00b2`
-  return formatUncertainty(u, unit)
-}
-
-/** "0.912 m ± 4.0 mm (k = 2)", "88.40° ± 0.12° (k = 2)", "1.204 m²"; a dash while there is no value. */
-export function valueText(marker: Marker, unit: LengthUnit): string {
-  const c = marker.check
-  return formatWithUncertainty(c.value, c.expandedUncertainty, valueKindOf(marker), unit, c.coverageFactor)
-}
-
-/** The expanded uncertainty alone in the value's kind, or null where there is none to state. */
-export function uncertaintyShort(marker: Marker, unit: LengthUnit): string | null {
-  const c = marker.check
-  const kind = valueKindOf(marker)
-  if (c.value === null || kind === 'area' || c.expandedUncertainty === null) return null
-  return kind === 'angle' ? formatDegrees(c.expandedUncertainty, 2) : formatUncertainty(c.expandedUncertainty, unit)
-}
-
-/** The table's shorter form, its header saying "± U (k = 2)": "0.912 m ± 4.0 mm". */
-export function valueShort(marker: Marker, unit: LengthUnit): string {
-  const c = marker.check
-  if (c.value === null) return '\u2014'
-  const value = formatQuantity(c.value, valueKindOf(marker), unit)
-  const u = uncertaintyShort(marker, unit)
-  return u === null ? value : `${value} \u00b1 ${u}`
-}
-
 /** What a value is, in words, for the card's caption. */
 export function valueCaption(marker: Marker): string {
-  if (marker.kind === 'clearance') return 'smallest margin'
-  if (marker.kind === 'section') return marker.check.section?.opening ? 'clear width of the opening' : 'area of the section'
-  if (marker.kind === 'angle') return 'angle at the vertex'
-  return 'distance between the anchors'
-}
-
-export function placementName(instances: readonly Instance[], instanceId: string | null | undefined): string {
-  if (!instanceId) return '\u2014'
-  return instances.find((i) => i.id === instanceId)?.scanName ?? 'a removed placement'
-}
-
-/** Scene-frame coordinates: "x 1.204 m, y −0.330 m, z 2.100 m". */
-export function formatPoint(p: Vec3 | readonly number[] | null | undefined, unit: LengthUnit, axes: readonly string[] = ['x', 'y', 'z']): string {
-  if (!p) return '\u2014'
-  return p.map((c, i) => `${axes[i] ?? ''} ${formatLength(c, unit)}`.trim()).join(', ')
+  return kindUi(marker.kind).caption(marker)
 }
 
 export interface MarkerRow {
@@ -116,7 +58,7 @@ export interface MarkerRow {
 
 export function markerRow(marker: Marker, unit: LengthUnit): MarkerRow {
   const c = marker.check
-  const outcome = c.clearance?.outcome ?? null
+  const outcome = checkOutcome(c)
   return {
     id: marker.id,
     kind: marker.kind,
@@ -159,8 +101,3 @@ export const KIND_OPTIONS = MARKER_KINDS.map((k) => ({ value: k, label: KIND_WOR
 export const STATE_OPTIONS = CHECK_STATES.map((s) => ({ value: s, label: CHECK_STATE_LOOK[s].word }))
 export const REVIEW_OPTIONS = REVIEW_STATES.map((s) => ({ value: s, label: REVIEW_LOOK[s].word }))
 
-/** One anchor's residual against its tolerance: "1.2 mm ≤ 5.0 mm" (the word on/off the points goes beside it). */
-export function residualText(residual: number | null, tolerance: number, unit: LengthUnit): string {
-  if (residual === null) return `no stored point (tolerance ${formatUncertainty(tolerance, unit)})`
-  return `${formatUncertainty(residual, unit)} ${residual <= tolerance ? '\u2264' : '>'} ${formatUncertainty(tolerance, unit)}`
-}

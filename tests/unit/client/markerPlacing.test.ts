@@ -6,20 +6,21 @@
 // "0.912\u00a0m ± 4.0\u00a0mm (k = 2)".
 import { describe, expect, it } from 'vitest'
 import { MarkerCreateBody } from '@shared/schemas'
-import {
-  addPick,
-  anchorsNeeded,
-  angleBody,
-  clearanceBody,
-  distanceBody,
-  placingHint,
-  previewText,
-  sectionBody,
-  sectionNumbersBody,
-  sectionProblem,
-  type Picked,
-} from '@/components/viewer/markerPlacing'
+import type { LengthUnit } from '@shared/format/units'
+import { addPick, type Picked } from '@/components/viewer/markerPlacing'
 import { MARKER_TOOLS, TOOL_KEYS, isMarkerTool } from '@/components/viewer/viewerTools'
+import { kindOfTool, kindUi } from '@/kinds'
+import { clearanceBody } from '@/kinds/clearance/placing'
+import { sectionBody, sectionNumbersBody, sectionProblem, type SectionClicks } from '@/kinds/section/placing'
+import type { Vec3 } from '@/viewer/types'
+
+// Each kind's placing, read through the client's kind registry (app/kinds) as the page reads it.
+const tool = (id: string) => kindOfTool(id)!
+const anchorsNeeded = (id: string, plane: SectionClicks = 'two-points') => tool(id).clicks({ plane })
+const placingHint = (id: string, count: number, plane: SectionClicks = 'two-points') => tool(id).hint(count, { plane })
+const previewText = (id: string, points: readonly Vec3[], u: readonly number[], unit: LengthUnit) => tool(id).preview?.(points, u, unit) ?? null
+const distanceBody = (picks: readonly Picked[]) => kindUi('distance').bodyOf!(picks, {})
+const angleBody = (picks: readonly Picked[]) => kindUi('angle').bodyOf!(picks, {})
 import { WALK_KEYS } from '@/viewer/WalkControls'
 
 const A = '11111111-1111-4111-8111-111111111111'

@@ -5,9 +5,16 @@
 import { describe, expect, it } from 'vitest'
 import { CHECK_STATES, CLEARANCE_OUTCOMES, REVIEW_STATES } from '@shared/collab/states'
 import { hasPendingCheck } from '@/composables/useMarkers'
-import { clearanceFacts, distanceFacts, sectionFacts } from '@/components/markers/markerFacts'
+import type { LengthUnit } from '@shared/format/units'
+import type { Instance, Marker } from '@shared/schemas'
+import { kindUi } from '@/kinds'
 import { filterMarkers, lookOf, markerRow, residualText, valueKindOf, valueShort, valueText } from '@/components/markers/markerText'
 import { check, INSTANCE_ID, marker } from './factories'
+
+// Each kind's card facts, read through the client's kind registry (app/kinds) as the card reads them.
+const distanceFacts = (m: Marker, unit: LengthUnit) => kindUi('distance').facts!(m, { markers: [], instances: [], unit })
+const sectionFacts = (m: Marker, unit: LengthUnit) => kindUi('section').facts!(m, { markers: [], instances: [], unit })
+const clearanceFacts = (m: Marker, markers: Marker[], instances: Instance[], unit: LengthUnit) => kindUi('clearance').facts!(m, { markers, instances, unit })
 
 const distance = marker({
   kind: 'distance',
@@ -16,7 +23,7 @@ const distance = marker({
     unit: 'm',
     standardUncertainty: 0.002,
     expandedUncertainty: 0.004,
-    distance: { dx: 0.6, dy: -0.8, dz: 0.0, horizontal: 1.0, vertical: 0, uHorizontal: 0.002, uVertical: 0.0015 },
+    result: { kind: 'distance', dx: 0.6, dy: -0.8, dz: 0.0, horizontal: 1.0, vertical: 0, uHorizontal: 0.002, uVertical: 0.0015 },
   }),
 })
 const angle = marker({ kind: 'angle', label: 'Stair stringer', check: check({ value: 88.4, unit: 'deg', expandedUncertainty: 0.12 }) })
@@ -103,7 +110,8 @@ describe('facts', () => {
         value: 0.912,
         unit: 'm',
         expandedUncertainty: 0.006,
-        section: {
+        result: {
+          kind: 'section',
           frame: { origin: [0, 0, 0], u: [1, 0, 0], v: [0, 0, 1], n: [0, 1, 0] },
           thickness: 0.05,
           pointCount: 12_000,

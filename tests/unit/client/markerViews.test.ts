@@ -118,7 +118,7 @@ describe('labels', () => {
     // Only the outcome of the clearance result matters to the label (the rest is left out, so not parsed).
     const clearance: Marker = {
       ...marker({ kind: 'clearance' }),
-      check: check({ value: 0.031, unit: 'm', expandedUncertainty: 0.008, clearance: { outcome: 'too-close-to-call' } as Check['clearance'] }),
+      check: check({ value: 0.031, unit: 'm', expandedUncertainty: 0.008, result: { kind: 'clearance', outcome: 'too-close-to-call' } as Check['result'] }),
     }
     expect(markerLabel(clearance, 'm')).toMatchObject({ value: 'margin 0.031\u00a0m \u00b1 8.0\u00a0mm (k = 2)', state: { word: 'too close to call', shape: 'half-disc' } })
   })

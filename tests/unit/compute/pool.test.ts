@@ -146,7 +146,7 @@ describe('marker checks on the pool', () => {
       expect(newer).toBe(true)
       expect(check.state).toBe('pending')
       expect(check.reason).toBe('superseded by a newer change')
-      expect(check.clearance).toBeNull()
+      expect(check.result).toBeNull()
     } finally {
       channel.close()
     }

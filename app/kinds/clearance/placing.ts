@@ -1,0 +1,23 @@
+import type { ClearanceParams, MarkerCreateBody } from '@shared/schemas'
+
+export interface ClearanceOptions {
+  objectInstanceId: string
+  sectionMarkerId: string
+  /** Metres; omitted: the project's required margin. */
+  requiredMargin?: number
+  /** How it moves; omitted: on the floor when the opening has one, else carried. */
+  carriage?: ClearanceParams['carriage']
+  /** How it may be turned or tipped; omitted: any turn in the opening's plane. */
+  orientation?: ClearanceParams['orientation']
+}
+
+export function clearanceBody(options: ClearanceOptions): MarkerCreateBody {
+  const params: ClearanceParams = {
+    objectInstanceId: options.objectInstanceId,
+    sectionMarkerId: options.sectionMarkerId,
+  }
+  if (options.requiredMargin !== undefined) params.requiredMargin = options.requiredMargin
+  if (options.carriage) params.carriage = options.carriage
+  if (options.orientation) params.orientation = options.orientation
+  return { kind: 'clearance', anchors: [], params }
+}
