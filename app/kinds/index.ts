@@ -2,6 +2,7 @@ import type { MarkerKind } from '@shared/schemas'
 import { angleUi } from './angle'
 import { clearanceUi } from './clearance'
 import { distanceUi } from './distance'
+import { pointToPlaneUi } from './pointToPlane'
 import { sectionUi } from './section'
 import type { MarkerKindUi } from './types'
 
@@ -16,6 +17,7 @@ const KIND_UIS: { [K in MarkerKind]: MarkerKindUi<K> } = {
   angle: angleUi,
   section: sectionUi,
   clearance: clearanceUi,
+  'point-to-plane': pointToPlaneUi,
 }
 
 /** The kinds in the dock's order. */

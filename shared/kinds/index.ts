@@ -2,6 +2,7 @@ import { z } from 'zod'
 import { angle } from './angle'
 import { clearance } from './clearance'
 import { distance } from './distance'
+import { pointToPlane } from './pointToPlane'
 import { section } from './section'
 
 /**
@@ -10,7 +11,7 @@ import { section } from './section'
  * server's checks (server/markers/kinds/) and the client's tools (app/kinds/) keep their own registries keyed
  * by these kinds. Adding a kind: DEVELOPERS.md, "Adding a marker kind".
  */
-export const KINDS = [distance, angle, section, clearance] as const
+export const KINDS = [distance, angle, section, clearance, pointToPlane] as const
 
 type Kinds = typeof KINDS
 type Kind = Kinds[number]

@@ -3,6 +3,7 @@ import type { CheckContext, CheckInput, Snapped } from '../checkParts'
 import { angle } from './angle'
 import { clearance } from './clearance'
 import { distance } from './distance'
+import { pointToPlane } from './pointToPlane'
 import { section } from './section'
 
 /**
@@ -35,6 +36,7 @@ const KIND_CHECKS: Record<MarkerKind, KindCheck> = {
   angle,
   section,
   clearance,
+  'point-to-plane': pointToPlane,
 }
 
 export function kindCheck(kind: MarkerKind): KindCheck {
