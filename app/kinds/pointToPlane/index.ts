@@ -86,7 +86,7 @@ export const pointToPlaneUi: MarkerKindUi<'point-to-plane'> = {
       { term: 'the point is', text: `${formatLength(Math.abs(r.signed), unit)} ${side}` },
       { term: 'plane from level', text: formatDegrees(r.tiltFromLevel, 2) },
       { term: 'plane from plumb', text: formatDegrees(r.tiltFromPlumb, 2) },
-      { term: 'plane points about their plane', text: `${formatUncertainty(r.planeRms, unit)} RMS` },
+      { term: 'plane points about their plane', text: marker.anchors.length > 4 ? `${formatUncertainty(r.planeRms, unit)} RMS` : 'none: three points define the plane exactly' },
     ]
   },
   anchorNames: ['the point', ...ORDINALS.map((o) => `${o} on the plane`)],
