@@ -3,6 +3,7 @@
 // the RMS, refines by ICP, accepts, and finds the width across the stations re-checked with B's registration
 // in its budget and the registration on the measurement sheet. References: the demo generator's own poses
 // and targets (server/demo/synth, invented geometry) and the API's answers.
+import '../utils/browserLane'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'
 import type { Marker, Registration, Scene } from '@shared/schemas'

@@ -1,6 +1,7 @@
 // The foundation flows in Chromium against the real server and database: sign up, sign in, create a
 // project, open the demo project and read its members and roles, reset a password through the dev
 // mailbox. Screenshots go to tests/output/screenshots/ to be looked at.
+import '../utils/browserLane'
 import fs from 'node:fs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'

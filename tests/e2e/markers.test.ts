@@ -2,6 +2,7 @@
 // through the seeded door section with the C tool, and the values the page shows are the API's. The demo's
 // geometry is invented (server/demo/synth/scene.ts); the reference here is the API's own answer, and for the
 // distance also the invented door's dimensions.
+import '../utils/browserLane'
 import { resultOf } from '@shared/schemas'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'

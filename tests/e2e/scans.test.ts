@@ -1,6 +1,7 @@
 // Scans in through the page, in Chromium: the demo's scans are there; a measurer uploads one file of each
 // format at once, watches them go from transfer to ready with their figures, and a bad file shows its
 // message. Screenshots go to tests/output/screenshots/.
+import '../utils/browserLane'
 import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, expect, it } from 'vitest'

@@ -2,6 +2,7 @@
 // from the dev mailbox and followed, the person signs up with the invited address and joins; the demo's
 // guest opens the viewing pass from the dev mailbox, sees the demo scene read-only, and the owner's revoke
 // ends the guest's page at once. Screenshots go to tests/output/screenshots/ to be looked at.
+import '../utils/browserLane'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import type { Scene } from '@shared/schemas'

@@ -1,6 +1,7 @@
 // The scene viewer in Chromium (WebGL through SwiftShader) on the seeded demo scene: points drawn and not
 // blank, within the point budget, a click on a known stored point reads that point back, a placement
 // moved through the form is still moved after a reload, and a mentor can neither move one nor see how.
+import '../utils/browserLane'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import { decodeTile } from '@shared/points/tileFormat'
