@@ -16,7 +16,7 @@ export interface ViewerBenchRow {
   points: number
   firstFrameMs: number
   pointsDrawn: number
-  pointBudget: number
+  drawLimit: number
   tilesLoaded: number
   medianFrameMs: number
 }
@@ -67,7 +67,7 @@ export async function runViewerBench(points: number, log: (l: string) => void = 
       points,
       firstFrameMs: stats.firstFrameMs ?? NaN,
       pointsDrawn: stats.pointsDrawn,
-      pointBudget: stats.pointBudget,
+      drawLimit: stats.drawLimit,
       tilesLoaded: stats.tilesLoaded,
       medianFrameMs: frameTimes[frameTimes.length >> 1]!,
     }
@@ -82,7 +82,7 @@ export function formatViewerBench(r: ViewerBenchRow): string {
   return [
     `scan of ${r.points / 1e6} M points in headless Chromium (software GL):`,
     `  first frame with points ${r.firstFrameMs.toFixed(0)} ms after the view was created (target < 1000 ms)`,
-    `  points drawn ${r.pointsDrawn.toLocaleString('en')} of a budget of ${r.pointBudget.toLocaleString('en')}, ${r.tilesLoaded} tiles`,
+    `  points drawn ${r.pointsDrawn.toLocaleString('en')} of a budget of ${r.drawLimit.toLocaleString('en')}, ${r.tilesLoaded} tiles`,
     `  median frame time ${r.medianFrameMs.toFixed(1)} ms (indicative: SwiftShader)`,
   ].join('\n')
 }

@@ -1,6 +1,6 @@
 import { onBeforeUnmount, onMounted, reactive, ref, shallowRef, watch, type Ref } from 'vue'
 import { apiPointSource } from '@/api/points'
-import { MAX_POINT_BUDGET, MIN_POINT_BUDGET, PointViewer } from '@/viewer/PointViewer'
+import { MAX_DRAW_LIMIT, MIN_DRAW_LIMIT, PointViewer } from '@/viewer/PointViewer'
 import type { InstanceSpec, InstanceStatus, PickResult, ViewerStats } from '@/viewer/types'
 import type { ViewerSettings } from './useViewerSettings'
 
@@ -9,7 +9,7 @@ export interface SpanmarkViewerHook {
   stats(): ViewerStats
   project(x: number, y: number, z: number): { x: number; y: number }
   lastPick(): { x: number; y: number; z: number } | null
-  setPointBudget(points: number): void
+  setDrawLimit(points: number): void
 }
 
 declare global {
@@ -40,7 +40,7 @@ export function useSceneViewer(container: Ref<HTMLElement | null>, instances: ()
     if (!el) return
     const v = new PointViewer(el, {
       source: apiPointSource,
-      pointBudget: settings.pointBudget,
+      drawLimit: settings.drawLimit,
       pointSize: settings.pointSize,
       colorMode: settings.colorMode,
     })
@@ -67,9 +67,9 @@ export function useSceneViewer(container: Ref<HTMLElement | null>, instances: ()
           const p = v.lastPick()
           return p ? { x: p.point[0], y: p.point[1], z: p.point[2] } : null
         },
-        setPointBudget: (points) => {
-          settings.pointBudget = Math.round(Math.min(MAX_POINT_BUDGET, Math.max(MIN_POINT_BUDGET, points)))
-          v.setPointBudget(points)
+        setDrawLimit: (points) => {
+          settings.drawLimit = Math.round(Math.min(MAX_DRAW_LIMIT, Math.max(MIN_DRAW_LIMIT, points)))
+          v.setDrawLimit(points)
         },
       },
     }
@@ -87,8 +87,8 @@ export function useSceneViewer(container: Ref<HTMLElement | null>, instances: ()
 
   watch(instances, (specs) => viewer.value?.setInstances(specs), { deep: true })
   watch(
-    () => settings.pointBudget,
-    (n) => viewer.value?.setPointBudget(n),
+    () => settings.drawLimit,
+    (n) => viewer.value?.setDrawLimit(n),
   )
   watch(
     () => settings.pointSize,

@@ -1,6 +1,6 @@
 import { reactive, watch } from 'vue'
 import { LENGTH_UNITS, type LengthUnit } from '@shared/format/units'
-import { DEFAULT_POINT_BUDGET, MAX_POINT_BUDGET, MIN_POINT_BUDGET } from '@/viewer/PointViewer'
+import { DEFAULT_DRAW_LIMIT, MAX_DRAW_LIMIT, MIN_DRAW_LIMIT } from '@/viewer/PointViewer'
 import type { ColorMode } from '@/viewer/types'
 
 export const COLOR_MODES: readonly { value: ColorMode; label: string }[] = [
@@ -11,7 +11,7 @@ export const COLOR_MODES: readonly { value: ColorMode; label: string }[] = [
 ]
 
 export interface ViewerSettings {
-  pointBudget: number
+  drawLimit: number
   pointSize: number
   colorMode: ColorMode
   unit: LengthUnit
@@ -20,11 +20,13 @@ export interface ViewerSettings {
 const STORAGE_KEY = 'spanmark.viewer.settings'
 
 function load(): ViewerSettings {
-  const defaults: ViewerSettings = { pointBudget: DEFAULT_POINT_BUDGET, pointSize: 2, colorMode: 'rgb', unit: 'm' }
+  const defaults: ViewerSettings = { drawLimit: DEFAULT_DRAW_LIMIT, pointSize: 2, colorMode: 'rgb', unit: 'm' }
   try {
-    const raw = JSON.parse(localStorage.getItem(STORAGE_KEY) ?? '{}') as Partial<ViewerSettings>
+    const raw = JSON.parse(localStorage.getItem(STORAGE_KEY) ?? '{}') as Partial<ViewerSettings> & { pointBudget?: number }
+    // Kept from before the setting took its own name.
+    if (raw.drawLimit === undefined && raw.pointBudget !== undefined) raw.drawLimit = raw.pointBudget
     return {
-      pointBudget: Number.isFinite(raw.pointBudget) ? Math.min(MAX_POINT_BUDGET, Math.max(MIN_POINT_BUDGET, raw.pointBudget!)) : defaults.pointBudget,
+      drawLimit: Number.isFinite(raw.drawLimit) ? Math.min(MAX_DRAW_LIMIT, Math.max(MIN_DRAW_LIMIT, raw.drawLimit!)) : defaults.drawLimit,
       pointSize: Number.isFinite(raw.pointSize) ? Math.min(8, Math.max(1, raw.pointSize!)) : defaults.pointSize,
       colorMode: COLOR_MODES.some((m) => m.value === raw.colorMode) ? raw.colorMode! : defaults.colorMode,
       unit: (LENGTH_UNITS as readonly string[]).includes(raw.unit ?? '') ? raw.unit! : defaults.unit,
@@ -34,7 +36,7 @@ function load(): ViewerSettings {
   }
 }
 
-/** The reader's own display settings for scenes (this browser only): point budget and size, colouring, unit. */
+/** The reader's own display settings for scenes (this browser only): drawing limit and size, colouring, unit. */
 export function useViewerSettings() {
   const settings = reactive(load())
   watch(settings, (s) => {

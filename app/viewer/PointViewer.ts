@@ -42,9 +42,9 @@ import type {
 import { ViewInstance } from './ViewInstance'
 import { WalkControls } from './WalkControls'
 
-export const DEFAULT_POINT_BUDGET = 3_000_000
-export const MIN_POINT_BUDGET = 1_000
-export const MAX_POINT_BUDGET = 50_000_000
+export const DEFAULT_DRAW_LIMIT = 3_000_000
+export const MIN_DRAW_LIMIT = 1_000
+export const MAX_DRAW_LIMIT = 50_000_000
 export const DEFAULT_CACHE_BYTES = 512 * 1024 * 1024
 export const DEFAULT_MAX_REQUESTS = 4
 /** A click lands on a stored point whose image is within this many CSS pixels of the cursor. */
@@ -57,7 +57,7 @@ const BACKGROUND = '#1E1B18'
 
 export interface PointViewerOptions {
   source: PointSource
-  pointBudget?: number
+  drawLimit?: number
   cacheBytes?: number
   maxRequests?: number
   /** Point size in CSS pixels. */
@@ -118,7 +118,7 @@ export class PointViewer {
   private source: PointSource
   private origin: Vec3 | null = null
   private sceneBox: THREE.Box3 | null = null
-  private budget: number
+  private limit: number
   private pointSize: number
   private colorMode: ColorMode
   private detailPx: number
@@ -154,7 +154,7 @@ export class PointViewer {
     options: PointViewerOptions,
   ) {
     this.source = options.source
-    this.budget = clampBudget(options.pointBudget ?? DEFAULT_POINT_BUDGET)
+    this.limit = clampLimit(options.drawLimit ?? DEFAULT_DRAW_LIMIT)
     this.pointSize = options.pointSize ?? 2
     this.colorMode = options.colorMode ?? 'rgb'
     this.detailPx = options.detailPx ?? 1.5
@@ -262,12 +262,12 @@ export class PointViewer {
     this.afterPlacementsChanged()
   }
 
-  get pointBudget(): number {
-    return this.budget
+  get drawLimit(): number {
+    return this.limit
   }
 
-  setPointBudget(points: number): void {
-    this.budget = clampBudget(points)
+  setDrawLimit(points: number): void {
+    this.limit = clampLimit(points)
     this.lodDirty = true
   }
 
@@ -531,7 +531,7 @@ export class PointViewer {
   stats(): ViewerStats {
     return {
       pointsDrawn: this.pointsDrawn,
-      pointBudget: this.budget,
+      drawLimit: this.limit,
       tilesLoaded: this.cache.size,
       tilesPending: this.requests.pending,
       firstFrameMs: this.firstFrameMs,
@@ -894,7 +894,7 @@ export class PointViewer {
       const scanId = inst.scanId
       trees.push({ owner: inst, tree: inst.tree, world: inst.worldMatrix(), isLoaded: (node) => this.cache.has(tileKey(scanId, node.key)) })
     }
-    const result = selectNodes(trees, { camera: this.camera(), heightPx: this.height, planes: this.slab ? this.planes : null }, { budget: this.budget, spacingPx: this.detailPx })
+    const result = selectNodes(trees, { camera: this.camera(), heightPx: this.height, planes: this.slab ? this.planes : null }, { budget: this.limit, spacingPx: this.detailPx })
     const shown = new Map<ViewInstance, TileEntry[]>()
     const keep = new Set<string>()
     const wants = new Map<string, TileWant>()
@@ -1083,7 +1083,7 @@ export class PointViewer {
   }
 }
 
-function clampBudget(points: number): number {
-  if (!Number.isFinite(points)) return DEFAULT_POINT_BUDGET
-  return Math.round(THREE.MathUtils.clamp(points, MIN_POINT_BUDGET, MAX_POINT_BUDGET))
+function clampLimit(points: number): number {
+  if (!Number.isFinite(points)) return DEFAULT_DRAW_LIMIT
+  return Math.round(THREE.MathUtils.clamp(points, MIN_DRAW_LIMIT, MAX_DRAW_LIMIT))
 }

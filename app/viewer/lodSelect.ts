@@ -1,6 +1,6 @@
 /**
  * Which octree nodes to draw (DOMAIN "Level of detail": coarse to fine until the on-screen spacing falls below a
- * pixel threshold), within a point budget, over every visible placement at once.
+ * pixel threshold), within a drawing limit, over every visible placement at once.
  *
  * Rule, per frame or camera change:
  * - The root and level 1 of every placement are always wanted first (whatever the camera sees), so a view of

@@ -62,7 +62,7 @@ export type InstanceStatus = 'loading' | 'waiting' | 'ready' | 'empty' | 'failed
 
 export interface ViewerStats {
   pointsDrawn: number
-  pointBudget: number
+  drawLimit: number
   /** Tiles held in the cache (decoded and on the GPU). */
   tilesLoaded: number
   /** Tiles wanted by the current view and not loaded yet (waiting or in flight). */

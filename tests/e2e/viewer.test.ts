@@ -1,5 +1,5 @@
 // The scene viewer in Chromium (WebGL through SwiftShader) on the seeded demo scene: points drawn and not
-// blank, within the point budget, a click on a known stored point reads that point back, a placement
+// blank, within the drawing limit, a click on a known stored point reads that point back, a placement
 // moved through the form is still moved after a reload, and a mentor can neither move one nor see how.
 import '../utils/browserLane'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -19,12 +19,12 @@ let projectId: string
 
 interface Stats {
   pointsDrawn: number
-  pointBudget: number
+  drawLimit: number
   tilesLoaded: number
   tilesPending: number
   firstFrameMs: number | null
 }
-type Hook = { __spanmark: { viewer: { stats(): Stats; project(x: number, y: number, z: number): { x: number; y: number }; lastPick(): { x: number; y: number; z: number } | null; setPointBudget(n: number): void } } }
+type Hook = { __spanmark: { viewer: { stats(): Stats; project(x: number, y: number, z: number): { x: number; y: number }; lastPick(): { x: number; y: number; z: number } | null; setDrawLimit(n: number): void } } }
 
 beforeAll(async () => {
   ;({ t, browser, scene, projectId } = await startDemoScene())
@@ -69,20 +69,20 @@ function drawnPixels(page: Page): Promise<number> {
 }
 
 describe('scene viewer', () => {
-  it('draws the demo scene, not blank, within the point budget', async () => {
+  it('draws the demo scene, not blank, within the drawing limit', async () => {
     const { page, problems } = await openScene('measurer')
     const s = await stats(page)
     expect(s.pointsDrawn).toBeGreaterThan(100_000)
-    expect(s.pointsDrawn).toBeLessThanOrEqual(s.pointBudget)
+    expect(s.pointsDrawn).toBeLessThanOrEqual(s.drawLimit)
     expect(await drawnPixels(page)).toBeGreaterThan(20_000)
     await shot(page, '30-scene-viewer')
-    await page.evaluate(() => (window as unknown as Hook).__spanmark.viewer.setPointBudget(50_000))
+    await page.evaluate(() => (window as unknown as Hook).__spanmark.viewer.setDrawLimit(50_000))
     // The next frames select again within the new budget (the view redraws on demand).
     await page
       .waitForFunction(() => { const s = (window as unknown as Hook).__spanmark.viewer.stats(); return s.tilesPending === 0 && s.pointsDrawn <= 50_000 }, null, { timeout: 10_000 })
       .catch(() => {})
     const small = await stats(page)
-    expect(small.pointBudget).toBe(50_000)
+    expect(small.drawLimit).toBe(50_000)
     expect(small.pointsDrawn).toBeLessThanOrEqual(50_000)
     expect(small.pointsDrawn).toBeGreaterThan(0)
     expect(problems).toEqual([])
