@@ -163,6 +163,57 @@ export function liftClear(boxes: readonly Box[], obstacles: readonly Box[], gap 
   })
 }
 
+/** Where a label may go, in order of preference, as multiples of its own size: beside, above, below, then farther out. */
+const PLACES: readonly [number, number][] = [
+  [0, 0],
+  [1, 0], [-1, 0], [0, -1], [0, 1],
+  [1, -1], [-1, -1], [1, 1], [-1, 1],
+  [0.5, -1], [-0.5, -1], [0.5, 1], [-0.5, 1],
+  [0.5, -2], [-0.5, -2], [0.5, 2], [-0.5, 2],
+  [0, -2], [2, 0], [-2, 0], [0, 2],
+  [1, -2], [-1, -2], [1, 2], [-1, 2],
+  [2, -1], [-2, -1], [2, 1], [-2, 1],
+  [0, -3], [0, 3],
+]
+
+/**
+ * Where each label goes (pixels to move it by) so that none covers an obstacle (anchor dots), a label placed
+ * before it, or the frame's edge: greedy in the given order, each label at the first free place around its
+ * own (beside it right or left, above, below, then farther out: PLACES), so labels spread around their markers instead of
+ * stacking in one column. A label with no free place near it falls back to being lifted clear (liftClear).
+ * Common practice for map labels (candidate positions, first fit), no source.
+ */
+export function placeClear(boxes: readonly Box[], obstacles: readonly Box[], frame: Box | null = null, gap = 3): { dx: number; dy: number }[] {
+  const placed: Box[] = [...obstacles]
+  const hits = (b: Box) => placed.some((p) => b.left < p.right + gap && b.right > p.left - gap && b.top < p.bottom + gap && b.bottom > p.top - gap)
+  const inside = (b: Box) => !frame || (b.left >= frame.left && b.right <= frame.right && b.top >= frame.top && b.bottom <= frame.bottom)
+  return boxes.map((r) => {
+    const w = r.right - r.left + gap, h = r.bottom - r.top + gap
+    for (const [fx, fy] of PLACES) {
+      const dx = fx * w, dy = fy * h
+      const b = { left: r.left + dx, right: r.right + dx, top: r.top + dy, bottom: r.bottom + dy }
+      if (hits(b) || !inside(b)) continue
+      placed.push(b)
+      return { dx, dy }
+    }
+    const [dy] = liftClear([r], placed, gap)
+    placed.push({ left: r.left, right: r.right, top: r.top + dy!, bottom: r.bottom + dy! })
+    return { dx: 0, dy: dy! }
+  })
+}
+
+/**
+ * The leader of a moved label: from where the line from the label's centre to its own place leaves the
+ * label's box, to that place; in the label's own pixels (x, y from its top left), length and angle (degrees).
+ */
+export function leaderLine(width: number, height: number, dx: number, dy: number): { x: number; y: number; length: number; angle: number } {
+  // The label's place is at -dx, -dy from where it now is.
+  const vx = -dx, vy = -dy
+  const distance = Math.hypot(vx, vy)
+  const t = Math.min(vx === 0 ? Infinity : width / 2 / Math.abs(vx), vy === 0 ? Infinity : height / 2 / Math.abs(vy), 1)
+  return { x: width / 2 + vx * t, y: height / 2 + vy * t, length: distance * (1 - t), angle: (Math.atan2(vy, vx) * 180) / Math.PI }
+}
+
 interface Entry {
   key: string
   selected: boolean
@@ -301,10 +352,10 @@ export class MarkerLayer {
   }
 
   /**
-   * Labels that would cover one another are lifted, greedily: the one being placed and the selected one stay
-   * where they are, then the others in list order, each moved up just clear of those placed before it (CSS
-   * `translate`, which adds to the transform CSS2DRenderer sets); a lifted label hangs on a thin leader down
-   * to its place. Anchor dots count as placed already, so no label hides the points it is about. A few dozen
+   * Labels that would cover one another move, greedily: the one being placed and the selected one stay where
+   * they are, then the others in list order, each to the first free place around its own (placeClear; CSS
+   * `translate`, which adds to the transform CSS2DRenderer sets); a moved label keeps a thin leader back to
+   * its place. Anchor dots count as placed already, so no label hides the points it is about. A few dozen
    * labels at most, so measuring them is cheap.
    */
   private declutter(camera: THREE.Camera): void {
@@ -317,7 +368,7 @@ export class MarkerLayer {
     if (labels.length === 0) return
     for (const el of labels) {
       el.style.translate = ''
-      el.classList.remove('sm-marker-label--lifted')
+      el.classList.remove('sm-marker-label--moved')
     }
     const boxes = labels.map((el) => el.getBoundingClientRect())
     const obstacles: Box[] = []
@@ -332,14 +383,18 @@ export class MarkerLayer {
         obstacles.push({ left: x - half, right: x + half, top: y - half, bottom: y + half })
       }
     }
-    const lifts = liftClear(boxes, obstacles)
+    const moves = placeClear(boxes, obstacles, { left: frame.left, right: frame.right, top: frame.top, bottom: frame.bottom })
     labels.forEach((el, i) => {
-      const dy = lifts[i]!
-      if (dy !== 0) {
-        el.style.translate = `0 ${Math.round(dy)}px`
-        el.style.setProperty('--sm-lift', `${Math.round(-dy)}px`)
-        el.classList.add('sm-marker-label--lifted')
-      }
+      const { dx, dy } = moves[i]!
+      if (dx === 0 && dy === 0) return
+      el.style.translate = `${Math.round(dx)}px ${Math.round(dy)}px`
+      // A thin leader back to the label's own place.
+      const leader = leaderLine(boxes[i]!.width, boxes[i]!.height, dx, dy)
+      el.style.setProperty('--sm-leader-x', `${leader.x.toFixed(1)}px`)
+      el.style.setProperty('--sm-leader-y', `${leader.y.toFixed(1)}px`)
+      el.style.setProperty('--sm-leader-length', `${leader.length.toFixed(1)}px`)
+      el.style.setProperty('--sm-leader-angle', `${leader.angle.toFixed(1)}deg`)
+      el.classList.add('sm-marker-label--moved')
     })
   }
 

@@ -8,7 +8,7 @@ import { Plane, ShapeUtils, Vector2, Vector3 } from 'three'
 import type { Check, Marker, SectionFrame } from '@shared/schemas'
 import { check, marker as baseMarker } from './factories'
 import { BRICK, MARKER_KIND_COLOURS, anchorDots, arcPoints, markerLabel, markerView, planePoint, previewView, ringInPlane, sectionRectangle } from '@/components/viewer/markerViews'
-import { liftClear } from '@/viewer/markerLayer'
+import { leaderLine, liftClear, placeClear } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
 
 const INSTANCE = '11111111-1111-4111-8111-111111111111'
@@ -161,5 +161,31 @@ describe('labels kept clear of one another', () => {
     // Touching only across the gap counts as overlapping; farther apart does not.
     expect(liftClear([box(0, 100)], [{ left: 0, right: 10, top: 132, bottom: 140 }], 3)).toEqual([-1])
     expect(liftClear([box(0, 100)], [{ left: 0, right: 10, top: 134, bottom: 140 }], 3)).toEqual([0])
+  })
+})
+
+describe('labels placed around their markers', () => {
+  // Worked by hand from the rule "the first free place of the list: where it is, above, right, left, below..."
+  // (candidate positions, first fit: common practice for map labels, no source). Boxes 100 x 30, gap 3.
+  const box = (left: number, top: number, w = 100, h = 30) => ({ left, right: left + w, top, bottom: top + h })
+  it('leaves a free label where it is, and moves overlapping ones beside it, then above, not into a column', () => {
+    // Four labels at one spot (markers sharing an anchor): one stays, the others go right, left and above.
+    const moves = placeClear([box(200, 200), box(200, 200), box(200, 200), box(200, 200)], [], null, 3)
+    expect(moves[0]).toEqual({ dx: 0, dy: 0 })
+    // Right: one width plus the gap (103 px), its left edge exactly the gap beyond the first's right; then left.
+    expect(moves[1]).toEqual({ dx: 103, dy: 0 })
+    expect(moves[2]).toEqual({ dx: -103, dy: 0 })
+    // Above: one height plus the gap (33 px) up.
+    expect(moves[3]).toEqual({ dx: 0, dy: -33 })
+  })
+  it('keeps labels inside the frame', () => {
+    const frame = { left: 0, right: 400, top: 0, bottom: 400 }
+    // At the top right corner, above and right are out of the frame; the left is free.
+    const moves = placeClear([box(300, 0), box(300, 0)], [], frame, 3)
+    expect(moves[1]).toEqual({ dx: -103, dy: 0 })
+  })
+  it('draws the leader from the edge of the moved label back to its place', () => {
+    // Moved straight up by 33 px: the leader leaves the bottom middle and runs down 18 px (33 - 15).
+    expect(leaderLine(100, 30, 0, -33)).toEqual({ x: 50, y: 30, length: 18, angle: 90 })
   })
 })
