@@ -245,6 +245,10 @@ it('prints the measurement sheet with the API’s values, the scans used and the
     const word = { open: 'open', 'changes-asked': 'changes asked', 'signed-off': 'signed off' }[m.review.state]
     await expect(page.locator(`[data-testid="sheet-row"][data-marker-id="${m.id}"] [data-testid="sheet-review"]`).innerText()).resolves.toMatch(new RegExp(`^${word}`))
   }
+  // Each section's and clearance's figure under its row (those with a result to draw).
+  const drawn = list.filter((m) => (m.kind === 'section' || m.kind === 'clearance') && m.check.result !== null).length
+  await expect(page.getByTestId('sheet-figure').count()).resolves.toBe(drawn)
+  await expect(page.getByTestId('sheet-print').innerText()).resolves.toMatch(/save as PDF/)
   await expect(page.getByTestId('sheet-scans').locator('tbody tr').count()).resolves.toBe(scene.instances.length)
   await expect(page.getByTestId('sheet-cautions').innerText()).resolves.toMatch(/licensed surveyor[\s\S]*IEC 60825-1/)
   await shot(page, '46-measurement-sheet')
@@ -252,6 +256,8 @@ it('prints the measurement sheet with the API’s values, the scans used and the
   await page.emulateMedia({ media: 'print' })
   const pdf = await page.pdf({ path: 'tests/output/measurement-sheet.pdf', format: 'A4', printBackground: true })
   expect(pdf.subarray(0, 5).toString()).toBe('%PDF-')
+  const letter = await page.pdf({ path: 'tests/output/measurement-sheet-letter.pdf', format: 'Letter', printBackground: true })
+  expect(letter.subarray(0, 5).toString()).toBe('%PDF-')
   expect(problems).toEqual([])
   await context.close()
 })
