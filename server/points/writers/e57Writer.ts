@@ -287,7 +287,7 @@ export class E57Writer {
       this.ys[k] = batch.positions[i * 3 + 1]!
       this.zs[k] = batch.positions[i * 3 + 2]!
       if (this.plan.intensities) this.intensity[k] = batch.intensities ? batch.intensities[i]! : 0
-      if (this.plan.colors) for (let c = 0; c < 3; c++) this.rgb[c][k] = batch.colors ? batch.colors[i * 3 + c]! : 0
+      if (this.plan.colors) for (let c = 0; c < 3; c++) this.rgb[c]![k] = batch.colors ? batch.colors[i * 3 + c]! : 0
       this.inPacket++
       this.inScan++
       if (this.inPacket === E57_RECORDS_PER_PACKET) await this.emitPacket()

@@ -15,8 +15,10 @@ import { PlyStreamWriter, plyUsesDouble } from '../../../server/points/writers/p
 import { ExportError, MemorySink, type ExportBatch } from '../../../server/points/writers/sink'
 import { crc32cReference } from './lib/e57Writer'
 
+type Cloud = { count: number; positions: Float64Array; colors: Uint8Array; intensities: Float32Array }
+
 /** A made-up cloud: a slanted patch of a wall near `at`, with colours and integer intensities. */
-function cloud(n: number, at: [number, number, number], seed = 1): Required<ExportBatch> {
+function cloud(n: number, at: [number, number, number], seed = 1): Cloud {
   const positions = new Float64Array(n * 3)
   const colors = new Uint8Array(n * 3)
   const intensities = new Float32Array(n)
@@ -45,14 +47,14 @@ function bounds(b: ExportBatch) {
 }
 
 /** Splits a cloud into batches of `size` (as tiles arrive). */
-function* batches(b: Required<ExportBatch>, size: number): Generator<ExportBatch> {
+function* batches(b: Cloud, size: number): Generator<ExportBatch> {
   for (let s = 0; s < b.count; s += size) {
     const e = Math.min(b.count, s + size)
     yield { count: e - s, positions: b.positions.subarray(s * 3, e * 3), colors: b.colors.subarray(s * 3, e * 3), intensities: b.intensities.subarray(s, e) }
   }
 }
 
-async function lasOf(points: Required<ExportBatch>, colors = true) {
+async function lasOf(points: Cloud, colors = true) {
   const plan: LasPlan = { count: points.count, ...bounds(points), colors, intensities: true, created: new Date('2026-03-14T00:00:00Z') }
   const sink = new MemorySink()
   const writer = new LasWriter(sink, plan)
@@ -184,7 +186,7 @@ describe('E57 export (ASTM E2807)', () => {
   const poseA = new Matrix4().makeRotationZ(0.7).setPosition(10.5, -3.25, 0.125).elements
   const poseB = new Matrix4().makeRotationAxis(new Vector3(1, 2, 3).normalize(), -2.1).setPosition(-100.5, 7, 2).elements
 
-  async function write(plan: E57Plan, clouds: Required<ExportBatch>[]) {
+  async function write(plan: E57Plan, clouds: Cloud[]) {
     const sink = new MemorySink()
     const writer = new E57Writer(sink, plan)
     await writer.begin()
@@ -196,7 +198,7 @@ describe('E57 export (ASTM E2807)', () => {
     return { bytes: sink.bytes(), length: writer.physicalLength }
   }
 
-  const range = (c: Required<ExportBatch>) => [Math.min(...c.intensities), Math.max(...c.intensities)] as const
+  const range = (c: Cloud) => [Math.min(...c.intensities), Math.max(...c.intensities)] as const
   const plan: E57Plan = {
     colors: true,
     intensities: true,

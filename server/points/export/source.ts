@@ -1,0 +1,109 @@
+import { decodeTile } from '@shared/points/tileFormat'
+import type { Conn } from '../../db'
+import { getTile, listTiles } from '../../repositories/scans'
+import { ExportError, type ExportBatch } from '../writers/sink'
+
+/**
+ * What an export reads: the placements of its source, each with its scan, matrix and point filter, and their
+ * points tile by tile from the stored octree (every point is in exactly one node), so memory holds one tile
+ * at a time whatever the scene's size.
+ *
+ * Sources are a scene (every placement, hidden ones too) or one placement. Objects (a thing made of one or
+ * more placements) will join as a third kind resolving to their placements; trims (keep / cut boxes and
+ * outlines) will plug in through `PlacementPart.keep`, the one point filter per placement, applied in the
+ * scan's own frame before anything is counted or written.
+ */
+export type ExportSource = { kind: 'scene'; sceneId: string } | { kind: 'placement'; sceneId: string; instanceId: string }
+
+/** Keeps a point (scan frame, metres) or drops it. */
+export type PointFilter = (x: number, y: number, z: number) => boolean
+
+export interface PlacementPart {
+  instanceId: string
+  scanId: string
+  scanName: string
+  /** Column-major rigid 4x4 from the scan's frame to the scene's. */
+  matrix: number[]
+  colors: boolean
+  intensities: boolean
+  /** Points stored in the scan's tiles (before the filter). */
+  storedPoints: number
+  /** The trims' seam: null keeps every point. */
+  keep: PointFilter | null
+}
+
+/** The point filter of a placement: none yet (trims are not built); see the header comment. */
+export function placementFilter(_instanceId: string): PointFilter | null {
+  return null
+}
+
+export async function resolveParts(db: Conn, source: ExportSource): Promise<PlacementPart[]> {
+  let query = db
+    .selectFrom('scene_instances as i')
+    .innerJoin('scans as s', 's.id', 'i.scan_id')
+    .select(['i.id', 'i.scan_id', 'i.matrix', 's.name', 's.status', 's.point_count', 's.attributes'])
+    .where('i.scene_id', '=', source.sceneId)
+  if (source.kind === 'placement') query = query.where('i.id', '=', source.instanceId)
+  const rows = await query.orderBy('i.created_at').orderBy('i.id').execute()
+  if (rows.length === 0) throw new ExportError(source.kind === 'placement' ? 'The placement to export is no longer in the scene.' : 'The scene has no placements to export.')
+  for (const r of rows) {
+    if (r.status !== 'ready') throw new ExportError(`The scan '${r.name}' is ${r.status}; a scan can be exported once it is ready.`)
+  }
+  return rows.map((r) => ({
+    instanceId: r.id,
+    scanId: r.scan_id,
+    scanName: r.name,
+    matrix: r.matrix.map(Number),
+    colors: r.attributes?.color === true,
+    intensities: r.attributes?.intensity === true,
+    storedPoints: Number(r.point_count ?? 0),
+    keep: placementFilter(r.id),
+  }))
+}
+
+/**
+ * Calls `onBatch` with the placement's points one stored tile at a time: in the scan's frame, or with the
+ * placement's matrix applied (`frame: 'scene'`). Returns the points passed on. The batch's arrays are
+ * reused only within one call.
+ */
+export async function forEachBatch(db: Conn, part: PlacementPart, frame: 'scan' | 'scene', onBatch: (batch: ExportBatch, stored: number) => Promise<void>): Promise<number> {
+  const tiles = await listTiles(db, part.scanId)
+  const m = part.matrix
+  let passed = 0
+  for (const tile of tiles) {
+    const row = await getTile(db, part.scanId, tile.node_key)
+    if (!row) throw new ExportError(`The scan '${part.scanName}' lost its stored points while exporting (node ${tile.node_key}); it was probably processed again. Export again.`)
+    const t = decodeTile(row.data)
+    const positions = new Float64Array(t.count * 3)
+    const colors = part.colors && t.colors ? new Uint8Array(t.count * 3) : null
+    const intensities = part.intensities && t.intensities ? new Float32Array(t.count) : null
+    const [ox, oy, oz] = t.origin
+    let n = 0
+    for (let i = 0; i < t.count; i++) {
+      // Stored as float32 offsets from a float64 origin: the sum in doubles is the stored point exactly.
+      const x = ox + t.positions[i * 3]!
+      const y = oy + t.positions[i * 3 + 1]!
+      const z = oz + t.positions[i * 3 + 2]!
+      if (part.keep && !part.keep(x, y, z)) continue
+      if (frame === 'scene') {
+        positions[n * 3] = m[0]! * x + m[4]! * y + m[8]! * z + m[12]!
+        positions[n * 3 + 1] = m[1]! * x + m[5]! * y + m[9]! * z + m[13]!
+        positions[n * 3 + 2] = m[2]! * x + m[6]! * y + m[10]! * z + m[14]!
+      } else {
+        positions[n * 3] = x
+        positions[n * 3 + 1] = y
+        positions[n * 3 + 2] = z
+      }
+      if (colors) {
+        colors[n * 3] = t.colors![i * 3]!
+        colors[n * 3 + 1] = t.colors![i * 3 + 1]!
+        colors[n * 3 + 2] = t.colors![i * 3 + 2]!
+      }
+      if (intensities) intensities[n] = t.intensities![i]!
+      n++
+    }
+    passed += n
+    await onBatch({ count: n, positions: positions.subarray(0, n * 3), colors: colors?.subarray(0, n * 3) ?? null, intensities: intensities?.subarray(0, n) ?? null }, t.count)
+  }
+  return passed
+}
