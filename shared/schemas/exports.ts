@@ -54,3 +54,6 @@ export const Export = z.object({
 export type Export = z.infer<typeof Export>
 
 export const ExportParams = z.object({ exportId: Id })
+
+export const ExportResponse = z.object({ export: Export })
+export const ExportList = z.object({ exports: z.array(Export) })
