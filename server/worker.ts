@@ -23,7 +23,7 @@ await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds:
 })
 // Exports read stored tiles and write to object storage; they run beside ingest, one at a time.
 await boss.work<ExportJob>(EXPORT_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
-  for (const job of jobs) await runExport({ db, objects, log, progressEveryMs: config.exportProgressMs }, job.data.exportId)
+  for (const job of jobs) await runExport({ db, objects, log, progressEveryMs: config.exportProgressMs, staleMs: config.ingestStaleMs }, job.data.exportId)
 })
 log.info('ingest worker ready')
 

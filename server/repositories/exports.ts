@@ -46,3 +46,27 @@ export function finishExport(db: Conn, id: string, done: { objectKey: string; po
 export function failExport(db: Conn, id: string, error: string) {
   return db.updateTable('exports').set({ status: 'failed', error, updated_at: sql`now()`, finished_at: sql`now()` }).where('id', '=', id).execute()
 }
+
+/**
+ * Fails running exports with no sign of life for `staleMs` (their worker died: the job is not retried, as
+ * the person can simply start it again). Returns their ids.
+ */
+export function failStaleExports(db: Conn, staleMs: number) {
+  return db
+    .updateTable('exports')
+    .set({
+      status: 'failed',
+      error: `The worker writing this export stopped (no sign of it for ${Math.round(staleMs / 1000)} s); nothing was kept. Start the export again.`,
+      updated_at: sql`now()`,
+      finished_at: sql`now()`,
+    })
+    .where('status', '=', 'running')
+    .where('updated_at', '<', sql<Date>`now() - make_interval(secs => ${staleMs / 1000})`)
+    .returning('id')
+    .execute()
+}
+
+/** Shows the export is alive while a pass waits on slow storage (see failStaleExports). */
+export function touchExport(db: Conn, id: string) {
+  return db.updateTable('exports').set({ updated_at: sql`now()` }).where('id', '=', id).where('status', '=', 'running').execute()
+}

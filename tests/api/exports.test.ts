@@ -164,6 +164,17 @@ describe('exports', () => {
     expect((await waitForExport(owner.agent, e57.body.export.id)).done.status).toBe('ready')
   })
 
+  it('fails an export whose worker stopped (no sign of life), with a message', async () => {
+    const row = await t.server.services.db
+      .insertInto('exports')
+      .values({ project_id: projectId, scene_id: sceneId, source: 'scene', format: 'ply', file_name: 'lost.ply', status: 'running', updated_at: new Date(Date.now() - 3_600_000) })
+      .returning('id')
+      .executeTakeFirstOrThrow()
+    const { done } = await waitForExport(owner.agent, row.id)
+    expect(done.status).toBe('failed')
+    expect(done.error).toMatch(/worker writing this export stopped.*Start the export again/)
+  })
+
   it('says what is wrong with a request, and where', async () => {
     const bad = await owner.agent.post(`/api/scenes/${sceneId}/exports`).send({ format: 'xyz' }).expect(400)
     expect(bad.body.error.message).toMatch(/^body\.format: /)

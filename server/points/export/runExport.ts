@@ -2,7 +2,7 @@ import { once } from 'node:events'
 import { PassThrough } from 'node:stream'
 import type pino from 'pino'
 import type { Conn } from '../../db'
-import { claimExport, failExport, finishExport, setExportProgress } from '../../repositories/exports'
+import { claimExport, failExport, finishExport, setExportProgress, touchExport } from '../../repositories/exports'
 import type { ObjectStore } from '../../storage/objects'
 import { E57Writer, type E57ScanPlan } from '../writers/e57Writer'
 import { LasWriter, lasScaleOffset } from '../writers/lasWriter'
@@ -21,6 +21,8 @@ export interface ExportDeps {
   objects: ObjectStore
   log: pino.Logger
   progressEveryMs?: number
+  /** The server fails a running export silent this long (runtime.ts sweeper); a heartbeat keeps it alive. */
+  staleMs?: number
 }
 
 export const exportObjectKey = (projectId: string, exportId: string, format: string) => `exports/${projectId}/${exportId}.${format}`
@@ -72,6 +74,8 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
   if (!row) return
   const every = deps.progressEveryMs ?? 250
   const source: ExportSource = row.source === 'placement' ? { kind: 'placement', sceneId: row.scene_id, instanceId: row.instance_id ?? '00000000-0000-0000-0000-000000000000' } : { kind: 'scene', sceneId: row.scene_id }
+  const heartbeat = setInterval(() => void touchExport(db, exportId).catch(() => {}), Math.max(200, (deps.staleMs ?? 30_000) / 3))
+  heartbeat.unref()
   let lastReport = 0
   let stored = 0
   let totalStored = 1
@@ -136,6 +140,8 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
     const message = err instanceof ExportError ? err.message : `The export failed: ${err instanceof Error ? err.message : String(err)}`
     if (!(err instanceof ExportError)) log.error({ err, exportId }, 'export failed')
     await failExport(db, exportId, message)
+  } finally {
+    clearInterval(heartbeat)
   }
 }
 
