@@ -169,7 +169,7 @@ function layout(plan: E57Plan, guid: string): Layout {
 class PageWriter {
   private readonly page = new Uint8Array(PAGE_DATA)
   private used = 0
-  private readonly chunk = new Uint8Array(E57_PAGE * 1024)
+  private chunk: Uint8Array = Buffer.allocUnsafe(E57_PAGE * 1024)
   private chunkUsed = 0
   logical = 0
 
@@ -193,7 +193,7 @@ class PageWriter {
 
   private async emitPage(): Promise<void> {
     this.chunk.set(this.page, this.chunkUsed)
-    new DataView(this.chunk.buffer).setUint32(this.chunkUsed + PAGE_DATA, crc32c(this.page) >>> 0, false)
+    new DataView(this.chunk.buffer, this.chunk.byteOffset).setUint32(this.chunkUsed + PAGE_DATA, crc32c(this.page) >>> 0, false)
     this.chunkUsed += E57_PAGE
     this.page.fill(0)
     this.used = 0
@@ -202,7 +202,9 @@ class PageWriter {
 
   private async flush(): Promise<void> {
     if (this.chunkUsed === 0) return
-    const out = this.chunk.slice(0, this.chunkUsed)
+    // Hand the chunk over and take a fresh one: no copy, and every byte is written before it is passed on.
+    const out = this.chunk.subarray(0, this.chunkUsed)
+    this.chunk = Buffer.allocUnsafe(this.chunk.length)
     this.chunkUsed = 0
     await this.sink.write(out)
   }
@@ -281,15 +283,35 @@ export class E57Writer {
     const scan = this.plan.scans[this.scan]
     if (!scan) throw new Error('E57Writer: startScan first')
     if (this.inScan + batch.count > scan.count) throw new ExportError(`E57 export: more points arrived for '${scan.name}' (${this.inScan + batch.count}) than were counted (${scan.count}); the scans changed while exporting`)
-    for (let i = 0; i < batch.count; i++) {
-      const k = this.inPacket
-      this.xs[k] = batch.positions[i * 3]!
-      this.ys[k] = batch.positions[i * 3 + 1]!
-      this.zs[k] = batch.positions[i * 3 + 2]!
-      if (this.plan.intensities) this.intensity[k] = batch.intensities ? batch.intensities[i]! : 0
-      if (this.plan.colors) for (let c = 0; c < 3; c++) this.rgb[c]![k] = batch.colors ? batch.colors[i * 3 + c]! : 0
-      this.inPacket++
-      this.inScan++
+    const p = batch.positions
+    const { xs, ys, zs } = this
+    const [r, g, b] = this.rgb
+    const colors = batch.colors
+    let i = 0
+    while (i < batch.count) {
+      const k0 = this.inPacket
+      const take = Math.min(batch.count - i, E57_RECORDS_PER_PACKET - k0)
+      for (let j = 0; j < take; j++) {
+        const s = (i + j) * 3
+        xs[k0 + j] = p[s]!
+        ys[k0 + j] = p[s + 1]!
+        zs[k0 + j] = p[s + 2]!
+      }
+      if (this.plan.intensities) {
+        if (batch.intensities) this.intensity.set(batch.intensities.subarray(i, i + take), k0)
+        else this.intensity.fill(0, k0, k0 + take)
+      }
+      if (this.plan.colors) {
+        for (let j = 0; j < take; j++) {
+          const s = (i + j) * 3
+          r[k0 + j] = colors ? colors[s]! : 0
+          g[k0 + j] = colors ? colors[s + 1]! : 0
+          b[k0 + j] = colors ? colors[s + 2]! : 0
+        }
+      }
+      this.inPacket += take
+      this.inScan += take
+      i += take
       if (this.inPacket === E57_RECORDS_PER_PACKET) await this.emitPacket()
     }
   }

@@ -30,7 +30,7 @@ export class ChunkedSink implements ByteSink {
     private readonly target: ByteSink,
     size = 1 << 20,
   ) {
-    this.buffer = new Uint8Array(size)
+    this.buffer = Buffer.allocUnsafe(size)
   }
 
   async write(chunk: Uint8Array): Promise<void> {
@@ -46,7 +46,10 @@ export class ChunkedSink implements ByteSink {
 
   async flush(): Promise<void> {
     if (this.used === 0) return
-    const out = this.buffer.slice(0, this.used)
+    // Hand the filled buffer over and take a fresh one (no copy; allocUnsafe skips zero-filling, and every
+    // byte of it is written before it is passed on).
+    const out = this.buffer.subarray(0, this.used)
+    this.buffer = Buffer.allocUnsafe(this.buffer.length)
     this.used = 0
     await this.target.write(out)
   }
