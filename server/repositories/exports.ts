@@ -40,7 +40,8 @@ export function finishExport(db: Conn, id: string, done: { objectKey: string; po
     .updateTable('exports')
     .set({ status: 'ready', progress: 1, object_key: done.objectKey, point_count: done.pointCount, byte_size: done.byteSize, error: null, updated_at: sql`now()`, finished_at: sql`now()` })
     .where('id', '=', id)
-    .execute()
+    .where('status', '=', 'running')
+    .executeTakeFirst()
 }
 
 export function failExport(db: Conn, id: string, error: string) {

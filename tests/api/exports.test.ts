@@ -162,6 +162,12 @@ describe('exports', () => {
     // The same scene as E57 keeps each placement in its own frame: nothing to refuse.
     const e57 = await owner.agent.post(`/api/scenes/${wide}/exports`).send({ format: 'e57' }).expect(202)
     expect((await waitForExport(owner.agent, e57.body.export.id)).done.status).toBe('ready')
+    // Deleting the scene takes its export files out of object storage too.
+    const { object_key: key } = await t.server.services.db.selectFrom('exports').select('object_key').where('id', '=', e57.body.export.id).executeTakeFirstOrThrow()
+    ;(await t.server.services.objects.get(key!)).destroy()
+    await owner.agent.delete(`/api/scenes/${wide}`).expect(204)
+    await expect(t.server.services.objects.get(key!)).rejects.toThrow()
+    await owner.agent.get(`/api/exports/${e57.body.export.id}`).expect(404)
   })
 
   it('fails an export whose worker stopped (no sign of life), with a message', async () => {

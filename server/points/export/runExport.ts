@@ -134,7 +134,12 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
       await deps.objects.delete(key).catch(() => {})
       throw err
     }
-    await finishExport(db, exportId, { objectKey: key, pointCount: all.count, byteSize: bytes })
+    const finished = await finishExport(db, exportId, { objectKey: key, pointCount: all.count, byteSize: bytes })
+    if (finished.numUpdatedRows === 0n) {
+      // The scene was deleted (or the sweeper gave up on this export) while it was written: keep no file.
+      await deps.objects.delete(key).catch(() => {})
+      return
+    }
     log.info({ exportId, format: row.format, points: all.count, bytes }, 'export ready')
   } catch (err) {
     const message = err instanceof ExportError ? err.message : `The export failed: ${err instanceof Error ? err.message : String(err)}`
