@@ -33,10 +33,12 @@ interface PartFigures {
   max: [number, number, number]
   intensityMin: number
   intensityMax: number
+  /** Every intensity a whole number (LAS keeps those as they are). */
+  intensityWhole: boolean
 }
 
 function emptyFigures(): PartFigures {
-  return { count: 0, min: [Infinity, Infinity, Infinity], max: [-Infinity, -Infinity, -Infinity], intensityMin: Infinity, intensityMax: -Infinity }
+  return { count: 0, min: [Infinity, Infinity, Infinity], max: [-Infinity, -Infinity, -Infinity], intensityMin: Infinity, intensityMax: -Infinity, intensityWhole: true }
 }
 
 function measure(f: PartFigures, b: ExportBatch): void {
@@ -51,6 +53,7 @@ function measure(f: PartFigures, b: ExportBatch): void {
       const v = b.intensities[i]!
       if (v < f.intensityMin) f.intensityMin = v
       if (v > f.intensityMax) f.intensityMax = v
+      if (f.intensityWhole && !Number.isInteger(v)) f.intensityWhole = false
     }
   }
   f.count += b.count
@@ -64,6 +67,9 @@ function merge(all: PartFigures[]): PartFigures {
       out.min[a] = Math.min(out.min[a]!, f.min[a]!)
       out.max[a] = Math.max(out.max[a]!, f.max[a]!)
     }
+    out.intensityMin = Math.min(out.intensityMin, f.intensityMin)
+    out.intensityMax = Math.max(out.intensityMax, f.intensityMax)
+    out.intensityWhole &&= f.intensityWhole
   }
   return out
 }
@@ -185,7 +191,13 @@ async function writeFile(
   }
   const writer =
     format === 'las'
-      ? new LasWriter(sink, { count: all.count, min: all.min, max: all.max, ...attributes })
+      ? new LasWriter(sink, {
+          count: all.count,
+          min: all.min,
+          max: all.max,
+          ...attributes,
+          intensityRange: all.intensityWhole && all.intensityMin >= 0 && all.intensityMax <= 65535 ? undefined : [all.intensityMin, all.intensityMax],
+        })
       : new PlyStreamWriter(sink, { count: all.count, maxAbs: Math.max(...all.min.map(Math.abs), ...all.max.map(Math.abs)), ...attributes, comments: ['exported by Spanmark; metres, scene frame'] })
   await writer.begin()
   for (const part of parts) {

@@ -17,7 +17,8 @@ import { ChunkedSink, ExportError, type ByteSink, type ExportBatch } from './sin
  * 0-3) and number of returns (bits 4-7) u8, flags u8, classification u8, user data u8, scan angle i16,
  * point source id u16, GPS time f64; format 7 adds red, green, blue u16. Every point is written as return 1
  * of 1 (Spanmark keeps no returns), classification 0 (never classified), colour scaled from 8 to 16 bits
- * (c x 257, so the high byte is the colour again), intensity rounded and clamped to u16.
+ * (c x 257, so the high byte is the colour again), intensity rounded and clamped to u16 (or first stretched
+ * from its range onto 0-65535 where it is not whole numbers in that range: `intensityRange`).
  */
 
 export const LAS_HEADER_SIZE = 375
@@ -30,6 +31,12 @@ export interface LasPlan {
   max: [number, number, number]
   colors: boolean
   intensities: boolean
+  /**
+   * Where the intensities are not whole numbers within 0-65535 (a float intensity from PLY, say), the range
+   * to stretch linearly onto 0-65535, as R15 asks of intensity (normalised to 16 bits). Without it values
+   * are rounded and clamped.
+   */
+  intensityRange?: [number, number]
   created?: Date
   /** Up to 32 ASCII characters. */
   software?: string
@@ -144,6 +151,8 @@ export class LasWriter {
     const [sx, sy, sz] = this.scale
     const [ox, oy, oz] = this.offset
     const size = this.recordLength
+    const range = this.plan.intensityRange
+    const span = range && range[1] > range[0] ? range[1] - range[0] : 1
     const perChunk = this.records.length / size
     for (let start = 0; start < batch.count; start += perChunk) {
       const end = Math.min(batch.count, start + perChunk)
@@ -153,7 +162,7 @@ export class LasWriter {
         this.view.setInt32(o + 4, Math.round((positions[i * 3 + 1]! - oy) / sy), true)
         this.view.setInt32(o + 8, Math.round((positions[i * 3 + 2]! - oz) / sz), true)
         if (this.plan.intensities && intensities) {
-          const value = intensities[i]!
+          const value = range ? ((intensities[i]! - range[0]) / span) * 65535 : intensities[i]!
           this.view.setUint16(o + 12, Number.isFinite(value) ? Math.min(65535, Math.max(0, Math.round(value))) : 0, true)
         }
         this.records[o + 14] = 0x11 // return 1 of 1

@@ -102,6 +102,20 @@ describe('LAS 1.4 export (ASPRS LAS 1.4 R15)', () => {
     }
   })
 
+  it('stretches intensities that are not whole 16-bit numbers onto 0-65535 (R15: intensity normalised to 16 bits)', async () => {
+    const points = cloud(100, [0, 0, 0], 9)
+    points.intensities.forEach((_, i) => (points.intensities[i] = i / 99)) // 0..1, as a PLY float intensity
+    const sink = new MemorySink()
+    const writer = new LasWriter(sink, { count: 100, ...bounds(points), colors: false, intensities: true, intensityRange: [0, 1] })
+    await writer.begin()
+    await writer.write(points)
+    await writer.end()
+    const ours = await readAll(sink.bytes(), 'las')
+    expect(ours.intensities![0]).toBe(0)
+    expect(ours.intensities![99]).toBe(65535)
+    expect(ours.intensities![50]).toBe(Math.round((50 / 99) * 65535))
+  })
+
   it('format 6 without colour', async () => {
     const { bytes } = await lasOf(cloud(300, [1, 2, 3]), false)
     const ours = await readAll(bytes, 'las')
