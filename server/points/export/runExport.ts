@@ -93,6 +93,7 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
   }
   try {
     if (row.source === 'placement' && !row.instance_id) throw new ExportError('The placement to export was removed from the scene.')
+    const t0 = performance.now()
     const parts = await resolveParts(db, source)
     totalStored = Math.max(1, parts.reduce((n, p) => n + p.storedPoints, 0))
     // E57 keeps each placement's pose, so its figures are in the scan's frame; LAS and PLY are in the scene's.
@@ -107,6 +108,7 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
       })
       figures.push(f)
     }
+    const t1 = performance.now()
     const all = merge(figures)
     if (all.count === 0) throw new ExportError('Nothing to export: the placements hold no points.')
     const colors = parts.every((p) => p.colors)
@@ -120,6 +122,7 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
     let uploadError: unknown = null
     upload.catch((err) => (uploadError = err))
     let bytes = 0
+    let t2 = 0
     const sink: ByteSink = {
       async write(chunk) {
         if (uploadError) throw uploadError
@@ -133,6 +136,7 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
         await report()
       })
       body.end()
+      t2 = performance.now()
       await upload
     } catch (err) {
       body.destroy(err instanceof Error ? err : new Error(String(err)))
@@ -146,7 +150,8 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
       await deps.objects.delete(key).catch(() => {})
       return
     }
-    log.info({ exportId, format: row.format, points: all.count, bytes }, 'export ready')
+    const seconds = { measure: (t1 - t0) / 1000, write: (t2 - t1) / 1000, upload: (performance.now() - t2) / 1000 }
+    log.info({ exportId, format: row.format, points: all.count, bytes, seconds }, 'export ready')
   } catch (err) {
     const message = err instanceof ExportError ? err.message : `The export failed: ${err instanceof Error ? err.message : String(err)}`
     if (!(err instanceof ExportError)) log.error({ err, exportId }, 'export failed')
