@@ -5,8 +5,8 @@ import { ExportError, type ExportBatch } from '../writers/sink'
 
 /**
  * What an export reads: the placements of its source, each with its scan, matrix and point filter, and their
- * points tile by tile from the stored octree (every point is in exactly one node), so memory holds one tile
- * at a time whatever the scene's size.
+ * points tile by tile from the stored octree (every point is in exactly one node), fetched in groups of
+ * about 8 MiB, so memory stays at two groups whatever the scene's size.
  *
  * Sources are a scene (every placement, hidden ones too) or one placement. Objects (a thing made of one or
  * more placements) will join as a third kind resolving to their placements; trims (keep / cut boxes and
@@ -63,8 +63,8 @@ export async function resolveParts(db: Conn, source: ExportSource): Promise<Plac
 
 /**
  * Calls `onBatch` with the placement's points one stored tile at a time: in the scan's frame, or with the
- * placement's matrix applied (`frame: 'scene'`). Returns the points passed on. The batch's arrays are
- * reused only within one call.
+ * placement's matrix applied (`frame: 'scene'`). Returns the points passed on. Each batch has arrays of its
+ * own.
  */
 export async function forEachBatch(db: Conn, part: PlacementPart, frame: 'scan' | 'scene', onBatch: (batch: ExportBatch, stored: number) => Promise<void>): Promise<number> {
   const tiles = await listTiles(db, part.scanId)
