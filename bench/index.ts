@@ -2,6 +2,7 @@
 // DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
 import { formatE57Bench, runE57Bench } from './e57'
 import { formatEdgeBench, runEdgeBench } from './edges'
+import { formatExportBench, runExportBench } from './export'
 import { formatIngestBench, runIngestBench } from './ingest'
 import { formatLiveBench, runLiveBench } from './live'
 import { formatLiveLimitsBench, runLiveLimitsBench } from './liveLimits'
@@ -19,7 +20,7 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, viewer, markers, pool, live, liveLimits, registration, edges). */
+/** `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, export, viewer, markers, pool, live, liveLimits, registration, edges). */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -39,6 +40,7 @@ if (wanted('octree')) section(
     .join('\n'),
 )
 if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
+if (wanted('export')) section('Export of a scene (LAS 1.4, E57, PLY) through the worker into object storage; worker memory flat as the count grows', formatExportBench(await runExportBench(s, log)))
 if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
 if (wanted('pool')) section('Heavy checks off the event loop (target: event-loop delay p99 < 50 ms during a clearance of a 1 M-point object)', formatPoolBench(await runPoolBench(log)))

@@ -107,6 +107,7 @@ export interface Config {
    */
   compute: { threads: number; idleTimeoutMs: number }
   /** A processing scan whose worker has not beaten for this long is queued again. */
+  exportProgressMs: number
   ingestStaleMs: number
   /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
   liveSettleMs: number
@@ -260,6 +261,8 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     workers: e.WORKERS,
     compute: { threads: e.COMPUTE_THREADS ?? defaultComputeThreads(), idleTimeoutMs: 30_000 },
     ingestStaleMs: test ? 3000 : 30_000,
+    // How often a running export writes its progress; tests see it move on small scans.
+    exportProgressMs: test ? 10 : 250,
     liveSettleMs: test ? 300 : 2000,
     // Tests leave rooms in memory a moment only, so a test of unloading does not wait half a minute.
     live: test ? { ...PRODUCTION_LIVE_LIMITS, unloadGraceMs: 500 } : PRODUCTION_LIVE_LIMITS,

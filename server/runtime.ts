@@ -12,6 +12,7 @@ import { migrateToLatest } from './db/migrate'
 import { seedDemo, seedDemoGuest } from './demo/seed'
 import { startFakeS3, type FakeS3 } from './fakes/s3'
 import { startFakeSmtp, type FakeSmtp } from './fakes/smtp'
+import { failStaleExports } from './repositories/exports'
 import { sendIngest, startBoss } from './jobs/queue'
 import { WorkerSupervisor } from './jobs/supervisor'
 import { CommentNoticeSender } from './mail/commentNotices'
@@ -183,6 +184,7 @@ export class SpanmarkServer {
         log.warn({ scanId: id }, 'scan processing stalled; queued again')
         await sendIngest(boss, id)
       }
+      for (const { id } of await failStaleExports(db, this.config.ingestStaleMs)) log.warn({ exportId: id }, 'export stalled (its worker stopped); failed')
       // Rate-limit windows that have ended (shared by every process; any of them may sweep).
       await sweepRateLimits(db)
       for (const worker of this.workers) {

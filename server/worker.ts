@@ -3,9 +3,10 @@
 // same environment as the server (DESIGN section 10: workers on other machines).
 import { loadConfig, type Config } from './config'
 import { createDb, createPool } from './db'
-import { INGEST_QUEUE, sendIngest, startBoss, type IngestJob } from './jobs/queue'
+import { EXPORT_QUEUE, INGEST_QUEUE, sendIngest, startBoss, type ExportJob, type IngestJob } from './jobs/queue'
 import { workerName } from './jobs/supervisor'
 import { createLogger } from './logger'
+import { runExport } from './points/export/runExport'
 import { ingestScan } from './points/ingest'
 import { ObjectStore } from './storage/objects'
 
@@ -19,6 +20,10 @@ await boss.work<IngestJob>(INGEST_QUEUE, { batchSize: 1, pollingIntervalSeconds:
   for (const job of jobs) {
     await ingestScan({ db, objects, log, lazLimitBytes: config.uploads.lazLimitBytes, staleMs: config.ingestStaleMs, maxAttempts: config.limits.ingestAttempts, workerPoints: config.limits.workerPoints, name: workerName(process.pid), enqueue: (id) => sendIngest(boss, id) }, job.data.scanId)
   }
+})
+// Exports read stored tiles and write to object storage; they run beside ingest, one at a time.
+await boss.work<ExportJob>(EXPORT_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+  for (const job of jobs) await runExport({ db, objects, log, progressEveryMs: config.exportProgressMs, staleMs: config.ingestStaleMs }, job.data.exportId)
 })
 log.info('ingest worker ready')
 

@@ -19,6 +19,7 @@ export const queryKeys = {
   sceneState: (sceneId: string, at: string) => ['scenes', sceneId, 'state', at] as const,
   /** The scene's registration report (placements and their registrations). */
   registrations: (sceneId: string) => ['scenes', sceneId, 'registrations'] as const,
+  exports: (sceneId: string) => ['scenes', sceneId, 'exports'] as const,
   /** One registration (a draft polled while it refines). */
   registration: (registrationId: string) => ['registrations', registrationId] as const,
   checkpoints: (sceneId: string) => ['scenes', sceneId, 'checkpoints'] as const,

@@ -221,6 +221,27 @@ export interface ScanTilesTable {
   claim_id: string
 }
 
+export interface ExportsTable {
+  id: Generated<string>
+  project_id: string
+  scene_id: string
+  source: 'scene' | 'placement'
+  /** The placement exported (source 'placement'); null once that placement is removed. */
+  instance_id: string | null
+  format: 'las' | 'e57' | 'ply'
+  file_name: string
+  status: Generated<'queued' | 'running' | 'ready' | 'failed'>
+  progress: Generated<number>
+  point_count: BigInt | null
+  byte_size: BigInt | null
+  object_key: string | null
+  error: string | null
+  requested_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+  finished_at: Date | null
+}
+
 export interface ScenesTable {
   id: Generated<string>
   project_id: string
@@ -390,6 +411,7 @@ export interface Database {
   scene_documents: SceneDocumentsTable
   rate_limit_hits: RateLimitHitsTable
   scenes: ScenesTable
+  exports: ExportsTable
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
   upload_usage: UploadUsageTable

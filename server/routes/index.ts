@@ -1,5 +1,6 @@
 import { authRoutes } from './auth'
 import { checkpointRoutes } from './checkpoints'
+import { exportRoutes } from './exports'
 import { inviteRoutes } from './invites'
 import { passRoutes } from './passes'
 import { commentRoutes } from './comments'
@@ -13,4 +14,4 @@ import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes, ...inviteRoutes, ...passRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...exportRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes, ...inviteRoutes, ...passRoutes]

@@ -12,6 +12,7 @@ import { projectOfRegistration } from '../repositories/registrations'
 import { projectOfUploadToken, findLiveUploadToken, markUploadTokenUsed } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
 import { projectOfPass } from '../repositories/passes'
+import { projectOfExport } from '../repositories/exports'
 import type { Membership, RigKey } from '../routes/registry'
 import type { Guest } from '../types'
 
@@ -33,6 +34,7 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   passId: async (db, id) => (await projectOfPass(db, id))?.project_id ?? null,
   commentId: async (db, id) => (await projectOfComment(db, id))?.project_id ?? null,
   registrationId: async (db, id) => (await projectOfRegistration(db, id))?.project_id ?? null,
+  exportId: async (db, id) => (await projectOfExport(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

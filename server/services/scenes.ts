@@ -33,8 +33,13 @@ export async function renameScene(s: Services, sceneId: string, name: string): P
 }
 
 export async function removeScene(s: Services, sceneId: string): Promise<void> {
+  // The scene's export files go with it (their rows go by cascade); one still being written removes its own.
+  const files = await s.db.selectFrom('exports').select('object_key').where('scene_id', '=', sceneId).where('object_key', 'is not', null).execute()
   await repo.deleteScene(s.db, sceneId)
   s.live.sceneDeleted(sceneId)
+  for (const { object_key: key } of files) {
+    await s.objects.delete(key!).catch((err: unknown) => s.log.warn({ err, key }, 'export file not deleted from object storage'))
+  }
 }
 
 /** Places a ready scan of the same project in the scene. */

@@ -43,6 +43,7 @@ interface Fixture {
   /** A comment thread's first comment on the marker. */
   commentId: string
   registrationId: string
+  exportId: string
 }
 
 let invited = 0
@@ -82,6 +83,12 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .values({ scene_id: scene.body.scene.id, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'placed.xyz', held_name: 'none', matrix_before: instance.body.instance.matrix })
     .returning('id')
     .executeTakeFirstOrThrow()
+  // An export of the scene, written straight to the table (no worker runs here: it stays queued).
+  const exported = await t.server.services.db
+    .insertInto('exports')
+    .values({ project_id: projectId, scene_id: scene.body.scene.id, source: 'scene', format: 'las', file_name: 'matrix.las' })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -102,6 +109,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     checkpointId: checkpoint.id,
     commentId: comment.body.comment.id,
     registrationId: registration.id,
+    exportId: exported.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -121,6 +129,7 @@ const NOWHERE: Fixture = {
   checkpointId: '00000000-0000-4000-8000-000000000008',
   commentId: '00000000-0000-4000-8000-000000000009',
   registrationId: '00000000-0000-4000-8000-00000000000a',
+  exportId: '00000000-0000-4000-8000-00000000000b',
   guest: null,
 }
 
@@ -150,6 +159,8 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.commentId
       case 'registrationId':
         return f.registrationId
+      case 'exportId':
+        return f.exportId
       case 'nodeKey':
         return 'r'
       case 'userId':
