@@ -12,6 +12,8 @@ const dev = process.argv.includes('--dev')
  * ingest worker), on SPANMARK_PORT: several processes share one PostgreSQL (README "Several processes").
  */
 const join = process.argv.includes('--join')
+/** `--built`: the production build (`npm run build`: client and compiled server), run with plain node, no TypeScript loader. */
+const built = process.argv.includes('--built')
 
 async function main() {
   ensureNodeModules()
@@ -25,6 +27,10 @@ async function main() {
   if (!dev && !join) {
     log('building the client (vite build)')
     run(localBin('vite'), ['build', '--logLevel', 'warn'])
+  }
+  if (built) {
+    log('compiling the server (scripts/build-server.mjs)')
+    run(process.execPath, ['scripts/build-server.mjs'])
   }
 
   const env = {
@@ -41,7 +47,7 @@ async function main() {
       ? { S3_FAKE: '0', S3_ENDPOINT: process.env.S3_ENDPOINT ?? 'http://127.0.0.1:4569', SPANMARK_DEV_MAILBOX: '0', SPANMARK_DEMO: '0', WORKER: 'none' }
       : {}),
   }
-  const server = startChild(localBin('tsx'), ['server/index.ts'], { env })
+  const server = built ? startChild(process.execPath, ['build/server/index.js'], { env }) : startChild(localBin('tsx'), ['server/index.ts'], { env })
 
   let stopping = false
   const stop = (signal) => {

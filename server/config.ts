@@ -1,4 +1,6 @@
 import os from 'node:os'
+import path from 'node:path'
+import { projectRoot } from './paths'
 import { PRODUCTION_LIVE_LIMITS, type LiveLimits } from './collab/limits'
 import { z } from 'zod'
 
@@ -245,8 +247,8 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     passwordResetTtlMs: 60 * 60_000,
     emailConfirmTtlMs: 48 * 60 * 60_000,
     signInDelay: test ? { free: 3, baseMs: 300, capMs: 600 } : PRODUCTION_SIGN_IN_DELAY,
-    clientDir: new URL('../dist', import.meta.url).pathname,
-    dataDir: e.DATA_DIR ?? new URL('../.data', import.meta.url).pathname,
+    clientDir: path.join(projectRoot, 'dist'),
+    dataDir: e.DATA_DIR ?? path.join(projectRoot, '.data'),
     storage: {
       endpoint: e.S3_ENDPOINT ?? null,
       region: e.S3_REGION,

@@ -1,4 +1,6 @@
+import { pathToFileURL } from 'node:url'
 import Piscina from 'piscina'
+import { compiled, runnable } from '../paths'
 import { defaultComputeThreads, type Config } from '../config'
 import { TASKS, type TaskMessage, type TaskName, type Tasks } from './tasks'
 
@@ -30,7 +32,8 @@ export class ComputeTaskError extends Error {
   }
 }
 
-const WORKER_ENTRY = new URL('./worker.mjs', import.meta.url).href
+/** The thread's entry: worker.mjs (which registers tsx for the sources), or the compiled tasks under plain node. */
+const WORKER_ENTRY = compiled ? pathToFileURL(runnable('server/compute/tasks.ts')).href : new URL('./worker.mjs', import.meta.url).href
 /** Typed arrays at least this large go to shared memory rather than being copied by postMessage. */
 const SHARE_BYTES = 64 * 1024
 

@@ -35,3 +35,6 @@ export function runTask(message: TaskMessage): unknown {
   if (!fn) throw new Error(`no compute task named "${message.task}"`)
   return fn(...message.args)
 }
+
+/** A compute thread's entry when the server runs compiled (piscina calls the default export). */
+export default runTask

@@ -1,9 +1,12 @@
 import fs from 'node:fs/promises'
 import path from 'node:path'
-import { fileURLToPath, pathToFileURL } from 'node:url'
+import { pathToFileURL } from 'node:url'
 import { Migrator, type Kysely, type Migration, type MigrationProvider } from 'kysely'
 
-export const migrationsDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..', 'migrations')
+import { buildDir, compiled, projectRoot } from '../paths'
+
+/** The migrations: their sources, or their compiled counterparts when the server runs compiled (build/migrations). */
+export const migrationsDir = compiled ? path.join(buildDir, 'migrations') : path.join(projectRoot, 'migrations')
 
 /**
  * Kysely's FileMigrationProvider imports through its own code, which vitest does not transform, so .ts
@@ -12,9 +15,9 @@ export const migrationsDir = path.resolve(path.dirname(fileURLToPath(import.meta
 class FolderMigrationProvider implements MigrationProvider {
   constructor(private readonly dir: string) {}
   async getMigrations(): Promise<Record<string, Migration>> {
-    const files = (await fs.readdir(this.dir)).filter((f) => /^\d{14}_[\w-]+\.ts$/.test(f)).sort()
+    const files = (await fs.readdir(this.dir)).filter((f) => /^\d{14}_[\w-]+\.(ts|js)$/.test(f)).sort()
     const out: Record<string, Migration> = {}
-    for (const f of files) out[f.replace(/\.ts$/, '')] = (await import(pathToFileURL(path.join(this.dir, f)).href)) as Migration
+    for (const f of files) out[f.replace(/\.(ts|js)$/, '')] = (await import(pathToFileURL(path.join(this.dir, f)).href)) as Migration
     return out
   }
 }

@@ -1,11 +1,11 @@
 import { spawn, type ChildProcess } from 'node:child_process'
 import os from 'node:os'
-import path from 'node:path'
-import { fileURLToPath } from 'node:url'
 import type pino from 'pino'
 import type { Config } from '../config'
+import { compiled, runnable } from '../paths'
 
-const WORKER_ENTRY = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', 'worker.ts')
+/** The ingest worker's entry: its source under tsx, or its compiled file under plain node. */
+const WORKER_ENTRY = runnable('server/worker.ts')
 
 /** A worker process's name in `scans.claimed_by`. */
 export function workerName(pid: number): string {
@@ -42,7 +42,7 @@ export class WorkerSupervisor {
 
   start(): void {
     this.stopping = false
-    const child = spawn(process.execPath, ['--import', 'tsx', WORKER_ENTRY], {
+    const child = spawn(process.execPath, [...(compiled ? [] : ['--import', 'tsx']), WORKER_ENTRY], {
       env: { ...process.env, SPANMARK_WORKER_CONFIG: JSON.stringify(this.config) },
       stdio: ['ignore', 'inherit', 'inherit'],
     })
