@@ -1,3 +1,4 @@
+import { stringify } from 'csv-stringify/sync'
 import { CAUTIONS } from '@shared/format/cautions'
 import { checkOutcome, type Marker, type Sheet, type SheetScan } from '@shared/schemas'
 import { HttpError } from '../errors'
@@ -56,14 +57,6 @@ export async function sheetOf(s: Services, sceneId: string, checkpointId?: strin
   }
 }
 
-/** One CSV field (RFC 4180 quoting); text that a spreadsheet would run as a formula is kept as text. */
-function field(value: string | number | null | undefined): string {
-  if (value === null || value === undefined) return ''
-  if (typeof value === 'number') return Number.isFinite(value) ? String(value) : ''
-  const text = /^[=+\-@\t\r]/.test(value) ? `'${value}` : value
-  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text
-}
-
 export const SHEET_CSV_COLUMNS = [
   'marker_id',
   'kind',
@@ -96,9 +89,17 @@ export const SHEET_SCANS_CSV_COLUMNS = [
   'registration_moved_since',
 ] as const
 
-/** A header line and one line per row, CRLF-ended (RFC 4180). */
+/**
+ * A header line and one line per row, CRLF-ended and quoted as RFC 4180 says, by csv-stringify; text that a
+ * spreadsheet would run as a formula (starting with = + - @, a tab or a carriage return) is kept as text by
+ * its `escape_formulas` (a leading apostrophe). Numbers as JavaScript writes them (full precision); no value
+ * is an empty field.
+ */
 function csvTable(columns: readonly string[], rows: (string | number | null | undefined)[][]): string {
-  return [columns.join(','), ...rows.map((r) => r.map(field).join(','))].map((line) => `${line}\r\n`).join('')
+  return stringify(
+    rows.map((r) => r.map((v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v))),
+    { header: true, columns: [...columns], record_delimiter: 'windows', escape_formulas: true },
+  )
 }
 
 /** The scans used, one row per placement, in metres as the API gives them. */
