@@ -65,7 +65,30 @@ export function useAlignTool(options: AlignToolOptions) {
   const error = ref<string | null>(null)
   const notice = ref<string | null>(null)
   let nextKey = 1
-  let polling: AbortController | null = null
+  /**
+   * A running refinement, followed through the query library: refetched every POLL_MS while the server says it
+   * runs, then left (each follow its own key, so an earlier answer never stands in for the new one).
+   */
+  const followed = ref<{ id: string; run: number } | null>(null)
+  let runs = 0
+  const following = useQuery({
+    queryKey: computed(() => ['registrations', 'follow', followed.value?.id ?? null, followed.value?.run ?? 0]),
+    queryFn: ({ signal }) => api.getRegistration(followed.value!.id, signal),
+    enabled: computed(() => followed.value !== null),
+    refetchInterval: (query) => (query.state.data?.refine?.status === 'running' ? POLL_MS : false),
+    retry: false,
+    gcTime: 0,
+  })
+  watch(following.data, (r) => {
+    if (!r || r.id !== followed.value?.id) return
+    registration.value = r
+    if (r.refine?.status !== 'running') followed.value = null
+  })
+  watch(following.error, (e) => {
+    if (!e || !followed.value) return
+    error.value = problemText(e, [])
+    followed.value = null
+  })
 
   const report = useQuery({
     queryKey: computed(() => queryKeys.registrations(toValue(options.sceneId))),
@@ -205,29 +228,11 @@ export function useAlignTool(options: AlignToolOptions) {
   }
 
   function stopPolling(): void {
-    polling?.abort()
-    polling = null
+    followed.value = null
   }
 
-  async function follow(id: string): Promise<void> {
-    stopPolling()
-    const controller = new AbortController()
-    polling = controller
-    while (!controller.signal.aborted) {
-      await new Promise((r) => setTimeout(r, POLL_MS))
-      if (controller.signal.aborted) return
-      try {
-        const r = await api.getRegistration(id, controller.signal)
-        if (controller.signal.aborted) return
-        registration.value = r
-        if (r.refine?.status !== 'running') break
-      } catch (e) {
-        if (controller.signal.aborted) return
-        error.value = problemText(e, [])
-        break
-      }
-    }
-    if (polling === controller) polling = null
+  function follow(id: string): void {
+    followed.value = { id, run: ++runs }
   }
 
   /** ICP from the fit (fitting first when the pairs changed), or from the placement as it is without pairs. */
@@ -246,7 +251,7 @@ export function useAlignTool(options: AlignToolOptions) {
         fittedKeys.value = []
         fittedSignature.value = null
       }
-      void follow(r.id)
+      follow(r.id)
     } catch (e) {
       error.value = problemText(e, fittedKeys.value)
     } finally {
