@@ -4,7 +4,7 @@
 import { describe, expect, it } from 'vitest'
 import { REVIEW_STATES } from '@shared/collab/states'
 import type { MarkerRevision } from '@shared/schemas'
-import { commentsVersion } from '@/composables/useComments'
+import { commentsVersion } from '@/composables/useMarkerComments'
 import { actionText, changeSummary, isReviewAction } from '@/components/markers/markerHistory'
 import { filterMarkers, markerRow, REVIEW_OPTIONS } from '@/components/markers/markerText'
 import { check, marker } from './factories'
