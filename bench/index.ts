@@ -1,5 +1,5 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
-// DESIGN section 8 that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
+// DEVELOPERS.md "Targets" that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
 import { formatE57Bench, runE57Bench } from './e57'
 import { formatEdgeBench, runEdgeBench } from './edges'
 import { formatExportBench, runExportBench } from './export'

@@ -7,7 +7,7 @@ import { writeSyntheticLas, writeSyntheticPly, writeSyntheticXyz } from './lib/s
 /**
  * Ingest bench: upload-complete (the 202) to ready (parsed, statistics, octree, every tile in
  * PostgreSQL) through the real server, object storage fake and a fresh worker process per file, whose
- * peak RSS (VmHWM) is the figure for memory. Targets (DESIGN section 8): binary PLY or LAS at 10 M points
+ * peak RSS (VmHWM) is the figure for memory. Targets (DEVELOPERS.md, "Targets"): binary PLY or LAS at 10 M points
  * under 6 s and 1 GB; ASCII XYZ at 10 M under 15 s.
  */
 export interface IngestBenchRow {

@@ -7,7 +7,7 @@ import { gcNow } from './lib/gc'
 import { percentile } from './lib/stats'
 
 /**
- * Live documents through the real server (DESIGN section 8: a marker edit seen by 50 other clients, p99
+ * Live documents through the real server (DEVELOPERS.md, "Targets": a marker edit seen by 50 other clients, p99
  * under 50 ms on loopback; history: the scene's state at any of 10 k revisions under 100 ms): one writer
  * and 50 readers on one scene, each edit timed from the writer's change to the moment every reader has it;
  * the server's heap per open scene; the timeline query over 10 000 revisions.

@@ -7,7 +7,7 @@ import { percentile } from './lib/stats'
 import { writeSyntheticPly } from './lib/syntheticScans'
 
 /**
- * Marker checks through the real server (DESIGN section 8: anchor check p99 under 5 ms warm and 50 ms
+ * Marker checks through the real server (DEVELOPERS.md, "Targets": anchor check p99 under 5 ms warm and 50 ms
  * cold on a 10 M-point scan): the anchor snap alone (nearest stored point through the scan's index, tiles
  * from PostgreSQL; cold = every tile cache dropped before each query), a whole distance marker through the
  * API (POST to answer: validation, row, snap of both anchors, check stored), a section across the 10 M-point

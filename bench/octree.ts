@@ -1,5 +1,5 @@
 /**
- * Bench of the octree, tiles, scan statistics and nearest-point index (DESIGN section 8 figures: ingest of
+ * Bench of the octree, tiles, scan statistics and nearest-point index (DEVELOPERS.md, "Targets": ingest of
  * 10 M points under 6 s and 1 GB, anchor check p99 under 5 ms warm and 50 ms cold).
  *
  * Data: seeded synthetic scans that look like scans: two stations in a 12 x 9 x 3.2 m room with a column,

@@ -14,7 +14,7 @@ import { writeSyntheticLas, writeSyntheticPly, writeSyntheticXyz } from './lib/s
  *
  *   npx tsx bench/parse.ts [--sizes 1e6,1e7]
  *
- * Targets (DESIGN section 8): binary PLY and LAS at least 15 M points/s and at least 10x PLYLoader.
+ * Targets (DEVELOPERS.md, "Targets"): binary PLY and LAS at least 15 M points/s and at least 10x PLYLoader.
  */
 
 export interface ParseBenchRow {

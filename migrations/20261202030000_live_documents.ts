@@ -1,6 +1,6 @@
 import { sql, type Kysely } from 'kysely'
 
-// The live documents' update log and its compacted snapshots (DESIGN section 6): every accepted update is
+// The live documents' update log and its compacted snapshots (server/collab/README.md): every accepted update is
 // stored here before it is broadcast; a document loads as its latest snapshot plus the updates after it.
 export async function up(db: Kysely<any>): Promise<void> {
   await db.schema

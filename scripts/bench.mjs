@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-// `npm run bench`: the speed and memory figures of DESIGN section 8, on a throwaway PostgreSQL cluster.
+// `npm run bench`: the speed and memory targets of DEVELOPERS.md ("Targets"), on a throwaway PostgreSQL cluster.
 // Arguments go to bench/index.ts (`--sizes 1e6` for a quick run; the default is 1 M and 10 M points).
 import { spawnSync } from 'node:child_process'
 import { ensureChromium, ensureNodeModules, fail, localBin, root, run } from './lib/system.mjs'

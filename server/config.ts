@@ -111,7 +111,7 @@ export interface Config {
   /** A processing scan whose worker has not beaten for this long is queued again. */
   exportProgressMs: number
   ingestStaleMs: number
-  /** A live edit becomes a revision once its author has left the marker alone this long (DESIGN section 6: 2 s). */
+  /** A live edit becomes a revision once its author has left the marker alone this long (2 s in production). */
   liveSettleMs: number
   /** What one live connection may cost (server/collab/limits.ts). */
   live: LiveLimits

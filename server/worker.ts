@@ -1,6 +1,6 @@
 // The ingest worker process: takes scan jobs from the PostgreSQL queue and processes them one at a time.
 // Started by the server (jobs/supervisor.ts) with the server's configuration, or on its own with the
-// same environment as the server (DESIGN section 10: workers on other machines).
+// same environment as the server (workers may run on other machines: several share the PostgreSQL job queue).
 import { loadConfig, type Config } from './config'
 import { createDb, createPool } from './db'
 import { EXPORT_QUEUE, INGEST_QUEUE, sendIngest, startBoss, type ExportJob, type IngestJob } from './jobs/queue'

@@ -5,7 +5,7 @@ import { useToast } from 'primevue/usetoast'
 import { ROLE_LABELS } from '@shared/auth/roles'
 import { acceptInvite, lookupInvite } from '@/api/invites'
 import { useSessionStore } from '@/stores/session'
-import { takeFragmentToken } from './useFragmentToken'
+import { takeFragmentToken } from '@/lib/fragmentToken'
 import { queryKeys } from './queryKeys'
 
 /** The tab keeps the token while its person signs up or signs in and comes back (never in a URL). */

@@ -1,5 +1,5 @@
 import { ref } from 'vue'
-import { takeFragmentToken } from './useFragmentToken'
+import { takeFragmentToken } from '@/lib/fragmentToken'
 
 /** The password reset link's one-time token (`#token=...`), taken out of the address at once; null without one. */
 export function useResetToken() {

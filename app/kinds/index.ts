@@ -10,7 +10,7 @@ import type { MarkerKindUi } from './types'
  * The client's side of the marker kinds, one folder each (app/kinds/<kind>/: words, icon, colour, tool,
  * placing panel, drawing, card). The dock, the placing tools, the viewport, the drawer and the card read
  * them through this registry; the kinds themselves (schemas, checks) are in shared/kinds and
- * server/markers/kinds. Adding a kind: DEVELOPERS.md, "Adding a marker kind".
+ * server/markers/kinds. Adding a kind: DEVELOPERS.md, "Adding things": a marker kind.
  */
 const KIND_UIS: { [K in MarkerKind]: MarkerKindUi<K> } = {
   distance: distanceUi,

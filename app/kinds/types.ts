@@ -54,7 +54,7 @@ export interface CardContext {
 /**
  * The client's side of one marker kind (app/kinds/<kind>/index.ts): its words, icon and colour, its tool in
  * the dock and how it is placed, how it is drawn in the viewport, and how its card reads. Registered in
- * app/kinds/index.ts. Adding a kind: DEVELOPERS.md, "Adding a marker kind".
+ * app/kinds/index.ts. Adding a kind: DEVELOPERS.md, "Adding things": a marker kind.
  */
 export interface MarkerKindUi<K extends MarkerKind = MarkerKind> {
   kind: K

@@ -35,7 +35,7 @@ export function formatMetres(metres: number, options: { digits?: 0 | 1 | 2 | 3; 
 }
 
 /** Millimetres under 0.1 m, metres from there: "4.0 mm", "0.912 m", "12.655 m". */
-export function formatLength(metres: number): string {
+export function formatLengthBySize(metres: number): string {
   return Math.abs(metres) < MILLIMETRES_BELOW ? formatMillimetres(metres) : formatMetres(metres)
 }
 

@@ -1,5 +1,5 @@
 /**
- * A faint floor grid in the viewport (BRAND: #2E2A25 on the charcoal), in the XY plane at the lowest point of
+ * A faint floor grid in the viewport (Spanmark's palette: #2E2A25 on the charcoal), in the XY plane at the lowest point of
  * the scene, with square cells of a round size (0.1, 0.25, 0.5, 1, 2.5, 5 ... m) so about 20 cover the scene.
  */
 import * as THREE from 'three'

@@ -1,5 +1,5 @@
 /**
- * Which octree nodes to draw (DOMAIN "Level of detail": coarse to fine until the on-screen spacing falls below a
+ * Which octree nodes to draw (level of detail, common practice: coarse to fine until the on-screen spacing falls below a
  * pixel threshold), within a drawing limit, over every visible placement at once.
  *
  * Rule, per frame or camera change:

@@ -16,7 +16,7 @@ import type { ConnectionRegistry } from './connections'
 import { LiveRefusal, type Connection, type LiveChange, type Room } from './room'
 
 /**
- * REST and the live documents are one model (DESIGN section 7). A change made through the API is written
+ * REST and the live documents are one model (server/collab/README.md). A change made through the API is written
  * into the work document (and a stored check into the record document) by the server; a change a writer
  * makes in the work document goes through the same marker service into PostgreSQL, and is put back as it
  * was when the service refuses it.

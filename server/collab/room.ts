@@ -154,7 +154,7 @@ export class Room {
     return this.queue
   }
 
-  /** A change made by the server itself (the record document, later the checks). */
+  /** A change made by the server itself (REST writes mirrored into the documents, check results into the record document). */
   transact(change: (doc: Y.Doc) => void): void {
     Y.transact(this.doc, () => change(this.doc), SERVER)
   }

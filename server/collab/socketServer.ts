@@ -20,7 +20,7 @@ import { Room, type Connection } from './room'
 const PATH = /^\/collab\/([0-9a-f-]{36})(\/record)?$/i
 
 /**
- * The live documents' WebSocket endpoint (DESIGN section 7): `/collab/:sceneId` (the work document) and
+ * The live documents' WebSocket endpoint (server/collab/README.md): `/collab/:sceneId` (the work document) and
  * `/collab/:sceneId/record` (the record document), speaking y-websocket's protocol. The upgrade is taken,
  * then decided: a bad Origin, no session, no such scene or no membership closes the socket at once with a
  * named code (shared/collab/documents.ts CLOSE_CODES), so a client can tell why. Owners and measurers write

@@ -13,7 +13,7 @@ export const DEMO_ACCOUNTS: readonly { role: Role; email: string; name: string }
 ]
 
 /**
- * The demo's guest has no account (DESIGN section 2): the owner has sent them a viewing pass, whose e-mail
+ * The demo's guest has no account (DEVELOPERS.md, "Roles and rights"): the owner has sent them a viewing pass, whose e-mail
  * waits in the dev mailbox. Its link opens once, in one browser.
  */
 export const DEMO_GUEST = { email: 'pieter@ostrevale-museum.example', name: 'Pieter Ovaska', days: 90, allowDownload: false }

@@ -88,7 +88,7 @@ export function placementOf(ctx: CheckContext, instanceId: string, what: string)
 /**
  * The registration part of an anchor's budget: two points of one placement share its registration error,
  * which largely cancels in what they measure; points of two placements add both registrations'
- * uncertainty (DOMAIN section 2). So an anchor's budget lists its placement's registration only when the
+ * uncertainty (shared/measure/README.md, "Registration terms"). So an anchor's budget lists its placement's registration only when the
  * marker's anchors lie on more than one placement. (An angle over A, A, B then carries A's term on both A
  * anchors, a little more than the exact correlated sum, which would let A's cancel between them.)
  */

@@ -6,7 +6,7 @@ import { UniformGrid } from '../points/index/uniformGrid'
 import { createRandom, sampleIndices } from '../points/stats/random'
 
 /**
- * ICP refinement of one scan against another (DOMAIN section 2, "Registration"): point-to-plane ICP
+ * ICP refinement of one scan against another (shared/measure/README.md, "Registration"): point-to-plane ICP
  * (Chen and Medioni 1992, Image and Vision Computing 10(3)) with the small-angle linearisation of each step
  * (Low 2004, UNC TR04-004), outliers rejected by a fixed distance threshold (Rusinkiewicz and Levoy 2001,
  * 3DIM), and a step accepted only if it does not raise the RMS, so the RMS never increases (the property

@@ -1,6 +1,6 @@
 import { sql } from 'kysely'
 import type { Conn } from '../db'
-import type { CheckState } from '@shared/collab/states'
+import type { CheckState, ReviewState } from '@shared/collab/states'
 import { DEPENDENT_PARAMS, PLACEMENT_PARAMS, type MarkerKind } from '@shared/schemas'
 
 export interface StoredAnchor {
@@ -226,8 +226,6 @@ export function pendingMarkersOfProject(db: Conn, projectId: string, limit: numb
 export function pendingMarkers(db: Conn) {
   return db.selectFrom('markers').select(['id', 'revision']).where('check_state', '=', 'pending').execute()
 }
-
-export type ReviewState = 'open' | 'changes-asked' | 'signed-off'
 
 /**
  * Sets a marker's review. A sign-off is stored only while the marker's check is not pending (a conditional

@@ -2,7 +2,7 @@ import { RegistrationFitBody, RegistrationParams, RegistrationRefineBody, SceneP
 import * as registrations from '../services/registration'
 import { defineRoute, type RouteDef } from './registry'
 
-/** Aligning stations (DESIGN section 2: "align stations" is an editScans right; everyone may read the record). */
+/** Aligning stations ("align stations" is an editScans right, shared/auth/roles.ts; everyone may read the record). */
 export const registrationRoutes: RouteDef[] = [
   defineRoute({
     method: 'get',

@@ -5,7 +5,7 @@ import type { AuthUser, Guest, Services } from '../types'
 
 /**
  * Who may call a route. Project routes name the right they need (shared/auth/roles.ts); the project is
- * found from the path (see services/access.ts), and the codes follow DESIGN section 2: no session 401,
+ * found from the path (see services/access.ts), and the codes follow DEVELOPERS.md, "Roles and rights": no session 401,
  * not a member 404, a member whose role lacks the right 403.
  */
 export type Access =

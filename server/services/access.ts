@@ -18,7 +18,7 @@ import type { Guest } from '../types'
 
 /**
  * The one place that decides whether a caller may do something in a project. Routes whose path names
- * another resource (a scan, a rig key, later a scene or a marker) add a resolver here that finds its
+ * another resource (a scan, a rig key, a scene, a marker, ...) add a resolver here that finds its
  * project; the first parameter of the path found in this table decides.
  */
 const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>> = {

@@ -97,7 +97,7 @@ const REOPEN_NOTES = {
 }
 
 /**
- * DESIGN section 6: a signed-off marker whose geometry or placement changes returns to open, with a revision
+ * The review rule (server/markers/README.md, "Comments and review"): a signed-off marker whose geometry or placement changes returns to open, with a revision
  * saying why (`userId`: whose change it was). `live: false` when the caller writes the record entry itself.
  */
 async function reopenSignedOff(s: Services, sceneId: string, markerIds: readonly string[], note: string, userId: string | null, options: { live: boolean }): Promise<void> {

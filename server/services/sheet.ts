@@ -11,7 +11,7 @@ import type { Services } from '../types'
 
 /**
  * The measurement sheet: the scene's markers (now, or as a checkpoint froze them), the scans its placements
- * use with their counts, spacing, point uncertainty and registration RMS, and the cautions of DESIGN
+ * use with their counts, spacing, point uncertainty and registration RMS, and the cautions of shared/format/cautions.ts
  * section 11. The CSV is made from the same object, so its values are the API's.
  */
 export async function sheetOf(s: Services, sceneId: string, checkpointId?: string): Promise<Sheet> {

@@ -1,11 +1,11 @@
 /**
- * Roles and rights per project (DESIGN section 2). The server decides every request from this one table;
+ * Roles and rights per project (the table in DEVELOPERS.md, "Roles and rights"). The server decides every request from this one table;
  * the client uses it only to hide controls a role cannot use.
  */
 export const ROLES = ['owner', 'measurer', 'mentor', 'guest'] as const
 export type Role = (typeof ROLES)[number]
 
-/** Roles a person with an account holds; a guest has no account, only a viewing pass (DESIGN section 2). */
+/** Roles a person with an account holds; a guest has no account, only a viewing pass. */
 export const MEMBER_ROLES = ['owner', 'measurer', 'mentor'] as const satisfies readonly Role[]
 export type MemberRole = (typeof MEMBER_ROLES)[number]
 

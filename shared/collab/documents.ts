@@ -1,5 +1,5 @@
 /**
- * The live documents of a scene (DESIGN section 6), one module for their names and shape.
+ * The live documents of a scene (server/collab/README.md), one module for their names and shape.
  *
  * - The work document (`scene:<id>`), written by owners and measurers: map `markers` (marker id to
  *   {kind, label, anchors in each placement's own frame, params}) and map `instances` (placement id to
@@ -29,7 +29,7 @@ export function documentName(sceneId: string, kind: DocumentKind): string {
   return kind === 'work' ? `scene:${sceneId}` : `scene:${sceneId}:record`
 }
 
-/** WebSocket paths (DESIGN section 7). */
+/** WebSocket paths (server/collab/README.md). */
 export function collabPath(sceneId: string, kind: DocumentKind): string {
   return kind === 'work' ? `/collab/${sceneId}` : `/collab/${sceneId}/record`
 }

@@ -1,6 +1,6 @@
 /**
- * The one table of state names (DESIGN section 6): API, live documents and screens all use these codes;
- * the words people read are Spanmark's own (Spanmark's own). State is never told by colour alone, so every state
+ * The one table of state names (glossary in DEVELOPERS.md): API, live documents and screens all use these codes;
+ * the words people read are Spanmark's own (the glossary in DEVELOPERS.md). State is never told by colour alone, so every state
  * also names its shape (drawn by the client's StateMark).
  */
 

@@ -1,5 +1,5 @@
 /**
- * The cautions of DESIGN section 11 in Spanmark's own words: one place for the screen, the measurement sheet
+ * The cautions Spanmark shows (laser eye safety, clearance as a planning aid, verification by a licensed surveyor) in Spanmark's own words: one place for the screen, the measurement sheet
  * and its CSV.
  */
 export const CAUTIONS = {

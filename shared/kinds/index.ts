@@ -9,7 +9,7 @@ import { section } from './section'
  * The marker kinds, one module each (shared/kinds/<kind>/: params, create body, result, words). The API's
  * kind list, the create body's and the check result's discriminated unions are built from this one list; the
  * server's checks (server/markers/kinds/) and the client's tools (app/kinds/) keep their own registries keyed
- * by these kinds. Adding a kind: DEVELOPERS.md, "Adding a marker kind".
+ * by these kinds. Adding a kind: DEVELOPERS.md, "Adding things": a marker kind.
  */
 export const KINDS = [distance, angle, section, clearance, pointToPlane] as const
 

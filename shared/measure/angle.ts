@@ -6,7 +6,7 @@
  * (common practice), so no clamping is needed.
  * Uncertainty: independent isotropic per-coordinate uncertainties sA, sB, sC (metres); with a = |BA|,
  * c = |BC|, b = |AC|: u^2(theta) = sA^2/a^2 + sC^2/c^2 + sB^2 b^2/(a^2 c^2) radians^2 (derived from GUM eq. 10,
- * JCGM 100:2008 section 5.1; DOMAIN section 2), returned in radians and degrees.
+ * JCGM 100:2008 section 5.1, eq. 10; derived), returned in radians and degrees.
  *
  * Degenerate input: an arm shorter than 1e-9 m gives 'coincident' (no direction). A straight or folded
  * angle (collinear points) is a valid value (180 or 0), but the angle cannot leave [0, 180], so the

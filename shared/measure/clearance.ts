@@ -3,7 +3,7 @@ import { convexHull, signedArea } from './polygon'
 import type { FreeOpening } from './opening'
 
 /**
- * Fit of an object's silhouette through a free opening (opening.ts), with the decision of DOMAIN section 2.
+ * Fit of an object's silhouette through a free opening (opening.ts), with the guard-band decision of JCGM 106:2012 (README.md here).
  *
  * Units and frame: metres and degrees, the section's 2D frame (u to the right, v up for a wall plane). The
  * silhouette is the object projected along the direction of travel, given as u v points in the same frame
@@ -41,7 +41,7 @@ import type { FreeOpening } from './opening'
  * Limits: the silhouette's interior is not checked, so islands of points inside the opening smaller than
  * the silhouette are missed; the fit is planar (one section), not a 3D passage.
  *
- * Decision (DOMAIN section 2, guard bands after JCGM 106:2012): with U the expanded uncertainty and r_req
+ * Decision (guard bands after JCGM 106:2012): with U the expanded uncertainty and r_req
  * the required margin, 'passes' if m - U >= r_req, 'does-not-pass' if m + U < r_req (collides when
  * m + U < 0), else 'too-close-to-call'.
  */
@@ -276,7 +276,7 @@ export function fitThrough(
   }
 }
 
-/** The guard-band rule of DOMAIN section 2 (JCGM 106:2012): margin m, expanded uncertainty U, required r. */
+/** The guard-band rule of JCGM 106:2012: margin m, expanded uncertainty U, required r. */
 export function decideFit(margin: number, expandedUncertainty: number, requiredMargin: number): FitOutcome {
   const U = expandedUncertainty
   return margin - U >= requiredMargin ? 'passes' : margin + U < requiredMargin ? 'does-not-pass' : 'too-close-to-call'

@@ -95,7 +95,7 @@ export function convexHull(xy: ArrayLike<number>): Hull {
   return { ok: true, xy: out, indices }
 }
 
-/** Default ratio of the concave outline's edge-length threshold to the point spacing (DOMAIN: 2-3). */
+/** Default ratio of the concave outline's edge-length threshold to the point spacing (2-3, common practice). */
 export const OUTLINE_SPACING_FACTOR = 2.5
 
 export type Outline = { ok: true; xy: Float64Array } | { ok: false; reason: 'too-few-points' | 'collinear' | 'invalid-spacing' }

@@ -4,7 +4,7 @@ import { symmetricEigen3, type SymmetricEigen3 } from '../geometry/symmetricEige
 
 /**
  * Closed-form registration from tie-point pairs: the rigid transform that maps the moving placement's
- * points onto the held placement's in the least-squares sense (DOMAIN section 2, "Registration").
+ * points onto the held placement's in the least-squares sense (Horn 1987, JOSA A 4(4); Arun, Huang and Blostein 1987).
  *
  * Frames and units: both points of a pair are in the scene frame, metres, Z up. The result's `matrix` is
  * column-major (shared/geometry/rigidTransform.ts) and maps moving -> held: held ~ R moving + t. To move the
@@ -13,8 +13,7 @@ import { symmetricEigen3, type SymmetricEigen3 } from '../geometry/symmetricEige
  * Methods (both exported, both give the same R to rounding on any non-degenerate set):
  * - `svd` (the default): Arun, Huang and Blostein 1987 (IEEE TPAMI 9(5)) / Kabsch 1976: H = sum of
  *   m_c h_c^T over centred pairs, H = U S V^T, R = V D U^T with D = diag(1, 1, sign det(V U^T)), the
- *   reflection guard of Umeyama 1991 (IEEE TPAMI 13(4)). Default because it is the route DESIGN section 4
- *   names, and the 3x3 SVD with the guard is the form the independent test rebuilds step by step.
+ *   reflection guard of Umeyama 1991 (IEEE TPAMI 13(4)). Default because it is the common route (Kabsch-Umeyama), and the 3x3 SVD with the guard is the form the independent test rebuilds step by step.
  * - `horn`: Horn 1987 (JOSA A 4(4)): the unit quaternion is the eigenvector of the largest eigenvalue of
  *   the symmetric 4x4 matrix N built from H; a quaternion is always a proper rotation, so it needs no guard.
  * Translation from the centroids for both: t = c_held - R c_moving.

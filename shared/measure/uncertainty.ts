@@ -2,13 +2,13 @@
  * Standard-uncertainty budget of one anchor (a picked or snapped point), in metres.
  *
  * Independent parts combine in quadrature, u = sqrt(sum u_i^2) (JCGM 100:2008 section 5.1, eq. 10 with unit
- * sensitivities and no correlation). The usual parts of an anchor (DESIGN section 4):
+ * sensitivities and no correlation). The usual parts of an anchor (README.md here, "An anchor's budget"):
  * - the point's own per-axis standard uncertainty (isotropic: the same u along x, y and z);
  * - picking: the surface lies somewhere within one point spacing, a rectangular distribution of full width
  *   = spacing, so u = (spacing / 2) / sqrt(3) = spacing / sqrt(12) per axis (GUM 4.3.7);
  * - the placement's registration, as a per-axis standard uncertainty made from its accepted RMS by
  *   `registrationUncertainty` below. Two anchors on the same placement share it and it largely cancels in
- *   their distance (DOMAIN section 2); the caller leaves it out of both then (server/markers/check.ts).
+ *   their distance (common practice; README.md here, "Registration terms"); the caller leaves it out of both then (server/markers/check.ts).
  * Expanded uncertainty U = k u with k = 2 (about 95 % for a normal distribution, GUM 6.2 / Annex G).
  *
  * Degenerate input: a part that is negative or not finite gives { ok: false }, never a NaN total; an

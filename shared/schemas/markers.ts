@@ -117,7 +117,7 @@ export function blankCheck(state: Check['state'], basedOn: number, reason: strin
 export const PersonRef = z.object({ id: Id, name: z.string() }).nullable()
 
 /**
- * A marker's review (DESIGN sections 2 and 3.5): open, changes-asked or signed-off, who set it and when, and
+ * A marker's review (server/markers/README.md, "Comments and review"): open, changes-asked or signed-off, who set it and when, and
  * the note (the reviewer's, or why the server returned a signed-off marker to open). Never reviewed: open,
  * nobody, no time.
  */

@@ -4,7 +4,7 @@ import { PersonRef, Vec3 } from './markers'
 
 /**
  * Registrations: aligning one placement (the moving one) onto another (the held one) by tie points, a
- * closed-form fit and an optional ICP refinement (DOMAIN section 2, "Registration"; issue "align stations").
+ * closed-form fit and an optional ICP refinement (shared/measure/README.md, "Registration"; issue "align stations").
  * Points are in the scene frame (metres, Z up); matrices are 16 numbers, column-major, rigid. A correction
  * maps the moving placement's points onto the held one's (held ~ C moving, scene frame); accepting it sets
  * the moving placement's matrix to C P_before.

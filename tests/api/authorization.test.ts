@@ -1,4 +1,4 @@
-// Generated from the route registry (server/routes/index.ts): every API route, every role of DESIGN
+// Generated from the route registry (server/routes/index.ts): every API route, every role of shared/auth/roles.ts
 // section 2 (the guest a real one: no account, a viewing pass opened through its e-mailed link), a
 // signed-in non-member, a guest of another project and an anonymous caller. A route added to the registry
 // is walked here without anyone writing a test for it; a route whose access or path parameters are

@@ -289,7 +289,7 @@ describe('roles, forgeries and reconnecting', () => {
     return res.status === 200 ? (res.body.marker as { label: string; check: { state: string; value: number | null }; createdBy: { id: string; name: string } | null; review: { state: string } }) : null
   }
 
-  // DESIGN section 2's table, at the socket: owners and measurers write the work document, mentors do not.
+  // The roles table (shared/auth/roles.ts), at the socket: owners and measurers write the work document, mentors do not.
   it.each([
     ['owner', 'stored', true],
     ['measurer', 'stored', true],

@@ -1,5 +1,5 @@
 // A server killed with SIGKILL mid-session and started again has every live update any client saw
-// (DESIGN section 9): the server runs as its own process here, so it can really be killed.
+// (server/collab/README.md): the server runs as its own process here, so it can really be killed.
 import { spawn, type ChildProcess } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'

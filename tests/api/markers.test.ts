@@ -1,6 +1,6 @@
 // Markers checked against the stored points, through the API, on synthetic scans of known geometry made here
 // (seeded noise, 1 cm grids, 1 mm normal noise): tests/utils/solids.ts. Reference values are the solids' own
-// dimensions; budgets follow GUM (JCGM 100:2008) 4.3.7 and 5.1; the decision rule is DOMAIN section 2's guard
+// dimensions; budgets follow GUM (JCGM 100:2008) 4.3.7 and 5.1; the decision rule is JCGM 106:2012's guard
 // band (after JCGM 106:2012).
 import { resultOf } from '@shared/schemas'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -111,7 +111,7 @@ describe('distance and angle', () => {
       expect(a.onScan).toBe(true)
       expect(a.residual!).toBeLessThan(0.01)
       // Parts: the stated point uncertainty, the picking term spacing / sqrt(12) (GUM 4.3.7); no registration
-      // part, since both anchors are on one placement and share its registration (DOMAIN section 2).
+      // part, since both anchors are on one placement and share its registration (common practice, shared/measure/README.md).
       expect(a.parts).toEqual([
         { name: 'point', u: ENTERED_U },
         { name: 'picking', u: expect.closeTo(spacing / Math.sqrt(12), 12) },

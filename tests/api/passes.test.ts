@@ -1,4 +1,4 @@
-// Viewing passes (DESIGN section 2): the e-mailed one-time token (in the fragment) swapped once for an
+// Viewing passes (DEVELOPERS.md, "Roles and rights"): the e-mailed one-time token (in the fragment) swapped once for an
 // HttpOnly, SameSite=Lax guest session cookie scoped to one project; the guest reads that project and
 // writes nothing (API 403, live updates dropped); other projects are 404; revoking or expiry stops the pass
 // at once, open sockets included (4403); neither token nor cookie reaches a log line or the socket's URL.

@@ -208,7 +208,7 @@ describe('closed-form fit', () => {
     await err({ pairs: three, method: 'best' }, 'method', /one of/)
   })
 
-  it('refuses mentors and guests (DESIGN section 2: aligning is for owners and measurers) but lets them read', async () => {
+  it('refuses mentors and guests (shared/auth/roles.ts: aligning is for owners and measurers) but lets them read', async () => {
     for (const who of [mentor, guest]) {
       const res = await who.agent.post(`/api/scenes/${sceneId}/registrations/fit`).send({ movingInstanceId: movingId, heldInstanceId: heldId, pairs: spherePairs() })
       expect(res.status).toBe(403)
@@ -323,7 +323,7 @@ describe('accept and undo', () => {
 
     // Both markers are checked again; the cross one lists each anchor's registration: 0 on the held
     // placement (the reference), the accepted figure's per-axis u on the moving one. The same-placement
-    // one has none: it cancels (DOMAIN section 2).
+    // one has none: it cancels (common practice: a shared registration error cancels in a distance).
     const crossAfter = await waitChecked(cross.id, cross.check.basedOn)
     const sameAfter = await waitChecked(same.id, same.check.basedOn)
     expect(crossAfter.check.parts.filter((p) => /registration/.test(p.name))).toEqual([

@@ -1,6 +1,6 @@
 // Comments on markers and their review (sign-off), through the API and the live record document, and the
 // e-mail to a marker's author that gathers others' comments, delivered over real SMTP into dev_mail. The rules
-// checked here are the product's own (DESIGN sections 2, 3.5 and 6): who may comment and review, never one's
+// checked here are the product's own (server/markers/README.md, "Comments and review"; DEVELOPERS.md, "Roles and rights"): who may comment and review, never one's
 // own marker, a note for "changes asked", no sign-off while the check is pending, and a signed-off marker back
 // to open when its geometry or placement changes (common practice in review workflows, no source). Geometry:
 // a box of known size (tests/utils/solids.ts), so that checks are real.

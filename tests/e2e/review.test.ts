@@ -1,7 +1,7 @@
 // Review in Chromium on the seeded demo scene (invented data, server/demo): the mentor comments on the
 // measurer's marker and signs it off; the measurer's open page shows the comment and the signed-off state live,
 // without reloading; the measurer's e-mail about the comment arrives over SMTP in dev_mail, and its link opens
-// the scene with that marker selected. The rules are the product's own (DESIGN sections 2, 3.5 and 6).
+// the scene with that marker selected. The rules are the product's own (server/markers/README.md, "Comments and review").
 import '../utils/browserLane'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'

@@ -1,9 +1,9 @@
-// The role table of shared/auth/roles.ts against the capability table of DESIGN section 2, written out
+// The role table of shared/auth/roles.ts against the product's capability table (DEVELOPERS.md, "Roles and rights"), written out
 // here row by row (the product's own specification, not derived from the code under test).
 import { describe, expect, it } from 'vitest'
 import { can, RIGHTS, ROLES, type Right, type Role } from '@shared/auth/roles'
 
-const DESIGN_SECTION_2: Record<Right, Record<Role, boolean>> = {
+const ROLES_AND_RIGHTS: Record<Right, Record<Role, boolean>> = {
   view: { owner: true, measurer: true, mentor: true, guest: true },
   // Seeing is not taking: a guest downloads original scans only through a pass that allows it (issue 12, point 8).
   downloadOriginals: { owner: true, measurer: true, mentor: true, guest: false },
@@ -18,8 +18,8 @@ const DESIGN_SECTION_2: Record<Right, Record<Role, boolean>> = {
 describe('roles and rights', () => {
   for (const right of RIGHTS) {
     for (const role of ROLES) {
-      it(`${role} ${DESIGN_SECTION_2[right][role] ? 'may' : 'may not'} ${right}`, () => {
-        expect(can(role, right)).toBe(DESIGN_SECTION_2[right][role])
+      it(`${role} ${ROLES_AND_RIGHTS[right][role] ? 'may' : 'may not'} ${right}`, () => {
+        expect(can(role, right)).toBe(ROLES_AND_RIGHTS[right][role])
       })
     }
   }

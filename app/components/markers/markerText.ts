@@ -26,7 +26,7 @@ export function lookOf(state: AnyState): StateLook {
   return LOOKS[state]
 }
 
-/** The caution shown beside every clearance result (DESIGN section 11). */
+/** The caution shown beside every clearance result (shared/format/cautions.ts). */
 export { CLEARANCE_CAUTION } from '@shared/format/cautions'
 
 /** What a value is, in words, for the card's caption. */

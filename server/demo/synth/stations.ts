@@ -2,8 +2,8 @@ import { createRandom, gaussian, type Random } from '../../points/stats/random'
 import { castRay, type Surface } from './raycast'
 
 /**
- * Simulated stations of a pan/tilt scanner over a synthetic scene. Angles follow DOMAIN section 2 (pan H
- * anticlockwise from the station's +x, tilt V up from horizontal); a station's own frame is the scene
+ * Simulated stations of a pan/tilt scanner over a synthetic scene. Angles follow the station log format
+ * (server/points/readers/README.md: pan H anticlockwise from the station's +x, tilt V up from horizontal); a station's own frame is the scene
  * frame turned by `heading` about +Z and moved to `position`, which is the frame its file is written in.
  */
 export interface StationPose {

@@ -12,7 +12,7 @@ function angleCheck(base: Check, s: Snapped[]): Check {
     return { ...base, state: 'invalid-geometry', reason: why }
   }
   const deg = 180 / Math.PI
-  // Sensitivities (DOMAIN section 2, angle.ts): arm ends 1/a and 1/c, the vertex b/(a c), radians per metre.
+  // Sensitivities (derived from JCGM 100:2008 eq. 10; shared/measure/angle.ts): arm ends 1/a and 1/c, the vertex b/(a c), radians per metre.
   const scale = (i: number) => deg * (i === 0 ? 1 / g.a : i === 2 ? 1 / g.c : g.b / (g.a * g.c))
   return {
     ...base,

@@ -12,8 +12,8 @@ import { section } from './section'
  * finished check (its `result` of the kind's own shape, shared/kinds/<kind>/) or throws `Stop`
  * (server/markers/checkParts.ts) for a state with a reason. A kind may also check what its params name
  * (`references`: a section's placements, a clearance's object and section); every kind's anchors are checked
- * by the caller. Adding a kind: a file beside this one and one line in KIND_CHECKS (DEVELOPERS.md, "Adding a
- * marker kind").
+ * by the caller. Adding a kind: a file beside this one and one line in KIND_CHECKS (DEVELOPERS.md, "Adding
+ * things": a marker kind).
  */
 export interface KindCheck {
   check(base: Check, snapped: Snapped[], input: CheckInput, ctx: CheckContext): Check | Promise<Check>

@@ -5,7 +5,7 @@ import { ByteLruCache, type TileCache } from './tileCache'
 import { UniformGrid } from './uniformGrid'
 
 /**
- * Nearest stored points over a scan's octree (DOMAIN "Nearest neighbour": octree search, agreeing with brute
+ * Nearest stored points over a scan's octree (octree after Meagher 1982; octree search, agreeing with brute
  * force), reading tiles through a caller-supplied loader (the database in production, a Map in the bench).
  *
  * Search: best-first over the nodes by the distance from the query to each node's box. Every node stores

@@ -3,7 +3,7 @@ import type { PointBuffer } from '../pointBuffer'
 import { bufferBounds } from '../stats/bounds'
 
 /**
- * Level-of-detail octree over a PointBuffer (DOMAIN "Level of detail": root cube around the bounds, cell
+ * Level-of-detail octree over a PointBuffer (level of detail, common practice; octree after Meagher 1982: root cube around the bounds, cell
  * edge S / 2^L at level L, each node a thinned subsample).
  *
  * Every point is stored in exactly one node. A node with more than `maxLeafPoints` points keeps a spatially

@@ -6,7 +6,7 @@ import { createRandom, sampleIndices } from './random'
 import { DEFAULT_SAMPLE_SIZE, DEFAULT_SEED, type SampleOptions } from './spacing'
 
 /**
- * One standard uncertainty per scan from local plane-fit residuals (DESIGN 3.2, for formats without per-point
+ * One standard uncertainty per scan from local plane-fit residuals (shared/measure/README.md, "An anchor's budget"; for formats without per-point
  * uncertainty): for each sampled point, its k nearest points (itself included) are fitted with a plane by
  * PCA and the orthogonal RMS residual sqrt(lambda_min) taken (Shakarji 1998, J. Res. NIST 103(6)); the scan's
  * value is the median over the samples, robust against samples on edges and corners.

@@ -5,7 +5,7 @@ import { bufferGrid } from './bufferGrid'
 import { estimatePointUncertainty, type PointUncertaintyEstimate, type UncertaintyOptions } from './pointUncertainty'
 import { estimateSpacing } from './spacing'
 
-/** What the upload job records per scan (DESIGN 3.2): bounds, mean spacing and the estimated uncertainty. */
+/** What the upload job records per scan (server/points/README.md): bounds, mean spacing and the estimated uncertainty. */
 export interface ScanStats {
   pointCount: number
   bounds: Box3 | null

@@ -5,7 +5,7 @@ import { bufferGrid } from './bufferGrid'
 import { createRandom, sampleIndices } from './random'
 
 /**
- * Mean point spacing (DOMAIN "Spacing and density"), metres: the mean over a seeded random sample of the
+ * Mean point spacing (density from the k-th neighbour distance, common practice), metres: the mean over a seeded random sample of the
  * distance from a point to its `rank`-th nearest other point, the neighbours searched among all points
  * through a uniform grid built once.
  *

@@ -1,7 +1,7 @@
 // The align tool's tie pairs on the page (app/components/viewer/alignPairs.ts) and the registration report's
 // words (app/components/registration/registrationText.ts): the click order, the fit request (parsed with the
 // contract's own zod schema), error wording by row, and the matrix as read. References: the 90-degree turn
-// about Z and the move (1, 2, 3) of DOMAIN section 4 (derived), and three.js's Matrix4 for the column-major
+// about Z and the move (1, 2, 3) (a worked example, derived), and three.js's Matrix4 for the column-major
 // layout of a rotation (reference library).
 import { describe, expect, it } from 'vitest'
 import { Matrix4 } from 'three'
@@ -61,7 +61,7 @@ describe('tie pairs by clicks', () => {
     const matrices: Record<string, number[]> = { [M]: rotationZ(90, 1, 2, 3), [H]: new Matrix4().elements }
     const { body, keys } = fitBody(pairs, M, H, (id) => matrices[id], 'sphere', 0.0725)
     expect(keys).toEqual([1, 2, 3])
-    // DOMAIN section 4: (x, 0, 0) turned 90 degrees about Z and moved (1, 2, 3) lands on (1, 2 + x, 3).
+    // Worked example (derived): (x, 0, 0) turned 90 degrees about Z and moved (1, 2, 3) lands on (1, 2 + x, 3).
     expect(body.pairs[2]!.moving).toEqual({ x: expect.closeTo(1, 12), y: expect.closeTo(4, 12), z: 3 })
     expect(body.pairs[2]!.held).toEqual({ x: 2, y: 0, z: 0 })
     expect(RegistrationFitBody.safeParse(body).success).toBe(true)

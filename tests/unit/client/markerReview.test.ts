@@ -1,10 +1,10 @@
 // The drawer's review and comment helpers: the review filter and column of the markers table, the history's
 // words for review versions, and what makes a marker's threads be fetched again. The words are Spanmark's own
-// (review states open, changes asked, signed off); the rules are the product's own (DESIGN section 6).
+// (review states open, changes asked, signed off); the rules are the product's own (server/markers/README.md, "Comments and review").
 import { describe, expect, it } from 'vitest'
 import { REVIEW_STATES } from '@shared/collab/states'
 import type { MarkerRevision } from '@shared/schemas'
-import { commentsVersion } from '@/composables/useComments'
+import { commentsVersion } from '@/composables/useMarkerComments'
 import { actionText, changeSummary, isReviewAction } from '@/components/markers/markerHistory'
 import { filterMarkers, markerRow, REVIEW_OPTIONS } from '@/components/markers/markerText'
 import { check, marker } from './factories'

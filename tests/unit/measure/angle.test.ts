@@ -6,7 +6,7 @@ import { mulberry32, normal, sampleStd, stdTolerance } from './random'
 const mm = 1e-3
 
 describe('three-point angle', () => {
-  it('gives 90 degrees and u = 2.000 mrad = 0.1146 degrees for arms of 1 m at 1 mm per point (DOMAIN 4, derived)', () => {
+  it('gives 90 degrees and u = 2.000 mrad = 0.1146 degrees for arms of 1 m at 1 mm per point (derived from JCGM 100:2008 eq. 10)', () => {
     const r = measureAngle([1, 0, 0], [0, 0, 0], [0, 1, 0], mm, mm, mm)
     expect(r.ok).toBe(true)
     if (!r.ok) return

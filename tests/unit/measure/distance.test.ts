@@ -6,7 +6,7 @@ import { mulberry32, normal, sampleStd, stdTolerance } from './random'
 const mm = 1e-3
 
 describe('distance between two anchors', () => {
-  it('gives d = 5 m and u(d) = sqrt(2) mm for (0,0,0)-(3,4,0) at 1 mm per coordinate per point (DOMAIN 4, derived)', () => {
+  it('gives d = 5 m and u(d) = sqrt(2) mm for (0,0,0)-(3,4,0) at 1 mm per coordinate per point (derived from JCGM 100:2008 eq. 10)', () => {
     const r = measureDistance([0, 0, 0], [3, 4, 0], 1 * mm, 1 * mm)
     expect(r.ok).toBe(true)
     if (!r.ok) return

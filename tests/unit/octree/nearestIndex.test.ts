@@ -1,4 +1,4 @@
-// The nearest-point index against brute force (DOMAIN "Nearest neighbour": the index must agree with brute
+// The nearest-point index against brute force (common practice: the index must agree with brute
 // force; common practice, no source). Brute force runs over the very points the tiles store (origin + float32
 // offset, summed in float64), so distances must agree exactly, not just closely.
 import { beforeAll, describe, expect, it } from 'vitest'

@@ -1,4 +1,4 @@
-// The level-of-detail octree (DOMAIN "Level of detail": root cube around the bounds, cell edge S / 2^L at level L,
+// The level-of-detail octree (level of detail, common practice; octree after Meagher 1982: root cube around the bounds, cell edge S / 2^L at level L,
 // each node a thinned subsample; common practice, no source). The checks are the structure's own invariants,
 // verified point by point against the input: every point in exactly one node, boxes nested by the documented
 // half-open rule, counts that add up, leaves under the limit, subsamples with one point per grid cell.

@@ -25,7 +25,7 @@ function rotatedDiagonal(r: number[][], d: number[]): number[][] {
 const unit = (v: number[]) => v.map((c) => c / Math.hypot(...v)) as [number, number, number]
 
 describe('fitPlane', () => {
-  it('DOMAIN check value: the plane through (0,0,.1), (1,0,-.1), (1,1,.1), (0,1,-.1) has normal (0,0,+-1) and RMS 0.1 (derived)', () => {
+  it('worked example: the plane through (0,0,.1), (1,0,-.1), (1,1,.1), (0,1,-.1) has normal (0,0,+-1) and RMS 0.1 (derived)', () => {
     const fit = fitPlane([0, 0, 0.1, 1, 0, -0.1, 1, 1, 0.1, 0, 1, -0.1])!
     expect(fit.centroid[0]).toBeCloseTo(0.5, 15)
     expect(fit.centroid[1]).toBeCloseTo(0.5, 15)

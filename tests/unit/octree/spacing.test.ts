@@ -1,4 +1,4 @@
-// Mean point spacing (DOMAIN "Spacing and density"). Reference data: a synthetic 2 cm grid with +-1 mm noise
+// Mean point spacing (spacing about range x angular step, derived). Reference data: a synthetic 2 cm grid with +-1 mm noise
 // (derived: the spacing is the grid step by construction) and the crate fixture (tests/fixtures/README via
 // tests/fixtures: 2 cm grid, +-1 mm noise on five faces of a crate), read with the project's LAS reader.
 import { readFileSync } from 'node:fs'

@@ -21,7 +21,7 @@ function viaThree(range: number, azimuth: number, elevation: number): [number, n
   return [v.z, v.x, v.y]
 }
 
-describe('spherical to Cartesian (DOMAIN section 2)', () => {
+describe('spherical to Cartesian (x = r cosV cosH, y = r cosV sinH, z = r sinV, derived)', () => {
   it('agrees with three Vector3.setFromSphericalCoords under the explicit frame mapping', () => {
     const out = [0, 0, 0]
     for (const [r, h, v] of [
@@ -38,7 +38,7 @@ describe('spherical to Cartesian (DOMAIN section 2)', () => {
     }
   })
 
-  it('DOMAIN section 4 check values (derived): (r 10, H 90, V 0) -> (0, 10, 0); (r 2, V 90) -> (0, 0, 2)', () => {
+  it('worked examples (derived): (r 10, H 90, V 0) -> (0, 10, 0); (r 2, V 90) -> (0, 0, 2)', () => {
     const out = [0, 0, 0]
     sphericalToCartesian(10, 90 * DEG, 0, out)
     expect(out[0]).toBeCloseTo(0, 12)
@@ -50,7 +50,7 @@ describe('spherical to Cartesian (DOMAIN section 2)', () => {
     expect(out[2]).toBeCloseTo(2, 12)
   })
 
-  it('DOMAIN section 4: a range zero offset a0 = 2 mm gives (0, 10.002, 0)', () => {
+  it('worked example (derived): a range zero offset a0 = 2 mm gives (0, 10.002, 0)', () => {
     const out = [0, 0, 0]
     panTiltPoint({ ...ZERO_MOUNT, rangeZeroOffset: 0.002 }, 10, 90 * DEG, 0, out)
     expect(out[0]).toBeCloseTo(0, 12)

@@ -24,7 +24,7 @@ const BASE = {
 }
 
 describe('station log reader', () => {
-  it('DOMAIN section 4 check values through the whole reader (a0 = 2 mm, pose at the origin)', async () => {
+  it('the worked spherical-to-Cartesian examples (derived) through the whole reader (a0 = 2 mm, pose at the origin)', async () => {
     const cloud = await readAll(
       log({ ...BASE, 'shots-per-reading': '2', 'range-zero-offset': '0.002' }, ['90 0 10 10', '0 90 1.998 1.998']),
       'station-log',

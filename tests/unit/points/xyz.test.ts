@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest'
 import { readAll, type TextColumnsHeaderInfo } from '../../../server/points/readers/index'
 
 /**
- * ASCII columns have no standard (DOMAIN section 3: the user declares column order, delimiter and
+ * ASCII columns have no standard (server/points/readers/README.md: the user declares column order, delimiter and
  * units). The reference here is a plain split-and-Number() parse by the JavaScript engine of the same
  * lines; the rules the reader adds (delimiter and header detection) are this project's own.
  */

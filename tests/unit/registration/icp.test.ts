@@ -1,8 +1,8 @@
 // Point-to-plane ICP (server/registration/icp.ts). Sources beside each check: Besl and McKay 1992 (IEEE
-// TPAMI 14(2); RMS never increases, DOMAIN 4 "from memory"), Chen and Medioni 1992 (point-to-plane), Low
+// TPAMI 14(2); RMS never increases, from memory), Chen and Medioni 1992 (point-to-plane), Low
 // 2004 (small-angle step), Rusinkiewicz and Levoy 2001 (distance rejection, from memory), Shakarji 1998
 // (PCA normals); reference library: ml-matrix (eigenvectors), and brute-force nearest neighbours (the index
-// must agree with brute force: DOMAIN 2, common practice). The synthetic room corner is invented test data.
+// must agree with brute force: common practice). The synthetic room corner is invented test data.
 import { describe, expect, it } from 'vitest'
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix'
 import { IDENTITY, invertRigid, multiplyRigid, transformPoint } from '@shared/geometry/rigidTransform'

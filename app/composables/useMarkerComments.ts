@@ -1,8 +1,7 @@
 import { computed, toValue, type MaybeRefOrGetter } from 'vue'
 import { keepPreviousData, useInfiniteQuery, useMutation, useQueryClient, type InfiniteData } from '@tanstack/vue-query'
-import type { CommentThread, Marker, MarkerReviewBody } from '@shared/schemas'
+import type { CommentThread, Marker } from '@shared/schemas'
 import * as commentsApi from '@/api/comments'
-import * as markersApi from '@/api/markers'
 import { queryKeys } from './queryKeys'
 
 /** What changes whenever the marker's comments do (the record document carries it): the threads are asked for again. */
@@ -57,20 +56,4 @@ export function useMarkerComments(markerId: MaybeRefOrGetter<string>, version: M
   /** Every loaded thread, oldest first. */
   const threads = computed(() => [...(query.data.value?.pages ?? [])].reverse().flatMap((p) => p.threads))
   return { query, threads, post, resolve }
-}
-
-/**
- * Setting a marker's review. The answer goes into the scene's markers at once; with the live documents the
- * record entry then says the same for everyone.
- */
-export function useMarkerReview(sceneId: MaybeRefOrGetter<string>) {
-  const client = useQueryClient()
-  return useMutation({
-    mutationFn: (input: { markerId: string; body: MarkerReviewBody }) => markersApi.reviewMarker(input.markerId, input.body),
-    onSuccess: (marker) => {
-      client.setQueryData<Marker[]>(queryKeys.markers(toValue(sceneId)), (list) => list?.map((m) => (m.id === marker.id ? { ...m, review: marker.review } : m)))
-      void client.invalidateQueries({ queryKey: queryKeys.markerHistory(marker.id) })
-    },
-    meta: { errorTitle: 'Review not saved', inlineErrors: true },
-  })
 }
