@@ -304,6 +304,24 @@ export class CollabServer {
     room.destroy()
   }
 
+  /**
+   * Another process died: every document loaded here first catches up with all it stored, then is brought
+   * in line with PostgreSQL (liveSync.ts `reconcile`), so a change it stored but had not mirrored, or a check
+   * it stored but had not written into the record, is not lost.
+   */
+  async reconcileLoaded(): Promise<void> {
+    for (const pending of [...this.rooms.values()]) {
+      const room = await pending.catch(() => null)
+      if (!room) continue
+      try {
+        await room.catchUp()
+        await this.sync.reconcile(room)
+      } catch (err) {
+        this.log.error({ err, sceneId: room.sceneId, doc: room.kind }, 'a document could not be reconciled; its next load does it')
+      }
+    }
+  }
+
   /** Is this document in memory now? (tests and the bench) */
   isLoaded(sceneId: string, kind: DocumentKind): boolean {
     return this.rooms.has(`${sceneId}:${kind}`)
