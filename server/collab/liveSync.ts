@@ -149,8 +149,9 @@ export class LiveDocumentsSync implements LiveSync {
       if (rows.has(id)) continue
       const parsed = LiveMarker.safeParse(value)
       const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, SERVER_ACTOR) : 'not a marker'
-      if (problem !== null) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
-      else await this.checkStored(room.sceneId, id)
+      // Refused, unless another process mirrored it meanwhile (then it is in PostgreSQL and stays).
+      if (problem !== null && !(await findMarkerCore(s.db, id))) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
+      else if (problem === null) await this.checkStored(room.sceneId, id)
     }
     const missing = [...rows.values()].filter((r) => !map.has(r.id))
     if (missing.length) room.transact((doc) => missing.forEach((r) => doc.getMap(WORK_MAPS.markers).set(r.id, liveMarkerOf(r))))

@@ -50,9 +50,9 @@ export class CollabServer {
       update: (sceneId, kind, seq) => void this.loadedRoom(sceneId, kind)?.then((r) => void (BigInt(seq) > BigInt(r.appliedPosition) && r.catchUp()), () => undefined),
       revocation: (r) => this.revokeHere(r),
       presence: (sceneId, kind, update) => void this.loadedRoom(sceneId, kind)?.then((r) => r.applyRemotePresence(update), () => undefined),
-      reconnected: () => {
-        for (const room of this.rooms.values()) void room.then((r) => r.catchUp(), () => undefined)
-      },
+      // The database was away: every loaded document catches up, then is brought in line with PostgreSQL
+      // (a live change whose mirror into the markers table failed meanwhile is written now).
+      reconnected: () => void this.reconcileLoaded(),
     })
     // Every revocation is applied here at once and told to the other processes.
     const everywhere = (r: Revocation) => {
