@@ -281,9 +281,6 @@ export function pendingMarkersOfProject(db: Conn, projectId: string, limit: numb
     .execute()
 }
 
-export function pendingMarkers(db: Conn) {
-  return db.selectFrom('markers').select(['id', 'revision']).where('check_state', '=', 'pending').execute()
-}
 
 export type ReviewState = 'open' | 'changes-asked' | 'signed-off'
 
