@@ -1,5 +1,6 @@
 // `npm run bench` (through scripts/bench.mjs, which provides a throwaway PostgreSQL): every figure of
 // DEVELOPERS.md "Targets" that exists so far. `--sizes 1e6` for a quick run; default 1 M and 10 M points.
+import { clusterOptions, formatClusterBench, runClusterBench } from './cluster'
 import { formatE57Bench, runE57Bench } from './e57'
 import { formatEdgeBench, runEdgeBench } from './edges'
 import { formatExportBench, runExportBench } from './export'
@@ -20,7 +21,11 @@ function sizes(argv: string[]): number[] {
 }
 
 const s = sizes(process.argv.slice(2))
-/** `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, export, viewer, markers, pool, live, liveLimits, registration, edges). */
+/**
+ * `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, export, viewer, markers, pool, live, liveLimits, cluster,
+ * registration, edges). The cluster bench takes `--cluster-seconds 60`, `--cluster-clients 200`, `--cluster-scenes 10`,
+ * `--cluster-edit-ms 2000`, `--cluster-rest-seconds 20`, `--cluster-rest-loops 8`.
+ */
 const onlyAt = process.argv.indexOf('--only')
 const only = onlyAt >= 0 ? new Set(process.argv[onlyAt + 1]!.split(',')) : null
 const wanted = (name: string) => !only || only.has(name)
@@ -45,6 +50,13 @@ if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-poin
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
 if (wanted('pool')) section('Heavy checks off the event loop (target: event-loop delay p99 < 50 ms during a clearance of a 1 M-point object)', formatPoolBench(await runPoolBench(log)))
 if (wanted('live')) section('Live documents (targets: an edit seen by 50 clients p99 < 50 ms; state at any of 10 k revisions < 100 ms)', formatLiveBench(await runLiveBench(log)))
+if (wanted('cluster')) {
+  const o = clusterOptions(process.argv.slice(2))
+  section(
+    `Two server processes (targets: ${o.clients} live clients, an edit seen on the other process p99 < 100 ms on loopback, every document converging with the database; REST throughput per process)`,
+    formatClusterBench(await runClusterBench(o, log)),
+  )
+}
 if (wanted('liveLimits')) section('Live connection caps (the server heap and RSS before, at peak and after each misbehaving client)', formatLiveLimitsBench(await runLiveLimitsBench(log)))
 if (wanted('registration')) {
   section(

@@ -46,6 +46,8 @@ const Env = z.object({
   COMPUTE_THREADS: z.coerce.number().int().min(1, { error: 'COMPUTE_THREADS must be at least 1' }).max(256).optional(),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).optional(),
   LOG_FORMAT: z.enum(['pretty', 'json'], { error: 'must be pretty or json' }).optional(),
+  /** Test servers only: every marker check waits this long first (a fault test kills its holder meanwhile). */
+  SPANMARK_TEST_CHECK_DELAY_MS: z.coerce.number().int().min(0).max(600_000).default(0),
 })
 
 export interface RateLimit {
@@ -120,6 +122,14 @@ export interface Config {
    * `gapMs` of the first waiting comment (5 min; short in tests); the job looks every `sweepMs`.
    */
   commentMail: { gapMs: number; sweepMs: number }
+  /**
+   * Work shared by several server processes (server/jobs/leases.ts): each process beats every `beatMs`; one
+   * silent for `leaseMs` is dead and its held work (pending checks, refinements) is taken over by the sweep
+   * every process runs every `sweepMs`.
+   */
+  cluster: { beatMs: number; leaseMs: number; sweepMs: number }
+  /** Tests only (SPANMARK_TEST_CHECK_DELAY_MS): each marker check waits this long first; 0 elsewhere. */
+  testCheckDelayMs: number
 }
 
 export interface CostLimits {
@@ -269,5 +279,7 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
     // Tests leave rooms in memory a moment only, so a test of unloading does not wait half a minute.
     live: test ? { ...PRODUCTION_LIVE_LIMITS, unloadGraceMs: 500 } : PRODUCTION_LIVE_LIMITS,
     commentMail: test ? { gapMs: 1500, sweepMs: 200 } : { gapMs: 5 * 60_000, sweepMs: 15_000 },
+    cluster: test ? { beatMs: 200, leaseMs: 1200, sweepMs: 250 } : { beatMs: 2000, leaseMs: 10_000, sweepMs: 2000 },
+    testCheckDelayMs: test ? e.SPANMARK_TEST_CHECK_DELAY_MS : 0,
   }
 }

@@ -22,6 +22,7 @@ import { openComputePool } from './compute/pool'
 import { MarkerChecker } from './markers/checker'
 import { RegistrationJobs } from './registration/jobs'
 import { failOrphanedRefinements } from './services/registration'
+import { ProcessLease } from './jobs/leases'
 import { sweepRateLimits } from './middleware/rateLimitStore'
 import { CollabServer } from './collab/socketServer'
 import type { LiveSync } from './types'
@@ -61,6 +62,7 @@ function refuseDevConveniences(config: Config): void {
  */
 export class SpanmarkServer {
   private sweeper: NodeJS.Timeout | null = null
+  private clusterSweeper: NodeJS.Timeout | null = null
 
   private constructor(
     readonly services: Services,
@@ -78,6 +80,8 @@ export class SpanmarkServer {
     readonly commentNotices: CommentNoticeSender,
     /** This server's hold on the compute threads (server/compute/pool.ts): heavy marker checks run there. */
     private readonly compute: { close(): Promise<void> },
+    /** This process's id and beat among the others on the database (server/jobs/leases.ts). */
+    readonly lease: ProcessLease,
   ) {}
 
   /** The first ingest worker (tests that kill one). */
@@ -92,6 +96,9 @@ export class SpanmarkServer {
     const started: { close(): Promise<void> | void }[] = [{ close: () => db.destroy() }]
     try {
       await migrateToLatest(db)
+      const lease = new ProcessLease(db, log, config.cluster)
+      await lease.start()
+      started.push({ close: () => lease.stop() })
       let mailPort = config.mail.port
       let smtp: FakeSmtp | null = null
       if (config.mail.fake) {
@@ -124,10 +131,17 @@ export class SpanmarkServer {
         objects,
         boss,
         scanIndexes,
-        markerChecks: new MarkerChecker(db, scanIndexes, log, { checkPoints: config.limits.checkPoints, queuedPerProject: config.limits.checksQueuedPerProject }),
+        markerChecks: new MarkerChecker(
+          db,
+          scanIndexes,
+          log,
+          { checkPoints: config.limits.checkPoints, queuedPerProject: config.limits.checksQueuedPerProject },
+          { owner: lease.id, leaseMs: config.cluster.leaseMs, testDelayMs: config.testCheckDelayMs },
+        ),
         registrationJobs: new RegistrationJobs(log),
         live: NO_LIVE,
         log,
+        processId: lease.id,
         publicOrigin: () => origin,
       }
       // The worker process gets the resolved addresses of the fakes, not the configured ports.
@@ -157,12 +171,10 @@ export class SpanmarkServer {
       services.mailer.start()
       const commentNotices = new CommentNoticeSender(db, services.mailer, { ...config.commentMail, origin: () => services.publicOrigin() }, log)
       commentNotices.start()
-      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, workers, url, workerConfig, collab, commentNotices, compute)
+      const app = new SpanmarkServer(services, config, server, { smtp, s3 }, workers, url, workerConfig, collab, commentNotices, compute, lease)
       app.startSweeper()
-      const orphaned = await failOrphanedRefinements(services)
-      if (orphaned) log.info({ registrations: orphaned }, 'refinements left running by an earlier server marked failed')
-      const resumed = await services.markerChecks.resumePending()
-      if (resumed) log.info({ markers: resumed }, 'checking markers left pending')
+      await app.sweepCluster()
+      app.startClusterSweeper()
       return app
     } catch (err) {
       for (const s of started.reverse()) await Promise.resolve(s.close()).catch(() => {})
@@ -200,8 +212,35 @@ export class SpanmarkServer {
     this.sweeper.unref()
   }
 
+  /**
+   * What no single process owns, done by whichever process comes first (each step is one conditional
+   * update, so two processes sweeping at once do each piece once): a process that stopped beating is removed
+   * and the documents loaded here are reconciled with PostgreSQL, refinements whose process died are failed,
+   * and pending marker checks whose holder died (or that nobody took) are taken over and checked here.
+   */
+  async sweepCluster(): Promise<void> {
+    const { log } = this.services
+    const reaped = await this.lease.reap()
+    if (reaped.length) {
+      // What a dead process stored in a document but had not mirrored into PostgreSQL (or the reverse, or a
+      // stored check it had not written into the record) is brought in line in the documents loaded here.
+      log.warn({ processes: reaped }, 'server processes stopped beating; their documents are brought in line with the database')
+      await this.collab.reconcileLoaded()
+    }
+    const orphaned = await failOrphanedRefinements(this.services)
+    if (orphaned) log.info({ registrations: orphaned }, 'refinements left running by a server that stopped marked failed')
+    const taken = await this.services.markerChecks.sweep(this.config.cluster.leaseMs)
+    if (taken) log.info({ markers: taken }, 'checking markers left pending by a server that stopped (or by nobody)')
+  }
+
+  private startClusterSweeper(): void {
+    this.clusterSweeper = setInterval(() => void this.sweepCluster().catch((err: unknown) => this.services.log.warn({ err }, 'the sweep for orphaned work failed; tried again')), this.config.cluster.sweepMs)
+    this.clusterSweeper.unref()
+  }
+
   async stop(): Promise<void> {
     if (this.sweeper) clearInterval(this.sweeper)
+    if (this.clusterSweeper) clearInterval(this.clusterSweeper)
     await this.collab.close()
     await new Promise<void>((resolve) => {
       this.http.close(() => resolve())
@@ -213,6 +252,8 @@ export class SpanmarkServer {
     await this.services.registrationJobs.stop()
     this.services.markerChecks.stop()
     await this.services.markerChecks.idle()
+    // Its row goes: whatever it still held (checks waiting for a scan) is free for the others at once.
+    await this.lease.stop()
     // After the checks: none is left waiting on a thread that is gone.
     await this.compute.close()
     await this.commentNotices.stop()

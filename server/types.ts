@@ -56,6 +56,11 @@ export interface Services {
   /** The live documents, told of every change made through the API (server/collab/liveSync.ts). */
   live: LiveSync
   log: pino.Logger
+  /**
+   * This server process's id, random per start (server/jobs/leases.ts): recorded on the work it holds
+   * (markers.check_owner, registrations.refine_owner) so that other processes know when to take it over.
+   */
+  processId: string
   /** Origin for links in e-mails: PUBLIC_URL, else the address the server listens on. */
   publicOrigin(): string
 }

@@ -1,3 +1,4 @@
+import { isDeepStrictEqual } from 'node:util'
 import type { z } from 'zod'
 import { can } from '@shared/auth/roles'
 import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
@@ -134,11 +135,13 @@ export class LiveDocumentsSync implements LiveSync {
 
   /**
    * A server stopped between storing a live update and mirroring it (or between a REST write and its live
-   * copy) leaves the two apart: on load, markers only in the document go through the service, and markers
-   * only in PostgreSQL go into the document.
+   * copy, or between storing a check and writing it into the record) leaves the two apart: on load (and in
+   * every loaded document when another process dies), markers only in the work document go through the
+   * service, markers only in PostgreSQL go into the document, and record entries that differ from
+   * PostgreSQL are written as it holds them (only those: a record already right is not written again).
    */
-  private async reconcile(room: Room): Promise<void> {
-    if (room.kind !== 'work') return
+  async reconcile(room: Room): Promise<void> {
+    if (room.kind === 'record') return this.reconcileRecord(room)
     const s = this.services
     const rows = new Map((await listMarkers(s.db, room.sceneId)).map((r) => [r.id, r]))
     const map = room.doc.getMap<unknown>(WORK_MAPS.markers)
@@ -146,11 +149,26 @@ export class LiveDocumentsSync implements LiveSync {
       if (rows.has(id)) continue
       const parsed = LiveMarker.safeParse(value)
       const problem = parsed.success ? await markers.applyLiveMarker(s, room.sceneId, id, parsed.data, SERVER_ACTOR) : 'not a marker'
-      if (problem !== null) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
-      else await this.checkStored(room.sceneId, id)
+      // Refused, unless another process mirrored it meanwhile (then it is in PostgreSQL and stays).
+      if (problem !== null && !(await findMarkerCore(s.db, id))) room.transact((doc) => doc.getMap(WORK_MAPS.markers).delete(id))
+      else if (problem === null) await this.checkStored(room.sceneId, id)
     }
     const missing = [...rows.values()].filter((r) => !map.has(r.id))
     if (missing.length) room.transact((doc) => missing.forEach((r) => doc.getMap(WORK_MAPS.markers).set(r.id, liveMarkerOf(r))))
+  }
+
+  private async reconcileRecord(room: Room): Promise<void> {
+    const rows = await listMarkers(this.services.db, room.sceneId)
+    const map = room.doc.getMap<unknown>(RECORD_MAPS.markers)
+    const differing = rows.map((r) => [r.id, JSON.parse(JSON.stringify(recordOf(r))) as LiveRecord] as const).filter(([id, entry]) => !isDeepStrictEqual(map.get(id), entry))
+    const ids = new Set(rows.map((r) => r.id))
+    const gone = [...map.keys()].filter((id) => !ids.has(id))
+    if (!differing.length && !gone.length) return
+    room.transact((doc) => {
+      const m = doc.getMap(RECORD_MAPS.markers)
+      for (const [id, entry] of differing) m.set(id, entry)
+      for (const id of gone) m.delete(id)
+    })
   }
 
   async markerChanged(sceneId: string, markerId: string): Promise<void> {

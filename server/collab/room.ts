@@ -7,7 +7,7 @@ import * as encoding from 'lib0/encoding'
 import type { WebSocket } from 'ws'
 import { AWARENESS_LIMITS, CLOSE_CODES, RECORD_MAPS, WORK_MAPS, closeReason, type CloseCodeName, type DocumentKind } from '@shared/collab/documents'
 import type { Role } from '@shared/auth/roles'
-import type { Db } from '../db'
+import { isConnectionLoss, type Db } from '../db'
 import { insertUpdate, loadDocumentLog, updatesAfter, writeSnapshot } from '../repositories/sceneUpdates'
 import { ConnectionBudget, LIMIT_REASONS, PRODUCTION_LIVE_LIMITS, watchBacklog, type LiveLimits } from './limits'
 
@@ -60,6 +60,16 @@ export class LiveRefusal extends Error {
     readonly reason: string,
   ) {
     super(reason)
+  }
+}
+
+/**
+ * An update that cannot apply completely now: it depends on changes the room does not have. Not a refusal:
+ * the sender is asked for what is missing (see `receiveUpdate`); nothing of it is applied meanwhile.
+ */
+class LiveBehind extends Error {
+  constructor() {
+    super('the update depends on changes the server does not have')
   }
 }
 
@@ -164,22 +174,39 @@ export class Room {
     const from = origin instanceof Object && 'socket' in origin ? (origin as Connection) : null
     this.queue = this.queue.then(async () => {
       let seq: string
-      try {
-        ;({ seq } = await insertUpdate(this.db, this.sceneId, this.kind, update, from?.userId ?? null))
-        this.sinceSnapshot++
-      } catch (err) {
-        // Not stored: not sent. The sender keeps it and sends it again on its next sync.
-        this.log.error({ err, sceneId: this.sceneId, doc: this.kind }, 'a live update could not be stored')
-        return
+      for (let attempt = 0; ; attempt++) {
+        try {
+          ;({ seq } = await insertUpdate(this.db, this.sceneId, this.kind, update, from?.userId ?? null))
+          this.sinceSnapshot++
+          break
+        } catch (err) {
+          // The database is away (restarting, a network fault): the update is held, in order, and stored once
+          // it is back (it is applied here already, so no client would send it again); nothing behind it is
+          // sent before it. Any other failure: not stored, not sent, logged.
+          if (isConnectionLoss(err) && !this.destroyed) {
+            const delay = Math.min(2000, 100 * 2 ** attempt)
+            if (attempt === 0) this.log.warn({ err, sceneId: this.sceneId, doc: this.kind }, 'the database is away; live updates are held until it is back')
+            await new Promise((r) => setTimeout(r, delay))
+            continue
+          }
+          this.log.error({ err, sceneId: this.sceneId, doc: this.kind }, 'a live update could not be stored')
+          return
+        }
       }
       this.broadcast(syncUpdateMessage(update), from?.socket ?? null)
-      if (BigInt(seq) === BigInt(this.applied) + 1n) this.applied = seq
-      else {
-        // Another process stored updates in between: read them now (its announcement may come later).
-        this.own.add(seq)
-        await this.readAfterApplied()
+      try {
+        if (BigInt(seq) === BigInt(this.applied) + 1n) this.applied = seq
+        else {
+          // Another process stored updates in between: read them now (its announcement may come later).
+          this.own.add(seq)
+          await this.readAfterApplied()
+        }
+        if (this.sinceSnapshot >= COMPACT_EVERY) await this.compact()
+      } catch (err) {
+        // Stored and sent; only the reading of others' updates (or the compaction) failed: the next catch-up
+        // reads them by position. The queue goes on (a failed step must not stop the stores behind it).
+        this.log.warn({ err, sceneId: this.sceneId, doc: this.kind }, 'a live document could not read what others stored; the next catch-up does')
       }
-      if (this.sinceSnapshot >= COMPACT_EVERY) await this.compact()
     })
   }
 
@@ -286,6 +313,16 @@ export class Room {
     })
     this.writes = turn.catch(() => undefined)
     return turn.catch((err: unknown) => {
+      if (err instanceof LiveBehind) {
+        // The update builds on changes this room does not have yet (a client back from a lost connection
+        // sends its new edits before its sync reply): nothing of it is applied, and the client is asked for
+        // everything the room lacks (a sync step 1), which its reply carries, this update included.
+        const encoder = encoding.createEncoder()
+        encoding.writeVarUint(encoder, MESSAGE_SYNC)
+        syncProtocol.writeSyncStep1(encoder, this.doc)
+        this.send(conn.socket, encoding.toUint8Array(encoder))
+        return
+      }
       // A fault of the server's own: closed too (kept open, the client's next updates would wait on this one).
       if (!(err instanceof LiveRefusal)) {
         this.log.error({ err, sceneId: this.sceneId, doc: this.kind }, 'a live change could not be checked')
@@ -340,7 +377,7 @@ export class Room {
       scratch.off('afterTransaction', listen)
     }
     if (scratch.store.pendingStructs !== null || scratch.store.pendingDs !== null) {
-      throw new LiveRefusal('refused', 'the update depends on changes the server does not have')
+      throw new LiveBehind()
     }
     const grew = !equalBytes(before, Y.encodeStateVector(scratch))
     const names = new Map<Y.AbstractType<unknown>, string>()
@@ -429,7 +466,10 @@ export class Room {
   }
 
   /** Frees the document's memory (the socket server's unload, once nobody has it open). */
+  private destroyed = false
+
   destroy(): void {
+    this.destroyed = true
     this.awareness.destroy()
     this.shadow?.destroy()
     this.shadow = null

@@ -50,9 +50,9 @@ export class CollabServer {
       update: (sceneId, kind, seq) => void this.loadedRoom(sceneId, kind)?.then((r) => void (BigInt(seq) > BigInt(r.appliedPosition) && r.catchUp()), () => undefined),
       revocation: (r) => this.revokeHere(r),
       presence: (sceneId, kind, update) => void this.loadedRoom(sceneId, kind)?.then((r) => r.applyRemotePresence(update), () => undefined),
-      reconnected: () => {
-        for (const room of this.rooms.values()) void room.then((r) => r.catchUp(), () => undefined)
-      },
+      // The database was away: every loaded document catches up, then is brought in line with PostgreSQL
+      // (a live change whose mirror into the markers table failed meanwhile is written now).
+      reconnected: () => void this.reconcileLoaded(),
     })
     // Every revocation is applied here at once and told to the other processes.
     const everywhere = (r: Revocation) => {
@@ -302,6 +302,24 @@ export class CollabServer {
     if (room.connections.size > 0 || room.pins > 0 || this.rooms.get(key) !== current || this.unloadTimers.has(key)) return
     this.rooms.delete(key)
     room.destroy()
+  }
+
+  /**
+   * Another process died: every document loaded here first catches up with all it stored, then is brought
+   * in line with PostgreSQL (liveSync.ts `reconcile`), so a change it stored but had not mirrored, or a check
+   * it stored but had not written into the record, is not lost.
+   */
+  async reconcileLoaded(): Promise<void> {
+    for (const pending of [...this.rooms.values()]) {
+      const room = await pending.catch(() => null)
+      if (!room) continue
+      try {
+        await room.catchUp()
+        await this.sync.reconcile(room)
+      } catch (err) {
+        this.log.error({ err, sceneId: room.sceneId, doc: room.kind }, 'a document could not be reconciled; its next load does it')
+      }
+    }
   }
 
   /** Is this document in memory now? (tests and the bench) */

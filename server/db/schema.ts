@@ -274,6 +274,8 @@ export interface MarkersTable {
   params: Json<Record<string, unknown>>
   revision: Generated<number>
   check_state: Generated<'pending' | 'checked' | 'off-scan' | 'too-few-points' | 'invalid-geometry'>
+  /** The server process holding the pending check (server_processes.id); only it stores the result. */
+  check_owner: string | null
   check: Json<Record<string, unknown> | null>
   created_by: string | null
   updated_by: string | null
@@ -369,6 +371,8 @@ export interface SceneCheckpointsTable {
 
 export interface RegistrationsTable {
   id: Generated<string>
+  /** The server process running the refinement (server_processes.id); null when none runs. */
+  refine_owner: string | null
   scene_id: string
   kind: Generated<'fit' | 'undo'>
   state: Generated<'draft' | 'accepted' | 'undone'>
@@ -399,7 +403,15 @@ export interface RegistrationsTable {
   undone_at: Date | null
 }
 
+/** One row per running server process: its id and its last beat (server/jobs/leases.ts). */
+export interface ServerProcessesTable {
+  id: string
+  started_at: Generated<Date>
+  beat_at: Generated<Date>
+}
+
 export interface Database {
+  server_processes: ServerProcessesTable
   registrations: RegistrationsTable
   markers: MarkersTable
   comments: CommentsTable

@@ -2,10 +2,11 @@ import type pino from 'pino'
 import type { Check } from '@shared/schemas'
 import type { Db } from '../db'
 import { findMarkerSettings } from '../repositories/projects'
-import { findMarker, pendingMarkers, pendingMarkersOfProject, projectsOfMarkers, storeCheck, type StoredAnchor } from '../repositories/markers'
+import { checkHold, findMarker, holdCheck, pendingMarkersOfProject, projectsOfMarkers, storeCheck, takeOrphanedChecks, type StoredAnchor } from '../repositories/markers'
 import { listInstances, projectOfScene } from '../repositories/scenes'
 import { findScan } from '../repositories/scans'
 import { registrationStates } from '../registration/current'
+import { parseStoredCheck } from '../services/mappers'
 import type { ScanIndexes } from '../types'
 import { checkMarker, type CheckContext, type CheckInput, type CheckPlacement, type CheckScan } from './check'
 
@@ -24,6 +25,13 @@ const FAULT_RETRY_MAX_MS = 60_000
  * not hold up another's one). A project holds at most `limits.queuedPerProject` checks in the queue; the
  * rest are not lost: their markers stay pending in PostgreSQL (every scheduled marker is), and once the
  * project's queue has emptied they are read back from there, oldest change first.
+ *
+ * Several server processes share the work (server/jobs/leases.ts): a check runs only in the process holding
+ * the marker's pending check (`markers.check_owner`, taken by `holdCheck` before the check), and is stored
+ * only while that process still holds it; a marker another live process holds is left to it (that process
+ * checks again if the revision moved on meanwhile). Every process sweeps (`sweep`) for pending markers with
+ * no live holder (their process died, or nobody took them) and takes them over, so a check is done once,
+ * and never not at all.
  */
 export class MarkerChecker {
   /** Newest revision asked for per marker. */
@@ -44,6 +52,8 @@ export class MarkerChecker {
     private readonly points: ScanIndexes,
     private readonly log: pino.Logger,
     private readonly limits: { checkPoints: number; queuedPerProject: number } = { checkPoints: Infinity, queuedPerProject: Infinity },
+    /** This process's id and the lease timing (server/jobs/leases.ts); `testDelayMs`: tests hold a check this long. */
+    private readonly lease: { owner: string; leaseMs: number; testDelayMs?: number },
   ) {}
 
   /** Checks waiting in the queue for a project (diagnostics and tests). */
@@ -68,6 +78,16 @@ export class MarkerChecker {
   }
 
   private async checkOnce(markerId: string): Promise<Check | null> {
+    const { owner, leaseMs } = this.lease
+    const held = await holdCheck(this.db, markerId, owner, leaseMs)
+    if (!held) {
+      // Not pending, gone, or held by another live process (it stores the check, and checks again if the
+      // revision moved on): nothing to do here.
+      const row = await findMarker(this.db, markerId)
+      if (!row) return null
+      if (this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
+      return row.check_state === 'pending' ? null : parseStoredCheck(row.check, row.check_state, row.revision)
+    }
     const row = await findMarker(this.db, markerId)
     if (!row) return null
     this.want(markerId, row.revision)
@@ -75,17 +95,39 @@ export class MarkerChecker {
     const ctx = await this.context(row.scene_id)
     ctx.cancelled = () => (this.wanted.get(markerId) ?? 0) > row.revision
     const started = performance.now()
+    if (this.lease.testDelayMs) await new Promise((r) => setTimeout(r, this.lease.testDelayMs))
     const check = await checkMarker(input, ctx)
     this.log.debug({ markerId, revision: row.revision, state: check.state, ms: Math.round(performance.now() - started) }, 'marker checked')
     if (check.state === 'pending') {
-      // A scan it needs is still being processed: try again shortly (nothing is stored meanwhile).
+      // A scan it needs is still being processed: try again shortly (nothing is stored meanwhile; the hold stays).
       this.retrySoon(markerId, row.revision)
       return check
     }
-    const stored = await storeCheck(this.db, markerId, row.revision, check.state, check)
+    const stored = await storeCheck(this.db, markerId, row.revision, check.state, check, owner)
     if (stored && this.wanted.get(markerId) === row.revision) this.wanted.delete(markerId)
     if (stored) await this.onStored?.(row.scene_id, markerId)
+    else await this.afterUnstored(markerId, row.revision)
     return check
+  }
+
+  /**
+   * A check not stored: its revision moved on (through another process too, which left the check to this
+   * one as the holder), or the hold was taken over (this process stalled past its lease). Still held here
+   * and pending with a newer revision: it is checked again.
+   */
+  private async afterUnstored(markerId: string, revision: number): Promise<void> {
+    const now = await checkHold(this.db, markerId)
+    if (now && now.check_state === 'pending' && now.check_owner === this.lease.owner && now.revision > revision) this.schedule([{ id: markerId, revision: now.revision }])
+  }
+
+  /**
+   * Takes over pending checks no live process holds (their holder died; or nobody took them within
+   * `graceMs`) and queues them here. Every process runs it every few seconds (runtime.ts); returns how many.
+   */
+  async sweep(graceMs: number): Promise<number> {
+    const taken = await takeOrphanedChecks(this.db, this.lease.owner, this.lease.leaseMs, graceMs, Math.min(500, Math.max(1, this.limits.queuedPerProject) * 4))
+    this.schedule(taken)
+    return taken.length
   }
 
   /** Not a property of the marker: it stays pending, and the check is asked again after a growing pause. */
@@ -109,13 +151,6 @@ export class MarkerChecker {
       if (!this.queued.has(m.id)) this.incoming.add(m.id)
     }
     if (!this.running && this.incoming.size) this.running = this.drain()
-  }
-
-  /** Every marker left pending (a restart mid-check) is checked again. */
-  async resumePending(): Promise<number> {
-    const pending = await pendingMarkers(this.db)
-    this.schedule(pending)
-    return pending.length
   }
 
   /** Resolves when the background queue is empty (tests, shutdown). */

@@ -1,5 +1,6 @@
 import { sql } from 'kysely'
 import type { Conn } from '../db'
+import { holderAlive } from '../jobs/leases'
 import type { CheckState, ReviewState } from '@shared/collab/states'
 import { DEPENDENT_PARAMS, PLACEMENT_PARAMS, type MarkerKind } from '@shared/schemas'
 
@@ -147,19 +148,79 @@ export function deleteMarker(db: Conn, markerId: string) {
 }
 
 /** Stores a check only when it was computed for the marker's current revision (latest wins). */
-export async function storeCheck(db: Conn, markerId: string, revision: number, state: CheckState, check: unknown): Promise<boolean> {
-  const result = await db
+/**
+ * Stores a check: only for the revision it was computed for, only while the marker is still pending, and,
+ * with `owner`, only while that process holds the marker's check (server/jobs/leases.ts); the hold ends with
+ * it. A check is so stored once: a second store of the same revision, or a late one of a process whose hold
+ * was taken over, changes nothing.
+ */
+export async function storeCheck(db: Conn, markerId: string, revision: number, state: CheckState, check: unknown, owner: string | null = null): Promise<boolean> {
+  let q = db
     .updateTable('markers')
-    .set({ check_state: state, check: JSON.stringify(check) })
+    .set({ check_state: state, check: JSON.stringify(check), check_owner: null })
     .where('id', '=', markerId)
     .where('revision', '=', revision)
-    .executeTakeFirst()
+    .where('check_state', '=', 'pending')
+  if (owner) q = q.where('check_owner', '=', owner)
+  const result = await q.executeTakeFirst()
   return result.numUpdatedRows > 0n
 }
 
 /**
+ * Takes the hold on a marker's pending check for process `owner`: free, already its own, or held by a
+ * process that is no longer alive. Returns the marker's revision, or nothing (not pending, gone, or held by
+ * a live process, which stores it itself).
+ */
+export async function holdCheck(db: Conn, markerId: string, owner: string, leaseMs: number) {
+  return db
+    .updateTable('markers')
+    .set({ check_owner: owner })
+    .where('id', '=', markerId)
+    .where('check_state', '=', 'pending')
+    .where((eb) => eb.or([eb('check_owner', 'is', null), eb('check_owner', '=', owner), eb.not(holderAlive(eb.ref('check_owner'), leaseMs))]))
+    .returning(['id', 'revision', 'check_owner'])
+    .executeTakeFirst()
+}
+
+/**
+ * Pending checks nobody alive holds, taken for `owner` (at most `limit`, rows another sweeper is taking are
+ * skipped): held by a dead process, or by none for longer than `graceMs` (the process that made them pending
+ * takes them itself meanwhile).
+ */
+export async function takeOrphanedChecks(db: Conn, owner: string, leaseMs: number, graceMs: number, limit: number) {
+  return db
+    .updateTable('markers')
+    .set({ check_owner: owner })
+    .where('id', 'in', (eb) =>
+      eb
+        .selectFrom('markers as m')
+        .select('m.id')
+        .where('m.check_state', '=', 'pending')
+        .where((w) =>
+          w.or([
+            w.and([w('m.check_owner', 'is', null), w('m.updated_at', '<', sql<Date>`now() - make_interval(secs => ${graceMs / 1000})`)]),
+            w.and([w('m.check_owner', 'is not', null), w('m.check_owner', '<>', owner), w.not(holderAlive(w.ref('m.check_owner'), leaseMs))]),
+          ]),
+        )
+        .orderBy('m.updated_at')
+        .limit(limit)
+        .forUpdate()
+        .skipLocked(),
+    )
+    .where('check_state', '=', 'pending')
+    .returning(['id', 'revision'])
+    .execute()
+}
+
+/** The marker as it is after a check that was not stored (did its revision move on? who holds it?). */
+export function checkHold(db: Conn, markerId: string) {
+  return db.selectFrom('markers').select(['revision', 'check_state', 'check_owner']).where('id', '=', markerId).executeTakeFirst()
+}
+
+/**
  * Markers that depend on a placement: anchored on it, naming it in a param (a section cutting it, a clearance
- * of it as the object: the kinds' `placementParams`), and those measured through such a marker. They go back to pending with a new revision.
+ * of it as the object: the kinds' `placementParams`), and those measured through such a marker. They go back
+ * to pending with a new revision.
  */
 export async function invalidateMarkersOfInstance(db: Conn, sceneId: string, instanceId: string): Promise<{ id: string; revision: number }[]> {
   const direct = await db
@@ -223,9 +284,6 @@ export function pendingMarkersOfProject(db: Conn, projectId: string, limit: numb
     .execute()
 }
 
-export function pendingMarkers(db: Conn) {
-  return db.selectFrom('markers').select(['id', 'revision']).where('check_state', '=', 'pending').execute()
-}
 
 /**
  * Sets a marker's review. A sign-off is stored only while the marker's check is not pending (a conditional

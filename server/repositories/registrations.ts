@@ -1,5 +1,6 @@
 import { sql, type Updateable } from 'kysely'
 import type { Conn } from '../db'
+import { holderAlive } from '../jobs/leases'
 import type { RegistrationsTable } from '../db/schema'
 
 const rows = (db: Conn) =>
@@ -132,8 +133,24 @@ export function latestAcceptedFits(db: Conn, sceneId: string) {
 }
 
 /** Registrations whose ICP run was left 'running' (the server stopped): they are marked failed on start. */
-export function runningRefinements(db: Conn) {
-  return db.selectFrom('registrations').select(['id', 'icp']).where('state', '=', 'draft').where(sql<string>`icp->>'status'`, '=', 'running').execute()
+/**
+ * Fails the refinements whose running process is gone (no live beat in server_processes, or none recorded),
+ * in one conditional update: a refinement another live process runs is left alone, and two sweepers fail
+ * each one once. Returns the ones failed.
+ */
+export function failOrphanedRefinements(db: Conn, leaseMs: number, reason: string) {
+  return db
+    .updateTable('registrations')
+    .set({
+      icp: sql<string>`icp || jsonb_build_object('status', 'failed', 'stage', null, 'reason', ${reason}::text, 'finishedAt', to_char(now() at time zone 'utc', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"'))`,
+      refine_owner: null,
+      updated_at: new Date(),
+    })
+    .where('state', '=', 'draft')
+    .where(sql<string>`icp->>'status'`, '=', 'running')
+    .where((eb) => eb.not(holderAlive(eb.ref('refine_owner'), leaseMs)))
+    .returning(['id', 'scene_id'])
+    .execute()
 }
 
 export function projectOfRegistration(db: Conn, id: string) {

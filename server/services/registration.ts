@@ -376,7 +376,7 @@ export async function startRefine(s: Services, sceneId: string, body: RefineInpu
     finishedAt: null,
     seconds: null,
   }
-  await repo.updateRegistration(s.db, id, { icp: icp as unknown as Record<string, unknown> }, 'draft')
+  await repo.updateRegistration(s.db, id, { icp: icp as unknown as Record<string, unknown>, refine_owner: s.processId }, 'draft')
   s.registrationJobs.start(sceneId, id, (signal) => runRefine(s, id, icp, signal))
   return getRegistration(s, id)
 }
@@ -451,13 +451,13 @@ async function runRefine(s: Services, id: string, initial: StoredIcp, signal: Ab
   }
 }
 
-/** Refinements left running by a server that stopped are failed on start (the job died with it). */
+/**
+ * Refinements left running by a server process that stopped or died are failed (the job died with it);
+ * one another live process runs is not touched (registrations.refine_owner, server/jobs/leases.ts). Every
+ * process runs it in its sweep.
+ */
 export async function failOrphanedRefinements(s: Services): Promise<number> {
-  const rows = await repo.runningRefinements(s.db)
-  for (const r of rows) {
-    const icp = { ...(r.icp as Record<string, unknown>), status: 'failed', stage: null, reason: 'the server stopped during the refinement; refine again', finishedAt: new Date().toISOString() }
-    await repo.updateRegistration(s.db, r.id, { icp }, 'draft')
-  }
+  const rows = await repo.failOrphanedRefinements(s.db, s.config.cluster.leaseMs, 'the server stopped during the refinement; refine again')
   return rows.length
 }
 

@@ -14,8 +14,11 @@ export interface LiveClient {
 /** Resolves once the provider has its first full sync with the server. */
 export const synced = (p: WebsocketProvider) => new Promise<void>((resolve) => (p.synced ? resolve() : p.once('sync', (s: boolean) => s && resolve())))
 
-/** Connects to `/collab/<path>` of the server at `url` (path: a scene id, or `<scene id>/record`). */
-export function liveClient(url: string, cookie: string | null, path: string, origin: string = url): LiveClient {
+/**
+ * Connects to `/collab/<path>` of the server at `url` (path: a scene id, or `<scene id>/record`). `doc`: the
+ * client's document when it already has one (a client moving to another server keeps what it holds).
+ */
+export function liveClient(url: string, cookie: string | null, path: string, origin: string = url, doc: Y.Doc = new Y.Doc()): LiveClient {
   const headers: Record<string, string> = { origin }
   if (cookie) headers.cookie = cookie
   class CookieSocket extends WebSocket {
@@ -23,7 +26,6 @@ export function liveClient(url: string, cookie: string | null, path: string, ori
       super(u, protocols, { headers })
     }
   }
-  const doc = new Y.Doc()
   const provider = new WebsocketProvider(`${url.replace(/^http/, 'ws')}/collab`, path, doc, { WebSocketPolyfill: CookieSocket as unknown as typeof globalThis.WebSocket, disableBc: true })
   return { doc, provider, markers: doc.getMap<unknown>(WORK_MAPS.markers) }
 }
