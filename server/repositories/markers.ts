@@ -250,7 +250,12 @@ export async function invalidateDependents(db: Conn, sceneId: string, markerIds:
     .updateTable('markers')
     .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
     .where('scene_id', '=', sceneId)
-    .where((eb) => eb.or(DEPENDENT_PARAMS.map(({ kind, param }) => eb.and([eb('kind', '=', kind), eb(sql<string>`params->>${param}`, 'in', markerIds)]))))
+    .where((eb) =>
+      eb.or(
+        // A param naming the marker: one id, or a list holding it (a jsonb array contains a scalar it holds).
+        DEPENDENT_PARAMS.flatMap(({ kind, param }) => markerIds.map((id) => eb.and([eb('kind', '=', kind), sql<boolean>`coalesce(params->${param}, 'null'::jsonb) @> to_jsonb(${id}::text)`]))),
+      ),
+    )
     .returning(['id', 'revision'])
     .execute()
 }

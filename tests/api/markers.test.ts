@@ -28,6 +28,8 @@ const at = {
   drum: [15, -1.5, 0],
   square: [15, -3, 0],
   sparse: [20, 0, 0],
+  /** A second wall 0.8 m behind `wide`, its opening 0.3 m to the side: a passage through both is 1.1 m wide. */
+  behind: [0.3, 0.8, 0],
 } satisfies Record<string, [number, number, number]>
 type Name = keyof typeof at
 const ENTERED_U = 0.001
@@ -75,6 +77,7 @@ beforeAll(async () => {
     drum: drumSolid(0.65, 0.4),
     square: boxSolid(1.3, 0.4, 1.3, 0.01, 0.001, 9),
     sparse: sparseLine(),
+    behind: wallWithOpening({ width: 1.4, height: 2.1, seed: 5 }),
   }
   for (const [name, solid] of Object.entries(solids) as [Name, SurfaceSampler][]) {
     scanIds[name] = (await upload(owner.agent, projectId, solid.ply(), `${name}.ply`).expect(202)).body.scan.id
@@ -242,6 +245,24 @@ describe('clearances', () => {
     expect(Math.abs(c.margin - 0.3)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
     expect(c.silhouette.length).toBeGreaterThanOrEqual(8)
     expect(c.assumptions.join(' ')).toMatch(/straight along the direction/)
+  })
+
+  it('passes the box through a passage of two walls: the overlap of their openings seen along the travel, 0.15 m either side (derived)', async () => {
+    const behind = await openingSection('behind', 0.7)
+    // Openings x in [-0.7, 0.7] and [-0.4, 1.0]: the overlap is 1.1 m; the box turned on end is 0.8 m wide.
+    const m = await post({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, alsoThrough: [behind.id] } })
+    expect(m.check.state, m.check.reason ?? '').toBe('checked')
+    const c = resultOf(m.check, 'clearance')!
+    expect(Math.abs(c.margin - 0.15)).toBeLessThanOrEqual(m.check.expandedUncertainty! + 0.005)
+    expect(c.passage).toHaveLength(2)
+    expect(c.assumptions.join(' ')).toMatch(/overlap of the free openings of 2 sections/)
+    // The passage's sections once each, and only sections.
+    const twice = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'clearance', params: { objectInstanceId: placed.box, sectionMarkerId: wide.id, alsoThrough: [wide.id] } }).expect(400)
+    expect(JSON.stringify(twice.body)).toMatch(/alsoThrough.*names a section twice/)
+    // Changing the further section checks the clearance again (it is measured through it too).
+    await owner.agent.patch(`/api/markers/${behind.id}`).send({ params: { plane: 'two-points', thickness: 0.12, opening: true } }).expect(200)
+    const again = await waitChecked(m.id, m.check.basedOn)
+    expect(resultOf(again.check, 'clearance')!.passage).toHaveLength(2)
   })
 
   it('does not pass the box through a 0.7 m doorway, turned or not', async () => {

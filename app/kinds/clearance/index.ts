@@ -57,11 +57,11 @@ export const clearanceUi: MarkerKindUi<'clearance'> = {
   caption: () => 'smallest margin',
   facts(marker, { markers, instances, unit }) {
     const c = resultOf(marker.check, 'clearance')
-    const params = marker.params as { objectInstanceId?: string; sectionMarkerId?: string }
-    const section = markers.find((m) => m.id === params.sectionMarkerId)
+    const params = marker.params as { objectInstanceId?: string; sectionMarkerId?: string; alsoThrough?: string[] }
+    const labelOf = (id: string | undefined) => markers.find((m) => m.id === id)?.label ?? 'a removed section'
     const out: Fact[] = [
       { term: 'object', text: placementName(instances, params.objectInstanceId) },
-      { term: 'through', text: section ? section.label : 'a removed section' },
+      { term: 'through', text: [params.sectionMarkerId, ...(params.alsoThrough ?? [])].map(labelOf).join(', then ') },
     ]
     if (!c) return out
     out.push(

@@ -3,6 +3,8 @@ import type { ClearanceParams, MarkerCreateBody } from '@shared/schemas'
 export interface ClearanceOptions {
   objectInstanceId: string
   sectionMarkerId: string
+  /** Further sections along the travel: the passage is the overlap of their openings. */
+  alsoThrough?: string[]
   /** Metres; omitted: the project's required margin. */
   requiredMargin?: number
   /** How it moves; omitted: on the floor when the opening has one, else carried. */
@@ -16,6 +18,7 @@ export function clearanceBody(options: ClearanceOptions): MarkerCreateBody {
     objectInstanceId: options.objectInstanceId,
     sectionMarkerId: options.sectionMarkerId,
   }
+  if (options.alsoThrough?.length) params.alsoThrough = options.alsoThrough
   if (options.requiredMargin !== undefined) params.requiredMargin = options.requiredMargin
   if (options.carriage) params.carriage = options.carriage
   if (options.orientation) params.orientation = options.orientation

@@ -25,7 +25,7 @@ export const CLEARANCE_ASSUMPTIONS = [
 ]
 
 /** What this clearance assumed, in words: the fixed list with its turning and carriage made specific. */
-function clearanceAssumptions(params: ClearanceParams, carriage: 'floor' | 'trolley' | 'carried', lift: number | null): string[] {
+function clearanceAssumptions(params: ClearanceParams, carriage: 'floor' | 'trolley' | 'carried', lift: number | null, sections = 1): string[] {
   const o = params.orientation
   const turning = !o
     ? CLEARANCE_ASSUMPTIONS[1]!
@@ -42,7 +42,11 @@ function clearanceAssumptions(params: ClearanceParams, carriage: 'floor' | 'trol
       : carriage === 'trolley'
         ? `The object rides on a trolley or skates ${formatMetres(lift ?? 0)} high, narrower than the object: the margin is to the sides and the head.`
         : 'The object is carried free in the opening (it may be lifted): the margin is to every side.'
-  return [CLEARANCE_ASSUMPTIONS[0]!, turning, CLEARANCE_ASSUMPTIONS[2]!, CLEARANCE_ASSUMPTIONS[3]!, moving, CLEARANCE_ASSUMPTIONS[4]!]
+  const thin =
+    sections > 1
+      ? `The passage is the overlap of the free openings of ${sections} sections, seen along the direction of travel: straight, the object not turning on the way; what lies between the sections is not looked at.`
+      : CLEARANCE_ASSUMPTIONS[2]!
+  return [CLEARANCE_ASSUMPTIONS[0]!, turning, thin, CLEARANCE_ASSUMPTIONS[3]!, moving, CLEARANCE_ASSUMPTIONS[4]!]
 }
 
 const formatMetres = (m: number) => `${(Math.round(m * 1000) / 1000).toFixed(3)} m`
@@ -115,6 +119,62 @@ async function orientObject(
   }
 }
 
+/**
+ * A section's stored points seen along the direction of travel in another section's frame (u v pairs): each
+ * point slides along `dir` onto that plane, q = p - t dir with t = n . (p - o) / (n . dir).
+ */
+function alongTravel(xyz: Float64Array, frame: SectionComputation['frame'], dir: readonly number[], cos: number): Float64Array {
+  const count = xyz.length / 3
+  const out = sharedFloat64Array(2 * count)
+  const [ox, oy, oz] = frame.origin
+  const { u, v, n } = frame
+  const ud = u[0] * dir[0]! + u[1] * dir[1]! + u[2] * dir[2]!
+  const vd = v[0] * dir[0]! + v[1] * dir[1]! + v[2] * dir[2]!
+  for (let i = 0; i < count; i++) {
+    const px = xyz[3 * i]! - ox, py = xyz[3 * i + 1]! - oy, pz = xyz[3 * i + 2]! - oz
+    const t = (n[0] * px + n[1] * py + n[2] * pz) / cos
+    out[2 * i] = u[0] * px + u[1] * py + u[2] * pz - t * ud
+    out[2 * i + 1] = v[0] * px + v[1] * py + v[2] * pz - t * vd
+  }
+  return out
+}
+
+/**
+ * The passage through the first section and the further ones: one section computation whose points are all of
+ * theirs seen along the travel in the first's frame (the free opening of that union is the overlap of their
+ * openings), and each section's own opening outline in that frame, for the figure. The spacing, point
+ * uncertainty and registration taken are the largest of them.
+ */
+async function passageOf(first: SectionComputation, further: readonly string[], dir: readonly number[], cos: number, ctx: CheckContext): Promise<{ sec: SectionComputation; passage: number[][] }> {
+  const own = await openingOf(first, ctx)
+  if ('problem' in own) throw new Stop('invalid-geometry', `the first section of the passage has no free opening: ${own.problem}`)
+  const passage = [own.result.outline]
+  const parts = [first.uv]
+  let spacing = first.spacing, pointUncertainty = first.pointUncertainty, registrationRms = first.registrationRms
+  for (const id of further) {
+    const marker = await ctx.marker(id)
+    if (!marker || marker.kind !== 'section') throw new Stop('invalid-geometry', 'a section of this passage was deleted.')
+    const snapped: Snapped[] = []
+    const spans = spansPlacements(marker.anchors)
+    for (let i = 0; i < marker.anchors.length; i++) snapped.push(await snapAnchor(ctx, marker.anchors[i]!, i, spans))
+    const s = await computeSection(marker, snapped, ctx)
+    const seen = alongTravel(s.xyz, first.frame, dir, cos)
+    const alone = await compute.freeOpening(seen, first.seedUv!, s.spacing)
+    stillWanted(ctx)
+    if (!alone.ok) throw new Stop('invalid-geometry', 'a further section of the passage has no free opening in line with the first one (seen along the direction of travel).')
+    passage.push(ring(alone.outline))
+    parts.push(seen)
+    spacing = Math.max(spacing, s.spacing)
+    pointUncertainty = Math.max(pointUncertainty, s.pointUncertainty)
+    // Sections on different placements do not share their registration: the largest is kept (conservative).
+    registrationRms = Math.max(registrationRms, s.registrationRms)
+  }
+  const uv = sharedFloat64Array(parts.reduce((k, p) => k + p.length, 0))
+  let at = 0
+  for (const p of parts) uv.set(p, at), (at += p.length)
+  return { sec: { ...first, uv, spacing, pointUncertainty, registrationRms }, passage }
+}
+
 async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext): Promise<Check> {
   const parsed = ClearanceParams.safeParse(input.params)
   if (!parsed.success) throw new Stop('invalid-geometry', `the clearance's params are not valid: ${parsed.error.issues[0]?.message}`)
@@ -125,15 +185,18 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const sectionAnchors: Snapped[] = []
   const sectionSpans = spansPlacements(sectionMarker.anchors)
   for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i, sectionSpans))
-  const sec = await computeSection(sectionMarker, sectionAnchors, ctx)
-  const opening = await openingOf(sec, ctx)
-  if ('problem' in opening) throw new Stop('invalid-geometry', `the section has no free opening: ${opening.problem}`)
-  const n = sec.frame.n
+  const first = await computeSection(sectionMarker, sectionAnchors, ctx)
+  const n = first.frame.n
   let dir = params.direction ?? n
   const len = Math.hypot(...dir)
   dir = [dir[0] / len, dir[1] / len, dir[2] / len]
   const cos = dir[0] * n[0] + dir[1] * n[1] + dir[2] * n[2]
   if (Math.abs(cos) < GRAZING_COS) throw new Stop('invalid-geometry', 'the direction of travel runs (almost) along the opening instead of through it.')
+  // A passage of several sections: all their points seen along the travel in the first one's frame, so the
+  // free opening found is the overlap of theirs.
+  const { sec, passage } = params.alsoThrough ? await passageOf(first, params.alsoThrough, dir, cos, ctx) : { sec: first, passage: [] }
+  const opening = await openingOf(sec, ctx)
+  if ('problem' in opening) throw new Stop('invalid-geometry', `the ${passage.length ? 'passage' : 'section'} has no free opening: ${opening.problem}`)
 
   const cap = ctx.maxPoints ?? Infinity
   const local = await ctx.points.allPoints(object.scanId, cap)
@@ -210,10 +273,11 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
     silhouette: ring(fit.placed),
     objectPointCount: count,
     resolution: fit.resolution,
-    assumptions: clearanceAssumptions(params, carriageMode, restOn === null ? null : restOn - opening.bottom),
+    assumptions: clearanceAssumptions(params, carriageMode, restOn === null ? null : restOn - opening.bottom, Math.max(1, passage.length)),
     carriage: { mode: carriageMode, restOn: restOn === null ? null : round(restOn), floorFound: opening.floor },
     orientation: turned && params.orientation ? { mode: params.orientation.mode, ...turned.result } : null,
     section: sectionPart,
+    passage,
   }
   return {
     ...base,
@@ -236,5 +300,11 @@ export const clearance: KindCheck = {
     if (!section || section.scene_id !== refs.sceneId || section.id === refs.markerId) throw refs.invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
     if (section.kind !== 'section') throw refs.invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)
     if (!(section.params as { opening?: boolean }).opening) throw refs.invalid('params.sectionMarkerId', 'that section does not look for a free opening; turn "find the free opening" on first.')
+    for (const [i, id] of (params.alsoThrough ?? []).entries()) {
+      const further = await refs.findMarker(id)
+      const field = `params.alsoThrough.${i}`
+      if (!further || further.scene_id !== refs.sceneId || further.id === refs.markerId) throw refs.invalid(field, 'no section marker with this id in the scene.')
+      if (further.kind !== 'section') throw refs.invalid(field, `that marker is a ${further.kind}, not a section.`)
+    }
   },
 }

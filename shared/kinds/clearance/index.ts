@@ -20,6 +20,11 @@ export const ClearanceParams = z
   .object({
     objectInstanceId: Id,
     sectionMarkerId: Id,
+    /**
+     * Further sections along the direction of travel (the far face of a thick wall, a tunnel behind a hatch):
+     * the passage is the overlap of all their free openings seen along the travel. A straight passage only.
+     */
+    alsoThrough: z.array(Id, { error: 'must be a list of section marker ids' }).min(1, { error: 'must name at least one section (or leave it out)' }).max(4, { error: 'must name at most 4 sections' }).optional(),
     /** Direction of travel, scene frame (default: the section's normal). */
     direction: NonZeroVec3.optional(),
     /** Metres; default: the project's required margin. */
@@ -63,6 +68,8 @@ export const ClearanceParams = z
   })
   .strict()
   .superRefine((p, ctx) => {
+    const through = [p.sectionMarkerId, ...(p.alsoThrough ?? [])]
+    if (new Set(through).size !== through.length) ctx.addIssue({ code: 'custom', path: ['alsoThrough'], message: 'names a section twice (each section of the passage once)' })
     if (p.orientation && p.maxTurnDegrees !== undefined) ctx.addIssue({ code: 'custom', path: ['maxTurnDegrees'], message: 'give either maxTurnDegrees (a turn in the opening plane) or orientation, not both' })
   })
 export type ClearanceParams = z.infer<typeof ClearanceParams>
@@ -92,8 +99,10 @@ export const ClearanceResult = z.object({
     .object({ mode: z.enum(ORIENTATION_MODES), words: z.string(), turn: z.number(), tip: z.number(), spin: z.number(), matrix: z.array(z.number()).length(9), asItStands: z.number() })
     .nullable()
     .default(null),
-  /** The section the object went through (for the figure). */
+  /** The section the object went through (for the figure); with a passage, its points and every further section's, seen along the travel. */
   section: SectionFigure,
+  /** A passage of several sections: each one's own free opening seen along the travel, in the first's u v (the first's first); openingOutline is their overlap. */
+  passage: z.array(Uv).default([]),
 })
 export type ClearanceResult = z.infer<typeof ClearanceResult>
 
@@ -111,6 +120,6 @@ export const clearance = defineKind({
   maxAnchors: 0,
   create: ClearanceCreate,
   result: ClearanceResult,
-  dependsOn: ['sectionMarkerId'],
+  dependsOn: ['sectionMarkerId', 'alsoThrough'],
   placementParams: ['objectInstanceId'],
 })
