@@ -1,5 +1,5 @@
 import { computed, onBeforeUnmount, onMounted, reactive, ref, toValue, watch, type MaybeRefOrGetter, type Ref, type ShallowRef } from 'vue'
-import { checkOutcome, MARKER_KINDS, type Instance, type Marker, type MarkerCreateBody, type MarkerKind, type Scan } from '@shared/schemas'
+import { checkOutcome, kindWord, MARKER_KINDS, type Instance, type Marker, type MarkerCreateBody, type MarkerKind, type Scan } from '@shared/schemas'
 import { anchorBudget } from '@shared/measure/uncertainty'
 import type { LengthUnit } from '@shared/format/units'
 import { ApiError } from '@/api/http'
@@ -50,7 +50,7 @@ export function useMarkerTools(options: MarkerToolsOptions) {
   const hint = computed(() => {
     const k = active.value
     if (!k) return ''
-    if (saving.value) return `Saving the ${k.word}; the server checks it against the stored points…`
+    if (saving.value) return `Saving the ${kindWord(k.kind)}; the server checks it against the stored points…`
     return k.hint(picks.value.length, activeOptions.value)
   })
   const ready = computed(() => !!active.value && needed.value > 0 && picks.value.length === needed.value)

@@ -58,8 +58,7 @@ export interface CardContext {
  */
 export interface MarkerKindUi<K extends MarkerKind = MarkerKind> {
   kind: K
-  /** The kind in words, lower case ("distance"); the panel's title is `title`. */
-  word: string
+  /** The panel's title ("Distance"); the kind's word is the shared one (`kindWord`, shared/kinds). */
   title: string
   icon: IconSource
   /** Viewport colour (bright, for the charcoal viewport and chips). */

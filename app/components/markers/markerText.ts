@@ -5,7 +5,7 @@
  */
 import { CHECK_STATE_LOOK, CHECK_STATES, CLEARANCE_LOOK, REVIEW_LOOK, REVIEW_STATES, type CheckState, type ClearanceOutcome, type ReviewState, type StateLook } from '@shared/collab/states'
 import type { LengthUnit } from '@shared/format/units'
-import { checkOutcome, MARKER_KINDS, type Marker, type MarkerKind } from '@shared/schemas'
+import { checkOutcome, kindWord, MARKER_KINDS, type Marker, type MarkerKind } from '@shared/schemas'
 import type { IconSource } from '@/components/base/icons'
 import { kindUi } from '@/kinds'
 import { formatQuantity, uncertaintyShort, valueKindOf } from './markerValues'
@@ -13,7 +13,7 @@ import { formatQuantity, uncertaintyShort, valueKindOf } from './markerValues'
 export * from './markerValues'
 
 /** Each kind's word, icon and viewport colour (its module in app/kinds; the colours are for the charcoal chip only: too light for white). */
-export const KIND_WORDS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).word])) as Record<MarkerKind, string>
+export const KIND_WORDS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindWord(k)])) as Record<MarkerKind, string>
 export const KIND_ICONS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).icon])) as Record<MarkerKind, IconSource>
 export const KIND_COLORS = Object.fromEntries(MARKER_KINDS.map((k) => [k, kindUi(k).colour])) as Record<MarkerKind, string>
 

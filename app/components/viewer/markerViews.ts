@@ -4,7 +4,7 @@
  * nothing of marker kinds; the words and colours are decided here, from the contract and Spanmark's own words and colours.
  * Pure functions, unit-tested.
  */
-import { checkOutcome, type Marker, type MarkerKind } from '@shared/schemas'
+import { checkOutcome, kindWord, type Marker, type MarkerKind } from '@shared/schemas'
 import { CHECK_STATE_LOOK, CLEARANCE_LOOK } from '@shared/collab/states'
 import type { LengthUnit } from '@shared/format/units'
 import { KIND_COLORS } from '@/components/markers/markerText'
@@ -36,7 +36,7 @@ export function markerLabel(marker: Marker, lengthUnit: LengthUnit): Omit<Marker
   const check = marker.check
   const look = CHECK_STATE_LOOK[check.state]
   const ui = kindUi(marker.kind)
-  const title = marker.label.trim() || ui.word
+  const title = marker.label.trim() || kindWord(marker.kind)
   if (check.state === 'pending') return { title, value: look.word, state: look }
   const value = check.value === null ? '\u2014' : (ui.labelPrefix?.(marker) ?? '') + valueText(marker, lengthUnit)
   const outcome = checkOutcome(check)

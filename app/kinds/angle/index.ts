@@ -23,7 +23,6 @@ function armsAndArc(points: readonly Vec3[], colour: string, dashed: boolean): K
  */
 export const angleUi: MarkerKindUi<'angle'> = {
   kind: 'angle',
-  word: 'angle',
   title: 'Angle',
   icon: ICONS.kindAngle,
   colour: '#7FC8C2',

@@ -17,7 +17,6 @@ const CARRIAGE_WORDS = { floor: 'resting on the floor', trolley: 'on a trolley o
  */
 export const clearanceUi: MarkerKindUi<'clearance'> = {
   kind: 'clearance',
-  word: 'clearance',
   title: 'Clearance',
   icon: ICONS.kindClearance,
   colour: '#F08A5D',

@@ -9,7 +9,6 @@ import type { MarkerKindUi } from '../types'
 /** A distance: two clicks, the length between them (and its parts along the scene's axes). */
 export const distanceUi: MarkerKindUi<'distance'> = {
   kind: 'distance',
-  word: 'distance',
   title: 'Distance',
   icon: ICONS.kindDistance,
   colour: '#F2B134',

@@ -31,7 +31,6 @@ function footOf(p: Vec3, signed: number, n: readonly number[]): Vec3 {
  */
 export const pointToPlaneUi: MarkerKindUi<'point-to-plane'> = {
   kind: 'point-to-plane',
-  word: 'point to plane',
   title: 'Point to plane',
   icon: ['M1.5 12.5l4-3h9l-4 3z', 'M8 10.8V6.4', 'M8 3.2a1.4 1.4 0 1 0 0 2.8 1.4 1.4 0 0 0 0-2.8z'],
   colour: '#E88FB4',

@@ -41,7 +41,6 @@ const opts = (o: Record<string, unknown>) => o as unknown as SectionOptions
  */
 export const sectionUi: MarkerKindUi<'section'> = {
   kind: 'section',
-  word: 'section',
   title: 'Section marker',
   icon: ICONS.kindSection,
   colour: '#C7A0E8',
