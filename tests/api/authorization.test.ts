@@ -43,6 +43,7 @@ interface Fixture {
   /** A comment thread's first comment on the marker. */
   commentId: string
   registrationId: string
+  uploadId: string
 }
 
 let invited = 0
@@ -82,6 +83,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .values({ scene_id: scene.body.scene.id, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'placed.xyz', held_name: 'none', matrix_before: instance.body.instance.matrix })
     .returning('id')
     .executeTakeFirstOrThrow()
+  const upload = await people.owner.agent.post(`/api/projects/${projectId}/uploads`).send({ fileName: 'matrix.xyz', sizeBytes: 100 }).expect(201)
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -102,6 +104,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     checkpointId: checkpoint.id,
     commentId: comment.body.comment.id,
     registrationId: registration.id,
+    uploadId: upload.body.upload.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -121,6 +124,7 @@ const NOWHERE: Fixture = {
   checkpointId: '00000000-0000-4000-8000-000000000008',
   commentId: '00000000-0000-4000-8000-000000000009',
   registrationId: '00000000-0000-4000-8000-00000000000a',
+  uploadId: '00000000-0000-4000-8000-00000000000b',
   guest: null,
 }
 
@@ -150,6 +154,10 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.commentId
       case 'registrationId':
         return f.registrationId
+      case 'uploadId':
+        return f.uploadId
+      case 'partNumber':
+        return '1'
       case 'nodeKey':
         return 'r'
       case 'userId':
