@@ -1,4 +1,4 @@
-import { ScanResponse, UploadCreated, UploadOne, UploadPartUrls, type Scan, type Upload } from '@shared/schemas'
+import { ScanResponse, UploadCreated, UploadOne, UploadPartUrls, type Scan } from '@shared/schemas'
 import { ApiError, ClientErrorCode, apiPath, http } from './http'
 
 export interface ResumableProgress {
@@ -64,10 +64,6 @@ function wait(ms: number, signal?: AbortSignal): Promise<void> {
 /** A failure worth another try: the network, or storage or the server busy or down for a moment. */
 function transient(error: unknown): boolean {
   return error instanceof ApiError && (error.status === 0 || error.status === 429 || error.status >= 500)
-}
-
-export function getUpload(uploadId: string): Promise<Upload> {
-  return http.get(apiPath`/api/uploads/${uploadId}`, UploadOne).then((r) => r.upload)
 }
 
 /**

@@ -20,13 +20,6 @@ export const uploadRoutes: RouteDef[] = [
     },
   }),
   defineRoute({
-    method: 'get',
-    path: '/uploads/:uploadId',
-    access: { kind: 'project', right: 'editScans', rigKey: true },
-    params: UploadParams,
-    handler: async ({ services, params }) => ({ body: { upload: await uploads.getUpload(services, params.uploadId) } }),
-  }),
-  defineRoute({
     method: 'post',
     path: '/uploads/:uploadId/part-urls',
     access: { kind: 'project', right: 'editScans', rigKey: true },

@@ -118,12 +118,6 @@ function checkPartNumber(row: UploadRow, n: number, where: string): void {
   if (n > row.part_count) throw HttpError.badRequest(`${where}: part ${n} is past the last part of this upload (${row.part_count}).`, where)
 }
 
-export async function getUpload(s: Services, uploadId: string): Promise<Upload> {
-  const row = await findUploadRow(s.db, uploadId)
-  if (!row) throw HttpError.notFound('No such upload.')
-  return toUpload(s, row)
-}
-
 /** Presigned PUT URLs of the parts asked for, valid `partUrlSeconds`. */
 export async function partUrls(s: Services, uploadId: string, parts: number[]): Promise<{ partNumber: number; url: string; expiresAt: string }[]> {
   const row = await receivingUpload(s, uploadId)

@@ -83,7 +83,12 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .values({ scene_id: scene.body.scene.id, moving_instance_id: instanceId, held_instance_id: null, moving_name: 'placed.xyz', held_name: 'none', matrix_before: instance.body.instance.matrix })
     .returning('id')
     .executeTakeFirstOrThrow()
-  const upload = await people.owner.agent.post(`/api/projects/${projectId}/uploads`).send({ fileName: 'matrix.xyz', sizeBytes: 100 }).expect(201)
+  // A resumable upload under way, written straight to the table (no multipart upload in storage is needed).
+  const upload = await t.server.services.db
+    .insertInto('uploads')
+    .values({ project_id: projectId, scan_id: crypto.randomUUID(), object_key: `projects/${projectId}/scans/x/matrix.xyz`, s3_upload_id: 'none', file_name: 'matrix.xyz', declared_size: 100, part_size: 65536, part_count: 1 })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -104,7 +109,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     checkpointId: checkpoint.id,
     commentId: comment.body.comment.id,
     registrationId: registration.id,
-    uploadId: upload.body.upload.id,
+    uploadId: upload.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
