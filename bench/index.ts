@@ -12,6 +12,7 @@ import { runOctreeBench } from './octree'
 import { formatPoolBench, runPoolBench } from './pool'
 import { formatParseBench, runParseBench } from './parse'
 import { formatRegistrationBench, formatRegistrationServiceBench, runRegistrationBench, runRegistrationServiceBench } from './registration'
+import { formatUploadBench, runUploadBench } from './upload'
 import { formatViewerBench, runViewerBench } from './viewer'
 
 function sizes(argv: string[]): number[] {
@@ -22,7 +23,7 @@ function sizes(argv: string[]): number[] {
 
 const s = sizes(process.argv.slice(2))
 /**
- * `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, export, viewer, markers, pool, live, liveLimits, cluster,
+ * `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, upload, export, viewer, markers, pool, live, liveLimits, cluster,
  * registration, edges). The cluster bench takes `--cluster-seconds 60`, `--cluster-clients 200`, `--cluster-scenes 10`,
  * `--cluster-edit-ms 2000`, `--cluster-rest-seconds 20`, `--cluster-rest-loops 8`.
  */
@@ -46,6 +47,7 @@ if (wanted('octree')) section(
 )
 if (wanted('ingest')) section('Ingest through the server (targets at 10 M: binary PLY or LAS < 6 s and < 1 GB, ASCII XYZ < 15 s)', formatIngestBench(await runIngestBench(s, log)))
 if (wanted('export')) section('Export of a scene (LAS 1.4, E57, PLY) through the worker into object storage; worker memory flat as the count grows', formatExportBench(await runExportBench(s, log)))
+if (wanted('upload')) section('Resumable upload on loopback (target: >= 200 MB/s for a 2 GB file in parts)', formatUploadBench(await runUploadBench(2e9, 4, log)))
 if (wanted('viewer')) section('Viewer (target: first frame < 1 s for a 10 M-point scan; points drawn within the budget)', formatViewerBench(await runViewerBench(Math.max(...s), log)))
 if (wanted('markers')) section('Marker checks (targets: anchor check p99 < 5 ms warm, < 50 ms cold on 10 M points)', formatMarkerBench(await runMarkerBench(Math.max(...s), log)))
 if (wanted('pool')) section('Heavy checks off the event loop (target: event-loop delay p99 < 50 ms during a clearance of a 1 M-point object)', formatPoolBench(await runPoolBench(log)))

@@ -28,7 +28,8 @@ export function createApp(services: Services, routes: RouteDef[] = apiRoutes): e
           'style-src': ["'self'", "'unsafe-inline'"],
           'img-src': ["'self'", 'data:', 'blob:'],
           'font-src': ["'self'", 'data:'],
-          'connect-src': ["'self'"],
+          // Resumable uploads PUT their parts straight to object storage (presigned URLs).
+          'connect-src': ["'self'", ...(services.objects.partOrigin ? [services.objects.partOrigin] : [])],
           'worker-src': ["'self'", 'blob:'],
           'upgrade-insecure-requests': config.secureCookies ? [] : null,
         },

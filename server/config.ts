@@ -39,6 +39,8 @@ const Env = z.object({
   S3_FAKE_PORT: z.coerce.number().int().min(0).max(65535).default(4569),
   DATA_DIR: z.string().optional(),
   UPLOAD_LIMIT_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
+  /** The largest file a resumable upload (S3 multipart, straight to object storage) takes: 100 GiB. */
+  UPLOAD_RESUMABLE_LIMIT_BYTES: z.coerce.number().int().positive().default(100 * 1024 ** 3),
   LAZ_LIMIT_BYTES: z.coerce.number().int().positive().default(512 * 1024 ** 2),
   WORKER: z.enum(['spawn', 'none']).default('spawn'),
   WORKERS: z.coerce.number({ error: 'must be a whole number from 1 to 16' }).int({ error: 'must be a whole number from 1 to 16' }).min(1, { error: 'must be a whole number from 1 to 16' }).max(16, { error: 'must be a whole number from 1 to 16' }).default(1),
@@ -49,6 +51,19 @@ const Env = z.object({
   /** Test servers only: every marker check waits this long first (a fault test kills its holder meanwhile). */
   SPANMARK_TEST_CHECK_DELAY_MS: z.coerce.number().int().min(0).max(600_000).default(0),
 })
+
+/**
+ * Resumable uploads (services/uploads.ts). Parts are at least `minPartBytes` (16 MiB; smaller in tests only)
+ * and grow so a file of `limitBytes` stays within object storage's 10,000 parts. A part URL lives
+ * `partUrlSeconds`; an upload untouched for `idleMs` is abandoned by the sweeper (every `sweepMs`).
+ */
+export interface ResumableUploads {
+  limitBytes: number
+  minPartBytes: number
+  partUrlSeconds: number
+  idleMs: number
+  sweepMs: number
+}
 
 export interface RateLimit {
   windowMs: number
@@ -99,7 +114,7 @@ export interface Config {
   /** Folder for local state that is not in PostgreSQL: upload spool, the fake S3's files. */
   dataDir: string
   storage: { endpoint: string | null; region: string; bucket: string; accessKeyId: string; secretAccessKey: string; fake: boolean; fakePort: number }
-  uploads: { limitBytes: number; lazLimitBytes: number }
+  uploads: { limitBytes: number; lazLimitBytes: number; resumable: ResumableUploads }
   /** 'spawn' runs the ingest worker as a child process; 'none' leaves it to a separate `server/worker.ts`. */
   worker: 'spawn' | 'none'
   /** Ingest worker processes this server starts (WORKERS; they share the queue, a claim each per scan). */
@@ -268,7 +283,13 @@ export function loadConfig(source: NodeJS.ProcessEnv = process.env): Config {
       fake: e.S3_FAKE && !production,
       fakePort: e.S3_FAKE_PORT,
     },
-    uploads: { limitBytes: e.UPLOAD_LIMIT_BYTES, lazLimitBytes: e.LAZ_LIMIT_BYTES },
+    uploads: {
+      limitBytes: e.UPLOAD_LIMIT_BYTES,
+      lazLimitBytes: e.LAZ_LIMIT_BYTES,
+      resumable: test
+        ? { limitBytes: e.UPLOAD_RESUMABLE_LIMIT_BYTES, minPartBytes: 64 * 1024, partUrlSeconds: 300, idleMs: 24 * 3_600_000, sweepMs: 60_000 }
+        : { limitBytes: e.UPLOAD_RESUMABLE_LIMIT_BYTES, minPartBytes: 16 * 1024 ** 2, partUrlSeconds: 900, idleMs: 24 * 3_600_000, sweepMs: 10 * 60_000 },
+    },
     worker: e.WORKER,
     workers: e.WORKERS,
     compute: { threads: e.COMPUTE_THREADS ?? defaultComputeThreads(), idleTimeoutMs: 30_000 },

@@ -43,6 +43,7 @@ const NO_LIVE: LiveSync = {
 }
 import { requeueStaleScans } from './repositories/scans'
 import { ObjectStore } from './storage/objects'
+import { sweepIdleUploads } from './services/uploads'
 import type { Services } from './types'
 
 /**
@@ -63,6 +64,7 @@ function refuseDevConveniences(config: Config): void {
 export class SpanmarkServer {
   private sweeper: NodeJS.Timeout | null = null
   private clusterSweeper: NodeJS.Timeout | null = null
+  private uploadSweeper: NodeJS.Timeout | null = null
 
   private constructor(
     readonly services: Services,
@@ -115,6 +117,7 @@ export class SpanmarkServer {
       }
       const objects = new ObjectStore(storage)
       await objects.ensureBucket()
+      await objects.resolvePartOrigin()
       const boss: PgBoss = await startBoss(config.databaseUrl, (err) => log.warn({ err }, 'job queue error'))
       started.push({ close: () => boss.stop({ graceful: false, wait: true }) })
 
@@ -210,6 +213,13 @@ export class SpanmarkServer {
     void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed'))
     this.sweeper = setInterval(() => void sweep().catch((err) => log.warn({ err }, 'stale scan sweep failed')), Math.max(500, this.config.ingestStaleMs / 2))
     this.sweeper.unref()
+    // Resumable uploads left idle (a closed tab that never came back) are given up.
+    const sweepUploads = () =>
+      void sweepIdleUploads(this.services)
+        .then((n) => n && log.info({ uploads: n }, 'idle uploads abandoned'))
+        .catch((err) => log.warn({ err }, 'idle upload sweep failed'))
+    this.uploadSweeper = setInterval(sweepUploads, this.config.uploads.resumable.sweepMs)
+    this.uploadSweeper.unref()
   }
 
   /**
@@ -241,6 +251,7 @@ export class SpanmarkServer {
   async stop(): Promise<void> {
     if (this.sweeper) clearInterval(this.sweeper)
     if (this.clusterSweeper) clearInterval(this.clusterSweeper)
+    if (this.uploadSweeper) clearInterval(this.uploadSweeper)
     await this.collab.close()
     await new Promise<void>((resolve) => {
       this.http.close(() => resolve())

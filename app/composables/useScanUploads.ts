@@ -2,11 +2,12 @@ import { computed, markRaw, onScopeDispose, reactive, toValue, watch, type Maybe
 import { useMutation } from '@tanstack/vue-query'
 import { isApiError } from '@/api/http'
 import * as scansApi from '@/api/scans'
+import * as uploadsApi from '@/api/uploads'
 import { formatBytes } from '@/lib/format'
 import { useScanCache } from './useScans'
 
-/** What the server states by default (UPLOAD_LIMIT_BYTES); a 413 tells the real figure, which then replaces it. */
-export const DEFAULT_UPLOAD_LIMIT_BYTES = 2 * 1024 ** 3
+/** What the server states by default (UPLOAD_RESUMABLE_LIMIT_BYTES); a 413 tells the real figure, which then replaces it. */
+export const DEFAULT_UPLOAD_LIMIT_BYTES = 100 * 1024 ** 3
 
 /** Files sent at the same time; the rest wait their turn. */
 const PARALLEL = 2
@@ -21,6 +22,9 @@ export interface Transfer {
   total: number
   state: TransferState
   error: string | null
+  /** Parts storage already held when the upload started (a resume), of `partCount`; 0 for a fresh upload. */
+  heldAtStart: number
+  partCount: number
 }
 
 function isAbort(error: unknown): boolean {
@@ -28,7 +32,8 @@ function isAbort(error: unknown): boolean {
 }
 
 /**
- * Uploads chosen files one request per file (the route takes one), each with its own transfer progress.
+ * Uploads chosen files as resumable uploads (api/uploads.ts: parts straight to object storage, a few at a
+ * time; choosing a file again after a reload sends only its missing parts), each with its own progress.
  * A successful upload puts the queued scan into the list, where its processing is followed. Leaving the
  * page cancels what is still on its way; closing the tab meanwhile asks first.
  */
@@ -41,8 +46,8 @@ export function useScanUploads(projectId: MaybeRefOrGetter<string>) {
 
   // Through the query library, so a 401 sends the user to sign in like every other request.
   const upload = useMutation({
-    mutationFn: (input: { file: File; signal: AbortSignal; onProgress: (p: scansApi.UploadProgress) => void }) =>
-      scansApi.uploadScan(toValue(projectId), input.file, { signal: input.signal, onProgress: input.onProgress }),
+    mutationFn: (input: { file: File; signal: AbortSignal; onProgress: (p: uploadsApi.ResumableProgress) => void }) =>
+      uploadsApi.uploadResumable(toValue(projectId), input.file, { signal: input.signal, onProgress: input.onProgress }),
     meta: { inlineErrors: true },
   })
 
@@ -73,6 +78,8 @@ export function useScanUploads(projectId: MaybeRefOrGetter<string>) {
         onProgress: (p) => {
           transfer.loaded = p.loaded
           transfer.total = p.total
+          transfer.heldAtStart = p.heldAtStart
+          transfer.partCount = p.partCount
         },
       })
       cache.put(scan)
@@ -109,7 +116,7 @@ export function useScanUploads(projectId: MaybeRefOrGetter<string>) {
   function add(files: readonly File[]): void {
     for (const file of files) {
       const error = tooLarge(file)
-      transfers.push({ id: nextId++, file: markRaw(file), loaded: 0, total: file.size, state: error ? 'failed' : 'waiting', error })
+      transfers.push({ id: nextId++, file: markRaw(file), loaded: 0, total: file.size, state: error ? 'failed' : 'waiting', error, heldAtStart: 0, partCount: 0 })
     }
     pump()
   }

@@ -33,9 +33,11 @@ export async function startBenchServer(): Promise<BenchServer> {
   const databaseUrl = process.env.BENCH_DATABASE_URL
   if (!databaseUrl) throw new Error('the benches need BENCH_DATABASE_URL: run them through `npm run bench`')
   const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'spanmark-bench-'))
+  const base = loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none', ...(process.env.LOG_LEVEL ? { LOG_LEVEL: process.env.LOG_LEVEL } : {}) })
+  // Resumable uploads with the production part size (16 MiB), not the tests' small parts.
   const config = {
-    ...loadConfig({ SPANMARK_ENV: 'test', DATABASE_URL: databaseUrl, PORT: '0', SMTP_PORT: '0', MAIL_FAKE: '1', S3_FAKE: '1', S3_FAKE_PORT: '0', DATA_DIR: folder, WORKER: 'none', ...(process.env.LOG_LEVEL ? { LOG_LEVEL: process.env.LOG_LEVEL } : {}) }),
-    uploads: { limitBytes: 4 * 1024 ** 3, lazLimitBytes: 512 * 1024 ** 2 },
+    ...base,
+    uploads: { limitBytes: 4 * 1024 ** 3, lazLimitBytes: 512 * 1024 ** 2, resumable: { ...base.uploads.resumable, minPartBytes: 16 * 1024 ** 2 } },
   }
   const server = await SpanmarkServer.start(config, pino({ level: process.env.LOG_LEVEL ?? 'silent' }))
   const url = server.url

@@ -115,6 +115,34 @@ export interface UploadUsageTable {
   created_at: Timestamp
 }
 
+export interface UploadsTable {
+  id: Generated<string>
+  project_id: string
+  scan_id: string
+  object_key: string
+  s3_upload_id: string
+  file_name: string
+  scan_name: string | null
+  declared_format: string | null
+  declared_size: number
+  part_size: number
+  part_count: number
+  resume_key: string | null
+  status: Generated<'receiving' | 'completing' | 'complete' | 'abandoned'>
+  created_by: string | null
+  upload_token_id: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
+export interface UploadPartsTable {
+  upload_id: string
+  part_number: number
+  etag: string
+  size_bytes: number
+  created_at: Timestamp
+}
+
 export interface InvitesTable {
   id: Generated<string>
   project_id: string
@@ -427,6 +455,8 @@ export interface Database {
   scene_instances: SceneInstancesTable
   upload_tokens: UploadTokensTable
   upload_usage: UploadUsageTable
+  uploads: UploadsTable
+  upload_parts: UploadPartsTable
   invites: InvitesTable
   guest_links: GuestLinksTable
   scans: ScansTable
@@ -456,3 +486,4 @@ export type ScanUpdate = Updateable<ScansTable>
 export type UploadTokenRow = Selectable<UploadTokensTable>
 export type InviteRow = Selectable<InvitesTable>
 export type GuestLinkRow = Selectable<GuestLinksTable>
+export type UploadRow = Selectable<UploadsTable>

@@ -9,9 +9,10 @@ import { projectRoutes } from './projects'
 import { registrationRoutes } from './registrations'
 import type { RouteDef } from './registry'
 import { scanRoutes } from './scans'
+import { uploadRoutes } from './uploads'
 import { sceneRoutes } from './scenes'
 import { sheetRoutes } from './sheet'
 import { systemRoutes } from './system'
 
 /** Every API route, in one list: the app mounts it and the authorization test walks it. */
-export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...sceneRoutes, ...exportRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes, ...inviteRoutes, ...passRoutes]
+export const apiRoutes: RouteDef[] = [...systemRoutes, ...authRoutes, ...projectRoutes, ...scanRoutes, ...uploadRoutes, ...sceneRoutes, ...exportRoutes, ...markerRoutes, ...commentRoutes, ...checkpointRoutes, ...sheetRoutes, ...registrationRoutes, ...inviteRoutes, ...passRoutes]

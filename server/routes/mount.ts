@@ -7,7 +7,7 @@ import type { z } from 'zod'
 import { ErrorCode } from '@shared/schemas/common'
 import { fromZod, HttpError } from '../errors'
 import { authorize, authorizeRigKey } from '../services/access'
-import { admitUpload } from '../services/scans'
+import { admitUpload, fileTooLarge } from '../services/scans'
 import type { Services } from '../types'
 import type { LimiterName, Membership, RigKey, RouteDef } from './registry'
 
@@ -38,12 +38,11 @@ function uploadMiddleware(services: Services, field: string): RequestHandler {
     storage: multer.diskStorage({ destination: spool, filename: (_req, _file, cb) => cb(null, `${Date.now()}-${crypto.randomBytes(8).toString('hex')}`) }),
     limits: { fileSize: limit, files: 1, fields: 20, fieldSize: 64 * 1024 },
   }).single(field)
-  const readable = limit >= 1024 ** 3 ? `${+(limit / 1024 ** 3).toFixed(2)} GiB` : limit >= 1024 ** 2 ? `${+(limit / 1024 ** 2).toFixed(2)} MiB` : `${limit} bytes`
   return (req, res, next) => {
     upload(req, res, (err: unknown) => {
       if (!err) return next()
       if (err instanceof multer.MulterError) {
-        if (err.code === 'LIMIT_FILE_SIZE') return next(new HttpError(413, ErrorCode.payloadTooLarge, `The file is larger than the upload limit of ${readable} (${limit} bytes).`))
+        if (err.code === 'LIMIT_FILE_SIZE') return next(fileTooLarge(limit))
         if (err.code === 'LIMIT_UNEXPECTED_FILE' || err.code === 'LIMIT_FILE_COUNT') {
           const where = err.field ? `body.${err.field}: ` : ''
           return next(HttpError.badRequest(`${where}send one file, in the multipart field '${field}'.`, err.field))

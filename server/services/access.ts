@@ -9,6 +9,7 @@ import { projectOfCheckpoint } from '../repositories/checkpoints'
 import { projectOfComment } from '../repositories/comments'
 import { sceneOfMarkerId } from '../repositories/markers'
 import { projectOfRegistration } from '../repositories/registrations'
+import { projectOfUpload } from '../repositories/uploads'
 import { projectOfUploadToken, findLiveUploadToken, markUploadTokenUsed } from '../repositories/uploadTokens'
 import { projectOfInvite } from '../repositories/invites'
 import { projectOfPass } from '../repositories/passes'
@@ -24,6 +25,7 @@ import type { Guest } from '../types'
 const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>> = {
   projectId: async (_db, id) => id,
   scanId: async (db, id) => (await projectOfScan(db, id))?.project_id ?? null,
+  uploadId: async (db, id) => (await projectOfUpload(db, id))?.project_id ?? null,
   tokenId: async (db, id) => (await projectOfUploadToken(db, id))?.project_id ?? null,
   sceneId: async (db, id) => (await projectOfScene(db, id))?.project_id ?? null,
   instanceId: async (db, id) => (await projectOfInstance(db, id))?.project_id ?? null,

@@ -36,8 +36,7 @@ export function uploadsArriving(s: Services, projectId: string): number {
  * response is done, however it ends).
  */
 export async function admitUpload(s: Services, projectId: string, declaredBytes: number): Promise<() => void> {
-  const quota = await quotaOf(s, projectId)
-  if (quota.used + declaredBytes > quota.limit) throw overQuota(quota, declaredBytes)
+  await checkQuota(s, projectId, declaredBytes)
   let counts = inFlight.get(s)
   if (!counts) inFlight.set(s, (counts = new Map()))
   const now = counts.get(projectId) ?? 0
@@ -67,6 +66,23 @@ async function quotaOf(s: Services, projectId: string): Promise<Quota> {
     uploadedToday(s.db, projectId),
   ])
   return { used, limit: Number(project?.daily_upload_bytes ?? 0) }
+}
+
+/**
+ * Refuses (429, saying the quota, what was received and what is left) a file of `bytes` that would take the
+ * project past its daily upload quota. `reservedBytes`: bytes of other uploads under way that are counted
+ * as if received (resumable uploads declare their size at creation).
+ */
+export async function checkQuota(s: Services, projectId: string, bytes: number, reservedBytes = 0): Promise<void> {
+  const quota = await quotaOf(s, projectId)
+  quota.used += reservedBytes
+  if (quota.used + bytes > quota.limit) throw overQuota(quota, bytes)
+}
+
+/** The refusal of a file over a per-file limit (413), as every upload path words it. */
+export function fileTooLarge(limit: number, size?: number): HttpError {
+  const what = size === undefined ? 'The file is' : `This file (${bytesInWords(size)}, ${size} bytes) is`
+  return new HttpError(413, ErrorCode.payloadTooLarge, `${what} larger than the upload limit of ${bytesInWords(limit)} (${limit} bytes).`)
 }
 
 function overQuota(q: Quota, size: number): HttpError {
@@ -105,13 +121,11 @@ export async function acceptUpload(
   by: { userId: string | null; rigKey: RigKey | null },
 ): Promise<Scan> {
   // The declared length was checked before receiving; the file's true size is checked again here.
-  const quota = await quotaOf(s, projectId)
-  if (quota.used + file.size > quota.limit) throw overQuota(quota, file.size)
+  await checkQuota(s, projectId, file.size)
   const scanId = crypto.randomUUID()
   // multer decodes the file name as latin1; browsers send UTF-8.
   const originalName = Buffer.from(file.originalname, 'latin1').toString('utf8')
-  const fileName = safeFileName(originalName)
-  const blobKey = `projects/${projectId}/scans/${scanId}/${fileName}`
+  const blobKey = originalKey(projectId, scanId, originalName)
   const hash = crypto.createHash('sha256')
   const hashing = new Transform({
     transform(chunk: Buffer, _enc, cb) {
@@ -125,22 +139,38 @@ export async function acceptUpload(
     s.log.error({ err, blobKey }, 'object storage refused an upload')
     throw new HttpError(503, ErrorCode.unavailable, 'The file could not be stored (object storage did not answer); nothing was kept. Try again.')
   }
-  await recordUpload(s.db, projectId, file.size)
+  return startProcessing(s, { projectId, scanId, blobKey, originalName, size: file.size, sha256: hash.digest('hex'), fields, by })
+}
+
+/** Where an upload's original is kept in object storage. */
+export function originalKey(projectId: string, scanId: string, originalName: string): string {
+  return `projects/${projectId}/scans/${scanId}/${safeFileName(originalName)}`
+}
+
+/**
+ * An original safely in object storage becomes a queued scan: counted against the quota, recorded, and
+ * its processing queued (the worker sniffs and checks the content). Every upload path ends here.
+ */
+export async function startProcessing(
+  s: Services,
+  v: { projectId: string; scanId: string; blobKey: string; originalName: string; size: number; sha256: string | null; fields: { name?: string; format?: ScanFormat }; by: { userId: string | null; rigKey: RigKey | null } },
+): Promise<Scan> {
+  await recordUpload(s.db, v.projectId, v.size)
   await insertScan(s.db, {
-    id: scanId,
-    project_id: projectId,
-    name: fields.name ?? (originalName.replace(/\.[^.]+$/, '') || 'Scan'),
-    file_name: originalName,
-    declared_format: fields.format ?? null,
-    size_bytes: file.size,
-    sha256: hash.digest('hex'),
-    blob_key: blobKey,
-    uploaded_by: by.userId ?? by.rigKey?.createdBy ?? null,
-    upload_token_id: by.rigKey?.id ?? null,
+    id: v.scanId,
+    project_id: v.projectId,
+    name: v.fields.name ?? (v.originalName.replace(/\.[^.]+$/, '') || 'Scan'),
+    file_name: v.originalName,
+    declared_format: v.fields.format ?? null,
+    size_bytes: v.size,
+    sha256: v.sha256,
+    blob_key: v.blobKey,
+    uploaded_by: v.by.userId ?? v.by.rigKey?.createdBy ?? null,
+    upload_token_id: v.by.rigKey?.id ?? null,
     stage: 'waiting for a worker',
   })
-  await sendIngest(s.boss, scanId)
-  return getScan(s, scanId)
+  await sendIngest(s.boss, v.scanId)
+  return getScan(s, v.scanId)
 }
 
 export async function editScan(s: Services, scanId: string, body: ScanUpdateBody): Promise<Scan> {

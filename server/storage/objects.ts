@@ -1,6 +1,18 @@
 import type { Readable } from 'node:stream'
-import { CreateBucketCommand, DeleteObjectCommand, GetObjectCommand, HeadBucketCommand, S3Client } from '@aws-sdk/client-s3'
+import {
+  AbortMultipartUploadCommand,
+  CompleteMultipartUploadCommand,
+  CreateBucketCommand,
+  CreateMultipartUploadCommand,
+  DeleteObjectCommand,
+  GetObjectCommand,
+  HeadBucketCommand,
+  HeadObjectCommand,
+  S3Client,
+  UploadPartCommand,
+} from '@aws-sdk/client-s3'
 import { Upload } from '@aws-sdk/lib-storage'
+import { getSignedUrl } from '@aws-sdk/s3-request-presigner'
 
 export interface ObjectStoreConfig {
   endpoint: string | null
@@ -13,6 +25,8 @@ export interface ObjectStoreConfig {
 /** Original upload files, kept in S3-compatible object storage (a local fake in development and tests). */
 export class ObjectStore {
   readonly client: S3Client
+  /** The origin the browser PUTs parts to (set by `resolvePartOrigin`); the page's CSP allows it. */
+  partOrigin: string | null = null
   constructor(readonly config: ObjectStoreConfig) {
     // The SDK warns that its releases from 2027 on need Node 22; Spanmark pins a release that runs on 20.
     process.env.AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED ??= 'true'
@@ -78,6 +92,50 @@ export class ObjectStore {
     for await (const part of res.Body as Readable) parts.push(part as Buffer)
     const bytes = Buffer.concat(parts)
     return bytes.length > length ? bytes.subarray(0, length) : bytes
+  }
+
+  /** Starts an S3 multipart upload (CreateMultipartUpload); returns its upload id. */
+  async createMultipart(key: string, contentType = 'application/octet-stream'): Promise<string> {
+    const res = await this.client.send(new CreateMultipartUploadCommand({ Bucket: this.config.bucket, Key: key, ContentType: contentType }))
+    if (!res.UploadId) throw new Error(`object storage gave no upload id for ${key}`)
+    return res.UploadId
+  }
+
+  /**
+   * A presigned URL (SigV4 query authentication) for one UploadPart PUT, valid `expiresIn` seconds: the
+   * client sends the part's bytes straight to object storage and reads the ETag header of the answer.
+   */
+  partUrl(key: string, uploadId: string, partNumber: number, expiresIn: number): Promise<string> {
+    return getSignedUrl(this.client, new UploadPartCommand({ Bucket: this.config.bucket, Key: key, UploadId: uploadId, PartNumber: partNumber }), { expiresIn })
+  }
+
+  /** Finds the origin of presigned URLs (signing needs no request) so the page may connect to it. */
+  async resolvePartOrigin(): Promise<string> {
+    const url = await getSignedUrl(this.client, new GetObjectCommand({ Bucket: this.config.bucket, Key: 'origin-probe' }), { expiresIn: 60 })
+    this.partOrigin = new URL(url).origin
+    return this.partOrigin
+  }
+
+  /** CompleteMultipartUpload with the parts in order (number and ETag as storage answered each PUT). */
+  async completeMultipart(key: string, uploadId: string, parts: { partNumber: number; etag: string }[]): Promise<void> {
+    await this.client.send(
+      new CompleteMultipartUploadCommand({
+        Bucket: this.config.bucket,
+        Key: key,
+        UploadId: uploadId,
+        MultipartUpload: { Parts: parts.map((p) => ({ PartNumber: p.partNumber, ETag: p.etag })) },
+      }),
+    )
+  }
+
+  async abortMultipart(key: string, uploadId: string): Promise<void> {
+    await this.client.send(new AbortMultipartUploadCommand({ Bucket: this.config.bucket, Key: key, UploadId: uploadId }))
+  }
+
+  /** The stored object's size in bytes (HeadObject's Content-Length). */
+  async size(key: string): Promise<number> {
+    const res = await this.client.send(new HeadObjectCommand({ Bucket: this.config.bucket, Key: key }))
+    return Number(res.ContentLength ?? 0)
   }
 
   async delete(key: string): Promise<void> {

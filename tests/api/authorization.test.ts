@@ -44,6 +44,7 @@ interface Fixture {
   commentId: string
   registrationId: string
   exportId: string
+  uploadId: string
 }
 
 let invited = 0
@@ -89,6 +90,12 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .values({ project_id: projectId, scene_id: scene.body.scene.id, source: 'scene', format: 'las', file_name: 'matrix.las' })
     .returning('id')
     .executeTakeFirstOrThrow()
+  // A resumable upload under way, written straight to the table (no multipart upload in storage is needed).
+  const upload = await t.server.services.db
+    .insertInto('uploads')
+    .values({ project_id: projectId, scan_id: crypto.randomUUID(), object_key: `projects/${projectId}/scans/x/matrix.xyz`, s3_upload_id: 'none', file_name: 'matrix.xyz', declared_size: 100, part_size: 65536, part_count: 1 })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -110,6 +117,7 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     commentId: comment.body.comment.id,
     registrationId: registration.id,
     exportId: exported.id,
+    uploadId: upload.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -130,6 +138,7 @@ const NOWHERE: Fixture = {
   commentId: '00000000-0000-4000-8000-000000000009',
   registrationId: '00000000-0000-4000-8000-00000000000a',
   exportId: '00000000-0000-4000-8000-00000000000b',
+  uploadId: '00000000-0000-4000-8000-00000000000c',
   guest: null,
 }
 
@@ -161,6 +170,10 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.registrationId
       case 'exportId':
         return f.exportId
+      case 'uploadId':
+        return f.uploadId
+      case 'partNumber':
+        return '1'
       case 'nodeKey':
         return 'r'
       case 'userId':

@@ -155,6 +155,8 @@ describe('viewing passes', () => {
           .returning('id')
           .executeTakeFirstOrThrow()
       ).id,
+      uploadId: (await owner.agent.post(`/api/projects/${projectId}/uploads`).send({ fileName: 'walk.xyz', sizeBytes: 100 }).expect(201)).body.upload.id,
+      partNumber: '1',
       userId: owner.user.id,
       nodeKey: 'r',
     }

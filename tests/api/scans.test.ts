@@ -7,6 +7,7 @@ import { sampleE57 } from '../unit/points/lib/e57Samples'
 import { writeE57 } from '../unit/points/lib/e57Writer'
 import { writeCompressedPcd } from '../unit/points/lib/pcdCompressed'
 import { waitForScan, upload } from '../utils/scans'
+import { sendParts, xyzFile } from '../utils/uploads'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 
 const FIXTURES = path.resolve('tests/fixtures')
@@ -24,6 +25,19 @@ afterAll(async () => {
 })
 
 describe('uploads', () => {
+  // The resumable path (tests/api/uploads.test.ts has its cases): parts straight to storage, then the same processing.
+  it('takes a resumable upload in parts to a ready scan', async () => {
+    const file = xyzFile(12_000) // 288,000 bytes: 5 parts of the test config's 64 KiB
+    const created = (await owner.agent.post(`/api/projects/${projectId}/uploads`).send({ fileName: 'long wall.xyz', sizeBytes: file.length }).expect(201)).body.upload
+    expect(created.partCount).toBe(5)
+    await sendParts(owner.agent, created, file, [1, 2, 3, 4, 5])
+    await owner.agent.post(`/api/uploads/${created.id}/complete`).expect(202)
+    const { scan } = await waitForScan(owner.agent, created.scanId)
+    expect(scan.status, scan.error ?? '').toBe('ready')
+    expect(scan).toMatchObject({ format: 'xyz', pointCount: 12_000, sizeBytes: file.length })
+    expect(scan.bounds).toEqual({ min: [0, 0.5, 0.25], max: [11.999, 0.5, 0.25] })
+  })
+
   it('takes a file, answers 202 queued, and processes it to ready with its stats', async () => {
     const res = await upload(owner.agent, projectId, Buffer.from('# x y z\n0 0 0\n1 0 0\n0 1 0\n1 1 0.5\n'), 'four.xyz').expect(202)
     expect(res.body.scan).toMatchObject({ status: 'queued', fileName: 'four.xyz', name: 'four', sizeBytes: 34 })
