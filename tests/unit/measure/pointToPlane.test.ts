@@ -58,7 +58,7 @@ describe('the point-to-plane distance', () => {
     expect(measurePointToPlane([0, 0, 1], [[0, 0, 0], [1, 0, 0]], 0.001, [0.001, 0.001])).toEqual({ ok: false, reason: 'too-few-points' })
   })
 
-  it.each([3, 5])('holds its uncertainty: U = 2u covers the true distance in about 95 %% of 2000 trials (%i plane points)', (m) => {
+  it.each([3, 5])('holds its uncertainty with %i plane points: U = 2u covers the true distance in about 95 in 100 of 2000 trials', (m) => {
     // Truth: a floor falling 1 in 50 along x; P 12 mm above it. Each point picked with 2 mm per coordinate.
     const sigma = 0.002
     const floorZ = (x: number, y: number) => -0.02 * x + 0.004 * y
