@@ -10,8 +10,10 @@ export default mergeConfig(
     test: {
       include: ['tests/**/*.test.ts'],
       globalSetup: ['tests/utils/global-setup.ts'],
-      testTimeout: 20_000,
-      hookTimeout: 60_000,
+      // Generous: two files run at once on two cores, and a CPU-heavy test (an orientation search, a browser
+      // step) may wait its turn; a test that needs longer says so itself.
+      testTimeout: 60_000,
+      hookTimeout: 120_000,
       pool: 'forks',
       // At least two files at once, even on two cores: most files wait on their servers, PostgreSQL and the
       // ingest worker more than they compute. Browser files take turns (tests/utils/browserLane.ts) and are
