@@ -23,7 +23,8 @@ class FolderMigrationProvider implements MigrationProvider {
 }
 
 export async function migrateToLatest(db: Kysely<any>, dir = migrationsDir): Promise<string[]> {
-  const migrator = new Migrator({ db, provider: new FolderMigrationProvider(dir) })
+  // Branches land in any order: a migration merged after a later-named one already ran is applied, not refused.
+  const migrator = new Migrator({ db, provider: new FolderMigrationProvider(dir), allowUnorderedMigrations: true })
   const { error, results } = await migrator.migrateToLatest()
   const failed = results?.find((r) => r.status === 'Error')
   if (error || failed) {
