@@ -119,6 +119,22 @@ async function orientObject(
   }
 }
 
+/** A section marker's slab, its anchors snapped as the section's own check snaps them. */
+async function sectionOfMarker(marker: CheckInput, ctx: CheckContext): Promise<SectionComputation> {
+  const snapped: Snapped[] = []
+  const spans = spansPlacements(marker.anchors)
+  for (let i = 0; i < marker.anchors.length; i++) snapped.push(await snapAnchor(ctx, marker.anchors[i]!, i, spans))
+  return computeSection(marker, snapped, ctx)
+}
+
+/** The free region around the first section's seed (no edge fits: the outline only), for the passage's figure. */
+async function openingOutline(uv: Float64Array, seed: [number, number], spacing: number, ctx: CheckContext, problem: string): Promise<number[]> {
+  const found = await compute.freeOpening(uv, seed, spacing)
+  stillWanted(ctx)
+  if (!found.ok) throw new Stop('invalid-geometry', problem)
+  return ring(found.outline)
+}
+
 /**
  * A section's stored points seen along the direction of travel in another section's frame (u v pairs): each
  * point slides along `dir` onto that plane, q = p - t dir with t = n . (p - o) / (n . dir).
@@ -146,23 +162,17 @@ function alongTravel(xyz: Float64Array, frame: SectionComputation['frame'], dir:
  * uncertainty and registration taken are the largest of them.
  */
 async function passageOf(first: SectionComputation, further: readonly string[], dir: readonly number[], cos: number, ctx: CheckContext): Promise<{ sec: SectionComputation; passage: number[][] }> {
-  const own = await openingOf(first, ctx)
-  if ('problem' in own) throw new Stop('invalid-geometry', `the first section of the passage has no free opening: ${own.problem}`)
-  const passage = [own.result.outline]
+  // Each section's own free region, for the figure: the first's as it is, the others' seen along the travel.
+  const seed = first.seedUv!
+  const passage = [await openingOutline(first.uv, seed, first.spacing, ctx, 'the first section of the passage has no free opening around its seed.')]
   const parts = [first.uv]
   let spacing = first.spacing, pointUncertainty = first.pointUncertainty, registrationRms = first.registrationRms
   for (const id of further) {
     const marker = await ctx.marker(id)
     if (!marker || marker.kind !== 'section') throw new Stop('invalid-geometry', 'a section of this passage was deleted.')
-    const snapped: Snapped[] = []
-    const spans = spansPlacements(marker.anchors)
-    for (let i = 0; i < marker.anchors.length; i++) snapped.push(await snapAnchor(ctx, marker.anchors[i]!, i, spans))
-    const s = await computeSection(marker, snapped, ctx)
+    const s = await sectionOfMarker(marker, ctx)
     const seen = alongTravel(s.xyz, first.frame, dir, cos)
-    const alone = await compute.freeOpening(seen, first.seedUv!, s.spacing)
-    stillWanted(ctx)
-    if (!alone.ok) throw new Stop('invalid-geometry', 'a further section of the passage has no free opening in line with the first one (seen along the direction of travel).')
-    passage.push(ring(alone.outline))
+    passage.push(await openingOutline(seen, seed, s.spacing, ctx, 'a further section of the passage has no free opening in line with the first one (seen along the direction of travel).'))
     parts.push(seen)
     spacing = Math.max(spacing, s.spacing)
     pointUncertainty = Math.max(pointUncertainty, s.pointUncertainty)
@@ -182,10 +192,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const sectionMarker = await ctx.marker(params.sectionMarkerId)
   if (!sectionMarker || sectionMarker.kind !== 'section') throw new Stop('invalid-geometry', 'the section of this clearance was deleted.')
   const { placement: object, scan: objectScan } = placementOf(ctx, params.objectInstanceId, 'the object')
-  const sectionAnchors: Snapped[] = []
-  const sectionSpans = spansPlacements(sectionMarker.anchors)
-  for (let i = 0; i < sectionMarker.anchors.length; i++) sectionAnchors.push(await snapAnchor(ctx, sectionMarker.anchors[i]!, i, sectionSpans))
-  const first = await computeSection(sectionMarker, sectionAnchors, ctx)
+  const first = await sectionOfMarker(sectionMarker, ctx)
   const n = first.frame.n
   let dir = params.direction ?? n
   const len = Math.hypot(...dir)
