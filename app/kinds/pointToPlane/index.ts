@@ -6,6 +6,7 @@ import { resultOf } from '@shared/schemas'
 import { anchorOf } from '@/components/viewer/markerPlacing'
 import { add } from '@/components/viewer/markerShapes'
 import type { Vec3 } from '@/viewer/types'
+import { clicksPanelProps } from '../clicksPanel'
 import type { KindDrawing, MarkerKindUi } from '../types'
 
 const planePoints = (o: Record<string, unknown>) => (typeof o.planePoints === 'number' ? o.planePoints : PLANE_POINTS.min)
@@ -53,18 +54,9 @@ export const pointToPlaneUi: MarkerKindUi<'point-to-plane'> = {
   panel: {
     component: defineAsyncComponent(() => import('./PointToPlanePanel.vue')),
     bind: ({ tools }, ui) => ({
-      title: ui.title,
-      icon: ui.icon,
-      toolKey: ui.tool.key,
-      hint: tools.hint,
-      preview: tools.preview,
-      count: tools.count,
-      needed: tools.needed,
+      panel: clicksPanelProps(tools, ui),
       planePoints: planePoints(tools.options),
-      saving: tools.saving,
-      error: tools.error,
       onPlanePoints: (n: number) => (tools.options.planePoints = n),
-      onCancel: tools.cancel,
     }),
   },
   draw(marker, points, colour) {
