@@ -10,7 +10,7 @@ export interface Fact {
   text: string
 }
 
-export const PM = '\u00b1'
+const PM = '\u00b1'
 
 /** A length and its expanded uncertainty: "1.204 m ± 3.1 mm". */
 export function withU(value: number, expanded: number | null, unit: LengthUnit): string {

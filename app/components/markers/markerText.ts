@@ -26,8 +26,6 @@ export function lookOf(state: AnyState): StateLook {
   return LOOKS[state]
 }
 
-/** The caution shown beside every clearance result (shared/format/cautions.ts). */
-export { CLEARANCE_CAUTION } from '@shared/format/cautions'
 
 /** What a value is, in words, for the card's caption. */
 export function valueCaption(marker: Marker): string {

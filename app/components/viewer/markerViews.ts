@@ -14,7 +14,8 @@ import type { MarkerLabelView, MarkerView } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
 import { BRICK, centroid } from './markerShapes'
 
-export { add, arcPoints, arcRadius, BRICK, planePoint, ringInPlane, sectionRectangle, sub, topOf } from './markerShapes'
+// The plane shapes, as the tests and older callers read them from here.
+export { arcPoints, BRICK, planePoint, ringInPlane, sectionRectangle } from './markerShapes'
 
 /** Marker kinds in the viewport (Spanmark's own), as the drawer's chips show them. */
 export const MARKER_KIND_COLOURS: Record<MarkerKind, string> = KIND_COLORS
