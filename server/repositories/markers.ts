@@ -244,8 +244,10 @@ export async function invalidateMarkersOfInstance(db: Conn, sceneId: string, ins
  * Markers measured through any of these markers (a clearance through its section: the kinds' `dependsOn`
  * params, shared/kinds) go back to pending.
  */
-export async function invalidateDependents(db: Conn, sceneId: string, markerIds: string[]): Promise<{ id: string; revision: number }[]> {
-  if (markerIds.length === 0 || DEPENDENT_PARAMS.length === 0) return []
+export async function invalidateDependents(db: Conn, sceneId: string, markerIds: string[], ofKind?: MarkerKind): Promise<{ id: string; revision: number }[]> {
+  // Only the params that can name a marker of this kind (none: no query at all, as for most edits).
+  const params = ofKind ? DEPENDENT_PARAMS.filter((d) => d.on === ofKind) : DEPENDENT_PARAMS
+  if (markerIds.length === 0 || params.length === 0) return []
   return db
     .updateTable('markers')
     .set((eb) => ({ revision: eb('revision', '+', 1), check_state: 'pending' as const }))
@@ -253,7 +255,7 @@ export async function invalidateDependents(db: Conn, sceneId: string, markerIds:
     .where((eb) =>
       eb.or(
         // A param naming the marker: one id, or a list holding it (a jsonb array contains a scalar it holds).
-        DEPENDENT_PARAMS.flatMap(({ kind, param }) => markerIds.map((id) => eb.and([eb('kind', '=', kind), sql<boolean>`coalesce(params->${param}, 'null'::jsonb) @> to_jsonb(${id}::text)`]))),
+        params.flatMap(({ kind, param }) => markerIds.map((id) => eb.and([eb('kind', '=', kind), sql<boolean>`coalesce(params->${param}, 'null'::jsonb) @> to_jsonb(${id}::text)`]))),
       ),
     )
     .returning(['id', 'revision'])

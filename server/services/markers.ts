@@ -80,7 +80,7 @@ export async function updateMarker(s: Services, markerId: string, body: MarkerUp
   if (geometry) {
     if (moved) await reopenSignedOff(s, row.scene_id, [markerId], options.action === 'restored' ? REOPEN_NOTES.restored : REOPEN_NOTES.geometry, userId, { live: false })
     await checker(s).checkNow(markerId)
-    await dependencyChanged(s, row.scene_id, row.kind, merged.label ?? row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId]), userId, 'changed')
+    await dependencyChanged(s, row.scene_id, row.kind, merged.label ?? row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId], row.kind), userId, 'changed')
   }
   await s.live.markerChanged(row.scene_id, markerId)
   return present(s, markerId)
@@ -165,7 +165,7 @@ export async function applyLiveMarker(s: Services, sceneId: string, markerId: st
       revision = updated?.revision ?? row.revision
       // The caller writes this marker's record entry next (with its review back to open).
       if (geometry) await reopenSignedOff(s, sceneId, [markerId], REOPEN_NOTES.geometry, userId, { live: false })
-      if (geometry) await dependencyChanged(s, sceneId, row.kind, row.label, await repo.invalidateDependents(s.db, sceneId, [markerId]), userId, 'changed')
+      if (geometry) await dependencyChanged(s, sceneId, row.kind, row.label, await repo.invalidateDependents(s.db, sceneId, [markerId], row.kind), userId, 'changed')
     } else {
       const checked = await checkMarkerCreate(s, actor, sceneId, { frame: 'placement', body: entry }, markerId)
       revision = (await repo.insertMarker(s.db, { id: markerId, sceneId, kind: checked.body.kind, label: entry.label, anchors: checked.anchors, params: checked.body.params, userId })).revision
@@ -194,7 +194,7 @@ export async function removeMarker(s: Services, markerId: string, actor: Actor, 
   await revisions.insertRevision(s.db, row, 'deleted', userId)
   await repo.deleteMarker(s.db, markerId)
   await touchScene(s.db, row.scene_id)
-  await dependencyChanged(s, row.scene_id, row.kind, row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId]), userId, 'deleted')
+  await dependencyChanged(s, row.scene_id, row.kind, row.label, await repo.invalidateDependents(s.db, row.scene_id, [markerId], row.kind), userId, 'deleted')
   if (!options.fromLive) await s.live.markerRemoved(row.scene_id, markerId)
 }
 

@@ -45,7 +45,15 @@ export type KindResult = z.infer<typeof KindResult>
 export type KindResultOf<K extends MarkerKind> = Extract<KindResult, { kind: K }>
 
 /** Markers of which kinds, through which params, depend on another marker (a clearance on its section). */
-export const DEPENDENT_PARAMS: readonly { kind: MarkerKind; param: string }[] = KINDS.flatMap((k) => ('dependsOn' in k ? k.dependsOn.map((param) => ({ kind: k.kind, param })) : []))
+export const DEPENDENT_PARAMS: readonly { kind: MarkerKind; param: string; on: string }[] = KINDS.flatMap((k) =>
+  'dependsOn' in k ? k.dependsOn.map((d) => ({ kind: k.kind, param: d.param, on: d.on })) : [],
+)
+
+/** Does this param (one id, or a list of ids) name the marker? */
+export function namesMarker(params: Record<string, unknown>, param: string, markerId: string): boolean {
+  const v = params[param]
+  return v === markerId || (Array.isArray(v) && v.includes(markerId))
+}
 
 /** Params, by any kind, that name placements (one id or a list). */
 export const PLACEMENT_PARAMS: readonly string[] = [...new Set(KINDS.flatMap((k) => ('placementParams' in k ? [...k.placementParams] : [])))]

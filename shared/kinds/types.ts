@@ -18,10 +18,11 @@ export interface KindSpec {
   /** The kind's part of a check: `z.object({ kind: z.literal(kind), ... })`. */
   result: z.ZodObject
   /**
-   * Params that name another marker of the scene this one is measured through (a clearance's section): when
-   * that marker changes or goes, this one is checked again (and reopened if it was signed off).
+   * Params that name another marker of the scene this one is measured through (a clearance's section), one id or
+   * a list, and the kind of marker they name (`on`): when that marker changes or goes, this one is checked again
+   * (and reopened if it was signed off).
    */
-  dependsOn?: readonly string[]
+  dependsOn?: readonly { param: string; on: string }[]
   /**
    * Params that name placements of the scene, one id or a list (a section's instanceIds, a clearance's
    * object): when such a placement moves or goes, the marker is checked again. Anchors' placements always count.

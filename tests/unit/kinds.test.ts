@@ -1,7 +1,7 @@
 // Marker kinds as modules: one list per side (shared/kinds, server/markers/kinds, app/kinds) that must name the
 // same kinds, and checks stored before the kinds were modules (one slot per kind) still read as today's.
 import { describe, expect, it } from 'vitest'
-import { Check, KINDS, MARKER_KINDS, MarkerCreateBody, kindSpec, resultOf } from '@shared/schemas'
+import { Check, DEPENDENT_PARAMS, KINDS, MARKER_KINDS, MarkerCreateBody, kindSpec, namesMarker, resultOf } from '@shared/schemas'
 import { kindCheck } from '../../server/markers/kinds'
 import { MARKER_KIND_UIS, kindOfTool, kindUi } from '@/kinds'
 
@@ -17,6 +17,14 @@ describe('the kind registries', () => {
     expect(MARKER_KIND_UIS.map((k) => k.kind)).toEqual([...MARKER_KINDS])
     const keys = MARKER_KIND_UIS.map((k) => k.tool.key)
     expect(new Set(keys).size).toBe(keys.length)
+  })
+
+  it('says which params name another marker, one id or a list, and of which kind', () => {
+    for (const d of DEPENDENT_PARAMS) expect(MARKER_KINDS).toContain(d.on)
+    expect(namesMarker({ sectionMarkerId: 'a' }, 'sectionMarkerId', 'a')).toBe(true)
+    expect(namesMarker({ alsoThrough: ['b', 'a'] }, 'alsoThrough', 'a')).toBe(true)
+    expect(namesMarker({ alsoThrough: ['b'] }, 'alsoThrough', 'a')).toBe(false)
+    expect(namesMarker({}, 'sectionMarkerId', 'a')).toBe(false)
   })
 
   it('refuses an unknown kind and names the kinds there are', () => {

@@ -120,6 +120,9 @@ export const clearance = defineKind({
   maxAnchors: 0,
   create: ClearanceCreate,
   result: ClearanceResult,
-  dependsOn: ['sectionMarkerId', 'alsoThrough'],
+  dependsOn: [
+    { param: 'sectionMarkerId', on: 'section' },
+    { param: 'alsoThrough', on: 'section' },
+  ],
   placementParams: ['objectInstanceId'],
 })
