@@ -43,10 +43,30 @@ export interface CheckContext {
   points: Pick<ScanIndexes, 'snap' | 'slab' | 'allPoints'>
   /** Another marker of the scene (a clearance's section). */
   marker(id: string): Promise<CheckInput | undefined>
+  /**
+   * An object's points as its trims, its members' scene cuts and its stray filter keep them (scene frame), with
+   * what each member adds to a budget; `around` (metres) also returns the points its trims took away within
+   * that distance of the kept points' bounding box (the floor it stands on). Throws `Stop` for an object that
+   * is gone, a member still processing, or more points than one check reads.
+   */
+  objectPoints(objectId: string, options?: { around?: number }): Promise<ObjectPointsRead>
   /** Stops work early when a newer revision made this check moot (latest wins). */
   cancelled?: () => boolean
   /** Stored points one check may read (config.limits.checkPoints); over it the check ends with a reason. */
   maxPoints?: number
+}
+
+export interface ObjectPointsRead {
+  name: string
+  /** Kept points, scene frame, x y z triples (in shared memory for the compute threads). */
+  points: Float64Array
+  /** With `around`: the points its trims took away near it, scene frame (else empty). */
+  around: Float64Array
+  members: { instanceId: string; scanName: string; registrationU: number; kept: number }[]
+  /** The largest per-scan point uncertainty and spacing of its members (metres). */
+  pointUncertainty: number
+  spacing: number
+  strayDropped: number
 }
 
 export class Stop extends Error {

@@ -1,3 +1,4 @@
+import { Stop } from './checkParts'
 import type pino from 'pino'
 import type { Check } from '@shared/schemas'
 import type { Db } from '../db'
@@ -285,6 +286,9 @@ export class MarkerChecker {
         const m = await findMarker(this.db, id)
         if (!m || m.scene_id !== sceneId) return undefined
         return { kind: m.kind, anchors: m.anchors as StoredAnchor[], params: m.params as Record<string, unknown>, revision: m.revision }
+      },
+      objectPoints: async () => {
+        throw new Stop('invalid-geometry', 'objects are read once the objects service lands')
       },
     }
   }

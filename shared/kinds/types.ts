@@ -28,6 +28,11 @@ export interface KindSpec {
    * object): when such a placement moves or goes, the marker is checked again. Anchors' placements always count.
    */
   placementParams?: readonly string[]
+  /**
+   * Params that name an object of the scene (shared/schemas/objects.ts): when the object, its members or their
+   * trims change, the marker is checked again (and reopened if it was signed off).
+   */
+  objectParams?: readonly string[]
 }
 
 /** Declares a kind, keeping its literal types (for the registry's unions). */

@@ -91,6 +91,9 @@ function sceneContext(): { ctx: CheckContext; section: CheckInput; clearance: Ch
     placements: new Map([[WALL_ID, { matrix: identity, scanId: 'wall', registrationU: 0 }], [BOX_ID, { matrix: identity, scanId: 'box', registrationU: 0 }]]),
     scans: new Map([['wall', { name: 'wall', status: 'ready', spacing: 0.02, pointUncertainty: 0.001 }], ['box', { name: 'box', status: 'ready', spacing: 0.02, pointUncertainty: 0.001 }]]),
     settings: { anchorTolerance: null, requiredMargin: 0.05 },
+    objectPoints: async () => {
+      throw new Error('this test names no object')
+    },
     points: {
       async snap(scanId, x, y, z) {
         const p = scans.get(scanId)!
