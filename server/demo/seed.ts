@@ -47,8 +47,8 @@ export async function seedDemo(s: Services): Promise<boolean> {
     }
   }
   // The scans are still being processed; their placements are written directly (the API places only
-  // ready scans). Station A stands where it stood; B only roughly, to be aligned; the chest waits in the
-  // yard in front of the door.
+  // ready scans). Every station stands where it stood but B, only roughly placed, to be aligned; the chest
+  // waits on its trolley in the yard to the right of the door.
   const { id: sceneId } = await insertScene(s.db, projectId, DEMO_SCENE.name, measurerId)
   const instanceIds: Record<string, string> = {}
   for (const [i, p] of DEMO_SCENE.placements.entries()) {
@@ -108,7 +108,7 @@ async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, 
     anchors: [local(-halfWidth - 0.3, 0, 1.0), local(halfWidth + 0.3, 0, 1.0)],
     params: { plane: 'two-points', thickness: 0.4, opening: true },
   })
-  const chest = instanceIds['chart-chest.ply']!
+  const chest = instanceIds['chart-chest-front.ply']!
   await add({ kind: 'clearance', label: 'chest upright through the door', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section, maxTurnDegrees: 0 } })
   await add({ kind: 'clearance', label: 'chest, any turn', anchors: [], params: { objectInstanceId: chest, sectionMarkerId: section } })
   // The clear width across the two stations: A's right jamb to B's left jamb (each sees only the far one, at

@@ -1,25 +1,36 @@
 import { rotationZ } from '@shared/geometry/rigidTransform'
 import { writeBinaryPly } from '../../points/writers/plyWriter'
-import { CHEST, chestSurfaces, doorSurfaces } from './scene'
-import { createRandom, gaussian, localPoint, rangeSigma, sweepStation, type Random, type Reading, type StationPose } from './stations'
+import type { Surface } from './raycast'
+import { CHEST, TROLLEY, yardSurfaces } from './scene'
+import { createRandom, gaussian, localPoint, rangeSigma, sweepStation, type MixedPixels, type Random, type Reading, type StationPose } from './stations'
 
 /**
- * The demo's three scans, made from the invented scene with seeded noise so every run gives the same
- * files: station A of the loading door (binary PLY with intensity), station B of it (a station log with
- * five shots a reading) and the chest scanned on its own from four sides (binary PLY with colour). Each is
- * in its own station frame, as a scanner would deliver it.
+ * The demo's four scans, made from the invented yard with seeded noise so every run gives the same files:
+ * station A of the loading door (binary PLY with intensity; it also sees the chest on its trolley, to the
+ * right of the door), station B of it (a station log with five shots a reading), and the chest on its
+ * trolley from a front and a back station (binary PLY with colour), each seeing the floor round it. Each is
+ * in its own station frame, as a scanner would deliver it. A and the chest's stations have mixed pixels at
+ * edges (stations.ts, MixedPixels); B's log is left without them, as it was, for the alignment part of the demo.
  */
 export const STATION_A: StationPose = { position: [-1.8, -4.0, 1.5], headingDeg: 66 }
 export const STATION_B: StationPose = { position: [2.3, -3.4, 1.35], headingDeg: 112 }
+/** The chest's stations: from the yard (south-east of it: its front and east end) and from between it and the wall (its back and west end). */
+export const CHEST_FRONT: StationPose = { position: [3.16, -3.06, 1.3], headingDeg: 135 }
+export const CHEST_BACK: StationPose = { position: [0.3, -0.75, 1.2], headingDeg: -30 }
+
+/** Mixed pixels of the demo's phase-based units: a 3 mm beam, 0.3 mrad divergence, a quarter of edge readings. */
+const MIXED = { fraction: 0.25, exitDiameter: 0.003, divergence: 0.0003 } as const
 
 /** The demo scene: where each scan is placed (column-major rigid matrices, scene frame = the site's). */
 export const DEMO_SCENE = {
   name: 'West door and the chart chest',
+  /** Every station placed where it stood, but B (about 4 degrees and 20 cm off: aligning it is part of the story). */
   placements: [
     { fileName: 'west-door-station-A.ply', matrix: rotationZ(STATION_A.headingDeg, ...STATION_A.position) },
     // About 4 degrees and 20 cm from where station B stood: aligning it is part of the story.
     { fileName: 'west-door-station-B.log', matrix: rotationZ(STATION_B.headingDeg - 4, STATION_B.position[0] + 0.15, STATION_B.position[1] + 0.12, STATION_B.position[2]) },
-    { fileName: 'chart-chest.ply', matrix: rotationZ(0, 0, -1.6, 0) },
+    { fileName: 'chart-chest-front.ply', matrix: rotationZ(CHEST_FRONT.headingDeg, ...CHEST_FRONT.position) },
+    { fileName: 'chart-chest-back.ply', matrix: rotationZ(CHEST_BACK.headingDeg, ...CHEST_BACK.position) },
   ],
 }
 
@@ -29,8 +40,8 @@ export interface DemoScanFile {
   bytes: Buffer
 }
 
-function stationAPly(rng: Random): Buffer {
-  const readings = sweepStation(doorSurfaces(), STATION_A, { panFromDeg: -42, panToDeg: 42, tiltFromDeg: -32, tiltToDeg: 42, stepDeg: 0.12 })
+function stationAPly(yard: readonly Surface[], rng: Random): Buffer {
+  const readings = sweepStation(yard, STATION_A, { panFromDeg: -42, panToDeg: 42, tiltFromDeg: -32, tiltToDeg: 42, stepDeg: 0.12 }, { ...MIXED, random: rng })
   const hits = readings.filter((r): r is Reading & { range: number } => r.range !== null && r.range < 40)
   const positions = new Float64Array(hits.length * 3)
   const intensities = new Float32Array(hits.length)
@@ -42,8 +53,8 @@ function stationAPly(rng: Random): Buffer {
   return writeBinaryPly({ count: hits.length, positions, intensities }, ['Spanmark demo: loading door, station A (synthetic)'])
 }
 
-function stationBLog(rng: Random): Buffer {
-  const readings = sweepStation(doorSurfaces(), STATION_B, { panFromDeg: -40, panToDeg: 40, tiltFromDeg: -30, tiltToDeg: 40, stepDeg: 0.16 })
+function stationBLog(yard: readonly Surface[], rng: Random): Buffer {
+  const readings = sweepStation(yard, STATION_B, { panFromDeg: -40, panToDeg: 40, tiltFromDeg: -30, tiltToDeg: 40, stepDeg: 0.16 })
   const shots = 5
   const lines = [
     '# spanmark-station-log 1',
@@ -73,37 +84,37 @@ function stationBLog(rng: Random): Buffer {
   return Buffer.from(lines.join('\n') + '\n', 'utf8')
 }
 
-function chestPly(rng: Random): Buffer {
-  const surfaces = chestSurfaces()
-  const positions: number[] = []
-  const colors: number[] = []
-  const tmp = new Float64Array(3)
-  // Four stations around the chest at 2.4 m, their points brought into the chest's frame (already registered).
-  for (const [k, az] of [20, 110, 200, 290].entries()) {
-    const a = (az * Math.PI) / 180
-    const pose: StationPose = { position: [2.4 * Math.cos(a), 2.4 * Math.sin(a), 1.25 + 0.1 * k], headingDeg: az + 180 }
-    const readings = sweepStation(surfaces, pose, { panFromDeg: -22, panToDeg: 22, tiltFromDeg: -32, tiltToDeg: -2, stepDeg: 0.16 })
-    const ch = Math.cos((pose.headingDeg * Math.PI) / 180)
-    const sh = Math.sin((pose.headingDeg * Math.PI) / 180)
-    for (const r of readings) {
-      if (r.range === null) continue
-      localPoint(r.panDeg, r.tiltDeg, r.range + gaussian(rng) * rangeSigma(r.range, r.cosIncidence, 0.0012), tmp, 0)
-      positions.push(ch * tmp[0]! - sh * tmp[1]! + pose.position[0], sh * tmp[0]! + ch * tmp[1]! + pose.position[1], tmp[2]! + pose.position[2])
-      const grain = 1 + 0.12 * Math.sin(tmp[0]! * 90 + tmp[2]! * 7) + 0.05 * gaussian(rng)
-      colors.push(...r.color.map((c) => Math.max(0, Math.min(255, Math.round(c * grain)))))
-    }
-  }
-  return writeBinaryPly(
-    { count: positions.length / 3, positions: Float64Array.from(positions), colors: Uint8Array.from(colors) },
-    [`Spanmark demo: chart chest ${CHEST.length} x ${CHEST.depth} x ${CHEST.height} m (synthetic)`],
-  )
+/** One of the chest's stations: a short sweep down onto the chest and the floor round it, with colour. */
+function chestStationPly(yard: readonly Surface[], pose: StationPose, sweep: Parameters<typeof sweepStation>[2], which: string, rng: Random): Buffer {
+  const readings = sweepStation(yard, pose, sweep, { ...MIXED, random: rng })
+  const hits = readings.filter((r): r is Reading & { range: number } => r.range !== null && r.range < 40)
+  const positions = new Float64Array(hits.length * 3)
+  const colors = new Uint8Array(hits.length * 3)
+  hits.forEach((h, i) => {
+    localPoint(h.panDeg, h.tiltDeg, h.range + gaussian(rng) * rangeSigma(h.range, h.cosIncidence, 0.0012), positions, i * 3)
+    const grain = 1 + 0.12 * Math.sin(positions[i * 3]! * 90 + positions[i * 3 + 2]! * 7) + 0.05 * gaussian(rng)
+    for (let c = 0; c < 3; c++) colors[i * 3 + c] = Math.max(0, Math.min(255, Math.round(h.color[c]! * grain)))
+  })
+  return writeBinaryPly({ count: hits.length, positions, colors }, [
+    `Spanmark demo: chart chest ${CHEST.length} x ${CHEST.depth} x ${CHEST.height} m on a trolley ${TROLLEY.height} m high, ${which} station (synthetic)`,
+  ])
 }
 
 export function demoScanFiles(seed = 20261201): DemoScanFile[] {
   const rng = createRandom(seed)
+  const yard = yardSurfaces()
   return [
-    { fileName: 'west-door-station-A.ply', name: 'West loading door, station A', bytes: stationAPly(rng) },
-    { fileName: 'west-door-station-B.log', name: 'West loading door, station B (station log)', bytes: stationBLog(rng) },
-    { fileName: 'chart-chest.ply', name: 'Chart chest', bytes: chestPly(rng) },
+    { fileName: 'west-door-station-A.ply', name: 'West loading door, station A', bytes: stationAPly(yard, rng) },
+    { fileName: 'west-door-station-B.log', name: 'West loading door, station B (station log)', bytes: stationBLog(yard, rng) },
+    {
+      fileName: 'chart-chest-front.ply',
+      name: 'Chart chest, front station',
+      bytes: chestStationPly(yard, CHEST_FRONT, { panFromDeg: -26, panToDeg: 26, tiltFromDeg: -42, tiltToDeg: -4, stepDeg: 0.2 }, 'front', rng),
+    },
+    {
+      fileName: 'chart-chest-back.ply',
+      name: 'Chart chest, back station',
+      bytes: chestStationPly(yard, CHEST_BACK, { panFromDeg: -34, panToDeg: 34, tiltFromDeg: -56, tiltToDeg: -6, stepDeg: 0.25 }, 'back', rng),
+    },
   ]
 }
