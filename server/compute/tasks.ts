@@ -3,6 +3,8 @@ import { fittedMargin, fittedOpening, fittedOutline } from '@shared/measure/edge
 import { freeOpening } from '@shared/measure/opening'
 import { concaveOutline } from '@shared/measure/polygon'
 import { searchPassage, supportPoints } from '@shared/measure/orientation'
+import { strayPoints } from '@shared/measure/strayPoints'
+import { trimMask } from '@shared/measure/trims'
 
 /**
  * The tasks a compute worker thread runs: the heavy functions of shared/measure, by name. Each runs as it is
@@ -18,6 +20,8 @@ export const TASKS = {
   concaveOutline,
   supportPoints,
   searchPassage,
+  trimMask,
+  strayPoints,
 }
 
 export type Tasks = typeof TASKS

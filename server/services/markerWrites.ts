@@ -8,6 +8,7 @@ import * as repo from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import type { Services } from '../types'
 import { kindCheck } from '../markers/kinds'
+import { findObject } from '../repositories/objects'
 
 /**
  * The one set of checks every marker and placement write goes through, whichever door it came in by: the
@@ -36,11 +37,11 @@ export function invalid(field: string, message: string): HttpError {
   return new HttpError(400, ErrorCode.invalidInput, `body.${field}: ${message}`, field)
 }
 
-function needs(actor: Actor, right: Right): void {
+export function needs(actor: Actor, right: Right): void {
   if (!can(actor.role, right)) throw HttpError.forbidden(`Your role in this project (${actor.role}) does not allow this.`)
 }
 
-function fieldError(error: { issues: { path: PropertyKey[]; message: string }[] }): HttpError {
+export function fieldError(error: { issues: { path: PropertyKey[]; message: string }[] }): HttpError {
   const issue = error.issues[0]!
   return invalid(issue.path.map(String).join('.'), issue.message)
 }
@@ -71,6 +72,7 @@ export async function validateReferences(s: Services, sceneId: string, body: Mar
     sceneId,
     ...(markerId === undefined ? {} : { markerId }),
     hasPlacement: (id) => placements.has(id),
+    hasObject: async (id) => (await findObject(s.db, id))?.scene_id === sceneId,
     findMarker: (id) => repo.findMarkerCore(s.db, id),
     invalid,
   })
