@@ -107,7 +107,7 @@ it('seeds the demo project with its four scans, processed to ready', { timeout: 
   expect(hi[1]! - lo[1]!).toBeCloseTo(CHEST.depth, 1)
   expect(Math.abs(hi[2]! - (CHEST_AT[2] + TROLLEY.height + CHEST.height))).toBeLessThan(0.02)
   expect(lo[2]).toBeGreaterThanOrEqual(CHEST_AT[2] + FLOOR_CUT)
-  expect(trolley).toBeGreaterThan(50)
+  expect(trolley).toBeGreaterThan(20)
   // Through the door as it stands, on the floor: 40 mm a side, short of the story's 80 mm (it reads about 50 mm:
   // the clearance's own bias, the same as with the clean chest before); turned on end it passes.
   const upright = by['chest upright through the door']!.check

@@ -8,6 +8,7 @@ import { decodeTile } from '@shared/points/tileFormat'
 import { transformPoint } from '@shared/geometry/rigidTransform'
 import type { Scene } from '@shared/schemas'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
+import { CHEST, CHEST_AT, TROLLEY } from '../../server/demo/synth/scene'
 import { shot, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
 import type { TestServer } from '../utils/server'
@@ -90,8 +91,8 @@ describe('scene viewer', () => {
 
   it('reads back a known stored point when it is clicked', async () => {
     const { page } = await openScene('measurer')
-    // A stored point of the chest from its root tile, the one on the top face nearest the middle.
-    const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
+    // A stored point of the chest from its front station's root tile, the one on its top face nearest the middle.
+    const chest = scene.instances.find((i) => i.scanName === 'Chart chest, front station')!
     const agent = t.agent()
     await agent.post('/api/auth/sign-in').send({ email: DEMO_ACCOUNTS[1]!.email, password: DEMO_PASSWORD }).expect(200)
     const res = await agent.get(`/api/scans/${chest.scanId}/tiles/r`).buffer(true).parse((r, cb) => {
@@ -103,11 +104,10 @@ describe('scene viewer', () => {
     const tile = decodeTile(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength))
     let best = -1
     let bestScore = Infinity
+    const top = CHEST_AT[2] + TROLLEY.height + CHEST.height
     for (let i = 0; i < tile.count; i++) {
-      const x = tile.origin[0] + tile.positions[i * 3]!
-      const y = tile.origin[1] + tile.positions[i * 3 + 1]!
-      const z = tile.origin[2] + tile.positions[i * 3 + 2]!
-      const score = Math.hypot(x, y) + 10 * Math.abs(z - 0.85)
+      const [x, y, z] = transformPoint(chest.matrix, ...([0, 1, 2].map((a) => tile.origin[a]! + tile.positions[i * 3 + a]!) as [number, number, number]))
+      const score = Math.hypot(x - CHEST_AT[0], y - CHEST_AT[1]) + 10 * Math.abs(z - top)
       if (score < bestScore) (bestScore = score), (best = i)
     }
     const local = [0, 1, 2].map((a) => tile.origin[a]! + tile.positions[best * 3 + a]!) as [number, number, number]
@@ -135,7 +135,7 @@ describe('scene viewer', () => {
   // Two page loads of the whole scene in SwiftShader take 15-17 s on this 2-core machine: more than the default 20 s leaves under load.
   it('moves a placement through the form, and it stays moved after a reload', { timeout: 60_000 }, async () => {
     const { page } = await openScene('measurer')
-    const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
+    const chest = scene.instances.find((i) => i.scanName === 'Chart chest, front station')!
     await page.locator(`[data-testid="placement-row"][data-instance-id="${chest.id}"]`).getByTestId('placement-select').click()
     await page.getByTestId('placement-tx').fill('0.25')
     await page.getByTestId('placement-ty').fill('-0.9')
@@ -158,7 +158,7 @@ describe('scene viewer', () => {
 
   it('shows a mentor the placements read-only, and the API refuses the mentor a move', async () => {
     const { page } = await openScene('mentor')
-    const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
+    const chest = scene.instances.find((i) => i.scanName === 'Chart chest, front station')!
     await page.locator(`[data-testid="placement-row"][data-instance-id="${chest.id}"]`).getByTestId('placement-select').click()
     expect(await page.getByTestId('placement-save').count()).toBe(0)
     expect(await page.getByTestId('placement-add').count()).toBe(0)
