@@ -9,6 +9,7 @@ import type { Browser } from 'playwright-core'
 import type { Marker, Scene } from '@shared/schemas'
 import { formatWithUncertainty } from '@shared/format/units'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
+import { CHEST_OBJECT } from '../../server/demo/seed'
 import { DOOR } from '../../server/demo/synth/scene'
 import { shot, waitNonePending, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
@@ -94,12 +95,12 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   await expect.poll(() => page.getByTestId('marker-card').getAttribute('data-state')).toBe('off-scan')
   await shot(page, '40b-marker-off-scan')
 
-  // Clearance: the C tool, the chest through the seeded door section.
+  // Clearance: the C tool, the seeded object (the chest on its trolley, trimmed out of its stations) through
+  // the seeded door section.
   await page.keyboard.press('Escape')
   await page.keyboard.press('c')
   const section = markers.find((m) => m.label === 'west door, free opening')!
-  const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
-  await page.getByTestId('marker-clearance-object').selectOption(chest.id)
+  await page.getByTestId('marker-clearance-object').selectOption({ label: CHEST_OBJECT })
   await page.getByTestId('marker-clearance-section').selectOption(section.id)
   await expect.poll(() => page.getByTestId('marker-clearance-caution').innerText()).toMatch(/planning aid/i)
   await page.getByTestId('marker-clearance-check').click()
