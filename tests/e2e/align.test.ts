@@ -9,7 +9,7 @@ import type { Browser } from 'playwright-core'
 import type { Marker, Registration, Scene } from '@shared/schemas'
 import { invertRigid, multiplyRigid, rotationZ, transformPoint } from '@shared/geometry/rigidTransform'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../../server/demo/accounts'
-import { STATION_B } from '../../server/demo/synth/demoScans'
+import { STATION_A, STATION_B } from '../../server/demo/synth/demoScans'
 import { DOOR, TARGETS } from '../../server/demo/synth/scene'
 import { shot, waitNonePending, watchConsole } from '../utils/browser'
 import { startDemoScene } from '../utils/demoScene'
@@ -78,12 +78,19 @@ it('aligns station B onto station A by the sphere targets, refines, accepts, and
   expect(await page.getByTestId('align-target-sphere').isChecked()).toBe(true)
 
   // Each target where it shows: on B as roughly placed (its true pose is the generator's), on A where it stood.
+  // Clicked in the middle of the cap each station saw (a click at the centre's image can land on the cap's rim,
+  // where the 1.5 R gather of the sphere fit takes in the post under the yard target).
   const onB = multiplyRigid(b.matrix, invertRigid(rotationZ(STATION_B.headingDeg, ...STATION_B.position)))
   const pick = (p: [number, number, number]) => page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.markers.pick(x, y, z), p)
+  const facing = (c: readonly number[], from: readonly number[]) => {
+    const d = [0, 1, 2].map((k) => from[k]! - c[k]!)
+    const len = Math.hypot(...d)
+    return c.map((v, k) => v + (TARGETS[0]!.radius * d[k]!) / len) as [number, number, number]
+  }
   for (const [i, target] of TARGETS.entries()) {
-    const m = await pick(transformPoint(onB, ...target.centre))
+    const m = await pick(transformPoint(onB, ...facing(target.centre, STATION_B.position)))
     expect(m?.instanceId, `target ${i + 1} on B`).toBe(b.id)
-    const h = await pick([...target.centre])
+    const h = await pick(facing(target.centre, STATION_A.position))
     expect(h?.instanceId, `target ${i + 1} on A`).toBe(a.id)
     await expect.poll(async () => (await hook()).complete).toBe(i + 1)
   }
