@@ -3,6 +3,7 @@ import { fittedMargin, fittedOpening, fittedOutline } from '@shared/measure/edge
 import { freeOpening } from '@shared/measure/opening'
 import { concaveOutline } from '@shared/measure/polygon'
 import { searchPassage, supportPoints } from '@shared/measure/orientation'
+import { measureSizes } from '@shared/measure/sizes'
 
 /**
  * The tasks a compute worker thread runs: the heavy functions of shared/measure, by name. Each runs as it is
@@ -18,6 +19,7 @@ export const TASKS = {
   concaveOutline,
   supportPoints,
   searchPassage,
+  measureSizes,
 }
 
 export type Tasks = typeof TASKS

@@ -3,6 +3,7 @@ import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import { InstanceUpdateBody, MarkerCreateBody, type Anchor } from '@shared/schemas'
 import { Id } from '@shared/schemas/common'
 import { ErrorCode } from '@shared/schemas/common'
+import { sql } from 'kysely'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
@@ -62,6 +63,15 @@ function toScene(anchors: readonly repo.StoredAnchor[], placements: Placements):
   })
 }
 
+/**
+ * Is there an object with this id in the scene? (A size marker names one.) It reads the `scene_objects` table
+ * (`id`, `scene_id`) of the objects API by a plain query, the table not being in the typed schema of this branch.
+ */
+async function objectInScene(s: Services, sceneId: string, objectId: string): Promise<boolean> {
+  const found = await sql<{ one: number }>`select 1 as one from scene_objects where id = ${objectId} and scene_id = ${sceneId}`.execute(s.db)
+  return found.rows.length > 0
+}
+
 /** Placements and markers named by the marker (its anchors, and what its kind's params name) must be in its scene. */
 export async function validateReferences(s: Services, sceneId: string, body: MarkerCreateBody, placements: Placements, markerId?: string): Promise<void> {
   body.anchors.forEach((a, i) => {
@@ -71,6 +81,7 @@ export async function validateReferences(s: Services, sceneId: string, body: Mar
     sceneId,
     ...(markerId === undefined ? {} : { markerId }),
     hasPlacement: (id) => placements.has(id),
+    hasObject: (id) => objectInScene(s, sceneId, id),
     findMarker: (id) => repo.findMarkerCore(s.db, id),
     invalid,
   })

@@ -42,8 +42,12 @@ export interface SizeMember {
   name: string
   /** Per-axis standard uncertainty of the member's registration, metres (0 for the reference). */
   registrationU: number
-  /** How many of `points` are this member's, in order (the members' points are concatenated). */
-  count: number
+  /**
+   * How many of `points` are this member's, in order (the members' points are concatenated). Left out (for
+   * every member) when the points cannot be told apart by member: each face then carries the largest
+   * member's registration, the faces taken independent (the larger, safe side).
+   */
+  count?: number
 }
 
 export interface SizeOptions {
@@ -121,8 +125,8 @@ function memberIndex(count: number, members: readonly SizeMember[]): Uint16Array
   const out = new Uint16Array(count)
   let at = 0
   members.forEach((m, i) => {
-    out.fill(i, at, Math.min(count, at + m.count))
-    at += m.count
+    out.fill(i, at, Math.min(count, at + (m.count ?? 0)))
+    at += m.count ?? 0
   })
   return out
 }
@@ -265,8 +269,11 @@ export function measureSizes(points: Float64Array, around: Float64Array, o: Size
   if (n < MIN_POINTS) return { ok: false, reason: 'too-few-points', detail: `the object has ${n} points; at least ${MIN_POINTS} are needed.` }
   if (!(Number.isFinite(o.sigma) && o.sigma >= 0 && Number.isFinite(o.spacing) && o.spacing > 0)) return { ok: false, reason: 'not-finite', detail: 'the point uncertainty or spacing is not a positive number.' }
   for (let i = 0; i < 3 * n; i++) if (!Number.isFinite(points[i]!)) return { ok: false, reason: 'not-finite', detail: `point ${Math.floor(i / 3) + 1} has a coordinate that is not a number.` }
-  const counted = o.members.reduce((k, m) => k + m.count, 0)
-  if (counted !== n || o.members.some((m) => !(Number.isFinite(m.registrationU) && m.registrationU >= 0))) return { ok: false, reason: 'members-mismatch', detail: `the members' point counts add up to ${counted}, not ${n}, or a registration u is not a number.` }
+  const attributed = o.members.every((m) => m.count !== undefined)
+  const counted = o.members.reduce((k, m) => k + (m.count ?? 0), 0)
+  if (o.members.length === 0 || (attributed && counted !== n)) return { ok: false, reason: 'members-mismatch', detail: `the members' point counts add up to ${counted}, not the ${n} points given.` }
+  if (o.members.some((m) => !(Number.isFinite(m.registrationU) && m.registrationU >= 0))) return { ok: false, reason: 'members-mismatch', detail: "a member's registration u is not a non-negative number." }
+  const worstU = Math.max(0, ...o.members.map((m) => m.registrationU))
   const who = memberIndex(n, o.members)
   const M = o.members.length
   const notes: string[] = []
@@ -376,15 +383,12 @@ export function measureSizes(points: Float64Array, around: Float64Array, o: Size
     const lever = det > 0 ? (syy * dx * dx - 2 * sxy * dx * dy + sxx * dy * dy) / det : 0
     const sFloor = Math.max(o.sigma, fit.rms)
     bottomParts = [{ name: 'floor fit', u: sFloor * Math.sqrt(1 / indices.length + lever) }]
-    if (o.aroundCounts && o.aroundCounts.length === M && o.aroundCounts.reduce((a, b) => a + b, 0) === around.length / 3) {
+    if (attributed && o.aroundCounts && o.aroundCounts.length === M && o.aroundCounts.reduce((a, b) => a + b, 0) === around.length / 3) {
       const aroundWho = memberIndex(around.length / 3, o.members.map((m, i) => ({ ...m, count: o.aroundCounts![i]! })))
       const counts = new Array<number>(M).fill(0)
       for (const k of indices) counts[aroundWho[k]!]!++
       bottomWeights = counts.map((c) => c / indices.length)
-    } else {
-      const worst = Math.max(0, ...o.members.map((m) => m.registrationU))
-      if (worst > 0) bottomParts.push({ name: 'registration (floor, any member)', u: worst })
-    }
+    } else if (attributed && worstU > 0) bottomParts.push({ name: 'registration (floor, any member)', u: worstU })
     floorOut = { found: true, plane: { point: fit.centroid.map(r6) as [number, number, number], normal: fit.normal.map(r6) as [number, number, number], rms: fit.rms, count: indices.length } }
   } else {
     const under = fitFace(inner, innerWho, M, [0, zMin], [0, -1], halfTop, o)
@@ -398,12 +402,15 @@ export function measureSizes(points: Float64Array, around: Float64Array, o: Size
       // The lowest point lies up to about three sigmas below the surface it samples (edges.ts): a rectangular
       // half-width of 3 sigma, plus what a trim may have cut off is not known.
       bottomParts = [{ name: 'bottom at the lowest point', u: (3 * o.sigma) / Math.sqrt(3) }]
+      if (attributed && worstU > 0) bottomParts.push({ name: 'registration (lowest point, any member)', u: worstU })
       notes.push('No floor was found under the object and its underside has no points: its height is measured from its lowest kept point, which a trim (a floor cut) may have raised.')
     }
   }
 
   const regParts = (a: readonly number[], b: readonly number[] | null): UncertaintyPart[] =>
-    o.members.flatMap((m, i) => {
+    !attributed
+      ? worstU > 0 ? [{ name: 'registration (members not told apart)', u: (b ? Math.SQRT2 : 1) * worstU }] : []
+      : o.members.flatMap((m, i) => {
       const w = Math.abs((a[i] ?? 0) - (b ? (b[i] ?? 0) : 0))
       return m.registrationU > 0 && w > 0 ? [{ name: `registration (${m.name})`, u: w * m.registrationU }] : []
     })
@@ -413,7 +420,8 @@ export function measureSizes(points: Float64Array, around: Float64Array, o: Size
   }
   const uValue = sizeOf(uSize, [{ name: 'face fits', u: Math.hypot(F.uPlus.u, F.uMinus.u) }, ...regParts(F.uPlus.weights, F.uMinus.weights)])
   const vValue = sizeOf(vSize, [{ name: 'face fits', u: Math.hypot(F.vPlus.u, F.vMinus.u) }, ...regParts(F.vPlus.weights, F.vMinus.weights)])
-  const topWithBottom = bottomWeights ? regParts(top.weights, bottomWeights) : regParts(top.weights, null)
+  // Unattributed points: the top and the bottom each carry the largest registration, independent (regParts' sqrt 2).
+  const topWithBottom = regParts(top.weights, bottomWeights ?? (attributed ? null : []))
   const height = sizeOf(top.at - bottomAt, [{ name: 'top fit', u: top.u }, ...bottomParts, ...topWithBottom])
   if (!uValue || !vValue || !height) return { ok: false, reason: 'not-finite', detail: 'a size or its uncertainty is not a number.' }
 

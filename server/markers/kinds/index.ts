@@ -5,6 +5,7 @@ import { clearance } from './clearance'
 import { distance } from './distance'
 import { pointToPlane } from './pointToPlane'
 import { section } from './section'
+import { size } from './size'
 
 /**
  * The server's side of each marker kind: its check. A kind's check gets the check frame (`base`: state,
@@ -27,6 +28,8 @@ export interface ReferenceContext {
   /** The marker being changed (undefined for a new one): it may not name itself. */
   markerId?: string
   hasPlacement(id: string): boolean
+  /** Is there an object (shared/schemas/objects.ts) with this id in the marker's scene? */
+  hasObject(id: string): boolean | Promise<boolean>
   findMarker(id: string): Promise<{ id: string; scene_id: string; kind: string; params: unknown } | undefined>
   invalid(field: string, message: string): Error
 }
@@ -37,6 +40,7 @@ const KIND_CHECKS: Record<MarkerKind, KindCheck> = {
   section,
   clearance,
   'point-to-plane': pointToPlane,
+  size,
 }
 
 export function kindCheck(kind: MarkerKind): KindCheck {
