@@ -12,6 +12,7 @@ import { runOctreeBench } from './octree'
 import { formatPoolBench, runPoolBench } from './pool'
 import { formatParseBench, runParseBench } from './parse'
 import { formatRegistrationBench, formatRegistrationServiceBench, runRegistrationBench, runRegistrationServiceBench } from './registration'
+import { formatTrimBench, runTrimBench } from './trims'
 import { formatUploadBench, runUploadBench } from './upload'
 import { formatViewerBench, runViewerBench } from './viewer'
 
@@ -24,7 +25,7 @@ function sizes(argv: string[]): number[] {
 const s = sizes(process.argv.slice(2))
 /**
  * `--only parse,markers` runs some sections (names: parse, e57, octree, ingest, upload, export, viewer, markers, pool, live, liveLimits, cluster,
- * registration, edges). The cluster bench takes `--cluster-seconds 60`, `--cluster-clients 200`, `--cluster-scenes 10`,
+ * registration, edges, trims). The cluster bench takes `--cluster-seconds 60`, `--cluster-clients 200`, `--cluster-scenes 10`,
  * `--cluster-edit-ms 2000`, `--cluster-rest-seconds 20`, `--cluster-rest-loops 8`.
  */
 const onlyAt = process.argv.indexOf('--only')
@@ -68,6 +69,7 @@ if (wanted('registration')) {
 }
 
 if (wanted('edges')) section('Edges under noise: coverage of U (k = 2) over 200 fixed-seed trials per level (goal >= 91 %)', formatEdgeBench(runEdgeBench(undefined, undefined, log)))
+if (wanted('trims')) section('Trims and stray points (target: a 1 M-point capture in a few seconds each, one core)', formatTrimBench(runTrimBench([1e6], log)))
 
 // Every section has printed: leave now rather than wait on handles a bench left open (the live bench's run
 // did not end by itself once, after its figures were out; see the closing note of the live issue).

@@ -84,6 +84,12 @@ export interface LiveSync {
   markerRemoved(sceneId: string, markerId: string): Promise<void>
   instanceChanged(sceneId: string, instanceId: string): Promise<void>
   instanceRemoved(sceneId: string, instanceId: string): Promise<void>
+  /** An object or a trim written through the API (services/objects.ts): its work-document entry follows. */
+  objectChanged(sceneId: string, objectId: string): Promise<void>
+  /** The object's entry goes, and its trims' (`trimIds`: they went with it in PostgreSQL). */
+  objectRemoved(sceneId: string, objectId: string, trimIds: readonly string[]): Promise<void>
+  trimChanged(sceneId: string, trimId: string): Promise<void>
+  trimRemoved(sceneId: string, trimId: string): Promise<void>
   /** Writes the marker's record-document entry (its check, review and comments summary) from PostgreSQL. */
   checkStored(sceneId: string, markerId: string): Promise<void>
   /** A viewing pass was revoked or its guest left: its open sockets close at once (CLOSE_CODES.forbidden). */

@@ -1,7 +1,7 @@
 import { isDeepStrictEqual } from 'node:util'
 import type { z } from 'zod'
 import { can } from '@shared/auth/roles'
-import { DOCUMENT_VERSION, LiveInstance, LiveMarker, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
+import { DOCUMENT_VERSION, LiveInstance, LiveMarker, LiveObject, LiveTrim, RECORD_MAPS, WORK_MAPS, type LiveRecord } from '@shared/collab/documents'
 import { LIVE_OPERATIONS, liveOperationOf, type LiveCheckedChangeName } from '@shared/collab/operations'
 import { Id } from '@shared/schemas/common'
 import { hashSecret } from '../auth/tokens'
@@ -11,6 +11,8 @@ import { findInstance, listInstances, type InstanceRow } from '../repositories/s
 import * as markers from '../services/markers'
 import { checkMarkerCreate, checkMarkerDelete, checkMarkerUpdate, checkPlacementEdit, SERVER_ACTOR, type Actor } from '../services/markerWrites'
 import { editInstance } from '../services/scenes'
+import * as objects from '../services/objects'
+import { findObject, findTrim, listObjects, listTrimsOfScene, type ObjectRow, type TrimRow } from '../repositories/objects'
 import { commentSummaryOf, parseStoredCheck, reviewOf } from '../services/mappers'
 import type { LiveSync, Services } from '../types'
 import type { ConnectionRegistry } from './connections'
@@ -29,6 +31,14 @@ export function liveMarkerOf(row: MarkerWithPeopleRow): LiveMarker {
 
 export function liveInstanceOf(row: InstanceRow): LiveInstance {
   return { scanId: row.scan_id, matrix: row.matrix, visible: row.visible, color: row.color }
+}
+
+export function liveObjectOf(row: ObjectRow): LiveObject {
+  return { name: row.name, members: row.members, stray: row.stray }
+}
+
+export function liveTrimOf(row: TrimRow): LiveTrim {
+  return { instanceId: row.instance_id, objectId: row.object_id, mode: row.mode, label: row.label, shape: row.shape }
 }
 
 function recordOf(row: MarkerWithPeopleRow): LiveRecord {
@@ -94,7 +104,7 @@ export class LiveDocumentsSync implements LiveSync {
       const action = change.before === undefined ? (change.after === undefined ? null : 'add') : change.after === undefined ? 'delete' : 'update'
       const name = liveOperationOf(room.kind, change.root, action ?? 'add')
       const op = LIVE_OPERATIONS[name]
-      const what = change.root === WORK_MAPS.instances ? 'placement' : change.root === WORK_MAPS.markers ? 'marker' : change.root
+      const what = change.root === WORK_MAPS.instances ? 'placement' : change.root === WORK_MAPS.markers ? 'marker' : change.root === WORK_MAPS.objects ? 'object' : change.root === WORK_MAPS.trims ? 'trim' : change.root
       const subject = change.key === null ? what : `${what} ${change.key}`
       if (op.right === null || !can(conn.role, op.right)) throw new LiveRefusal('readOnly', `${subject}: your role (${conn.role}) does not allow this`)
       if ('refused' in op) throw new LiveRefusal('refused', `${subject}: ${op.refused}`)
@@ -116,11 +126,13 @@ export class LiveDocumentsSync implements LiveSync {
     if (meta.get('version') !== undefined) return this.reconcile(room)
     const db = this.services.db
     if (room.kind === 'work') {
-      const [rows, instances] = await Promise.all([listMarkers(db, room.sceneId), listInstances(db, room.sceneId)])
+      const [rows, instances, objectRows, trimRows] = await Promise.all([listMarkers(db, room.sceneId), listInstances(db, room.sceneId), listObjects(db, room.sceneId), listTrimsOfScene(db, room.sceneId)])
       room.transact((doc) => {
         const m = doc.getMap<LiveMarker>(WORK_MAPS.markers), i = doc.getMap<LiveInstance>(WORK_MAPS.instances)
         for (const row of rows) m.set(row.id, liveMarkerOf(row))
         for (const row of instances) i.set(row.id, liveInstanceOf(row))
+        for (const row of objectRows) doc.getMap<LiveObject>(WORK_MAPS.objects).set(row.id, liveObjectOf(row))
+        for (const row of trimRows) doc.getMap<LiveTrim>(WORK_MAPS.trims).set(row.id, liveTrimOf(row))
         doc.getMap<number>(WORK_MAPS.meta).set('version', DOCUMENT_VERSION)
       })
     } else {
@@ -155,6 +167,39 @@ export class LiveDocumentsSync implements LiveSync {
     }
     const missing = [...rows.values()].filter((r) => !map.has(r.id))
     if (missing.length) room.transact((doc) => missing.forEach((r) => doc.getMap(WORK_MAPS.markers).set(r.id, liveMarkerOf(r))))
+    await this.reconcileObjects(room)
+  }
+
+  /**
+   * Objects and trims as markers are: entries only in the document go through the service (refused ones
+   * leave), rows only in PostgreSQL go into the document, entries that differ are written as PostgreSQL has them.
+   */
+  private async reconcileObjects(room: Room): Promise<void> {
+    const s = this.services
+    const objectMap = room.doc.getMap<unknown>(WORK_MAPS.objects), trimMap = room.doc.getMap<unknown>(WORK_MAPS.trims)
+    let objectRows = new Map((await listObjects(s.db, room.sceneId)).map((r) => [r.id, r]))
+    for (const [id, value] of objectMap.entries()) {
+      if (objectRows.has(id)) continue
+      const ok = await objects.createObject(s, room.sceneId, value, SERVER_ACTOR, { id, fromLive: true, sceneId: room.sceneId }).then(() => true, () => false)
+      if (!ok) room.transact((doc) => doc.getMap(WORK_MAPS.objects).delete(id))
+    }
+    objectRows = new Map((await listObjects(s.db, room.sceneId)).map((r) => [r.id, r]))
+    const trimRows = new Map((await listTrimsOfScene(s.db, room.sceneId)).map((r) => [r.id, r]))
+    for (const [id, value] of trimMap.entries()) {
+      if (trimRows.has(id)) continue
+      const parsed = LiveTrim.safeParse(value)
+      const ok = parsed.success && (await objects.createTrim(s, room.sceneId, parsed.data, SERVER_ACTOR, 'placement', { id, fromLive: true }).then(() => true, () => false))
+      if (!ok) room.transact((doc) => doc.getMap(WORK_MAPS.trims).delete(id))
+    }
+    const trimsNow = await listTrimsOfScene(s.db, room.sceneId)
+    room.transact((doc) => {
+      const o = doc.getMap(WORK_MAPS.objects), t = doc.getMap(WORK_MAPS.trims)
+      for (const [id, row] of objectRows) if (!isDeepStrictEqual(o.get(id), liveObjectOf(row))) o.set(id, liveObjectOf(row))
+      for (const id of [...o.keys()]) if (!objectRows.has(id)) o.delete(id)
+      const ids = new Set(trimsNow.map((r) => r.id))
+      for (const row of trimsNow) if (!isDeepStrictEqual(t.get(row.id), liveTrimOf(row))) t.set(row.id, liveTrimOf(row))
+      for (const id of [...t.keys()]) if (!ids.has(id)) t.delete(id)
+    })
   }
 
   private async reconcileRecord(room: Room): Promise<void> {
@@ -191,6 +236,29 @@ export class LiveDocumentsSync implements LiveSync {
 
   async instanceRemoved(sceneId: string, instanceId: string): Promise<void> {
     ;(await this.room(sceneId, 'work')).transact((doc) => doc.getMap(WORK_MAPS.instances).delete(instanceId))
+  }
+
+  async objectChanged(sceneId: string, objectId: string): Promise<void> {
+    const row = await findObject(this.services.db, objectId)
+    if (!row) return
+    ;(await this.room(sceneId, 'work')).transact((doc) => doc.getMap(WORK_MAPS.objects).set(objectId, liveObjectOf(row)))
+  }
+
+  async objectRemoved(sceneId: string, objectId: string, trimIds: readonly string[]): Promise<void> {
+    ;(await this.room(sceneId, 'work')).transact((doc) => {
+      doc.getMap(WORK_MAPS.objects).delete(objectId)
+      for (const id of trimIds) doc.getMap(WORK_MAPS.trims).delete(id)
+    })
+  }
+
+  async trimChanged(sceneId: string, trimId: string): Promise<void> {
+    const row = await findTrim(this.services.db, trimId)
+    if (!row) return
+    ;(await this.room(sceneId, 'work')).transact((doc) => doc.getMap(WORK_MAPS.trims).set(trimId, liveTrimOf(row)))
+  }
+
+  async trimRemoved(sceneId: string, trimId: string): Promise<void> {
+    ;(await this.room(sceneId, 'work')).transact((doc) => doc.getMap(WORK_MAPS.trims).delete(trimId))
   }
 
   /** Writes the marker's record entry as PostgreSQL holds it: a stored check, a review, a comment. */
@@ -233,6 +301,19 @@ export class LiveDocumentsSync implements LiveSync {
         )
       }
     })
+    for (const [root, apply] of [
+      [WORK_MAPS.objects, (id: string, value: unknown, conn: Connection) => this.applyObject(room, id, value, conn)],
+      [WORK_MAPS.trims, (id: string, value: unknown, conn: Connection) => this.applyTrim(room, id, value, conn)],
+    ] as const) {
+      const map = room.doc.getMap<unknown>(root)
+      map.observe((event, txn) => {
+        const conn = txn.origin as Connection | null
+        if (!conn || typeof conn !== 'object' || !('socket' in conn)) return
+        for (const [id, change] of event.changes.keys) {
+          void apply(id, change.action === 'delete' ? null : map.get(id), conn).catch((err) => this.services.log.error({ err, root, id }, 'a live object or trim change failed'))
+        }
+      })
+    }
     instanceMap.observe((event, txn) => {
       const conn = txn.origin as Connection | null
       if (!conn || typeof conn !== 'object' || !('socket' in conn)) return
@@ -269,6 +350,56 @@ export class LiveDocumentsSync implements LiveSync {
       else m.delete(markerId)
     })
     if (row && row.scene_id === room.sceneId) await this.checkStored(room.sceneId, markerId)
+  }
+
+  /** A writer's object entry through the objects service (checked again there); refused: put back. */
+  private async applyObject(room: Room, objectId: string, value: unknown, conn: Connection): Promise<void> {
+    const s = this.services
+    const options = { sceneId: room.sceneId, fromLive: true, id: objectId }
+    const write = async () => {
+      if (value === null) return objects.removeObject(s, objectId, actorOf(conn), options)
+      const entry = parseEntry(LiveObject, value)
+      if (await findObject(s.db, objectId)) await objects.updateObject(s, objectId, entry, actorOf(conn), options)
+      else await objects.createObject(s, room.sceneId, entry, actorOf(conn), options)
+    }
+    const refused = await write().then(
+      () => null,
+      (err: unknown) => (err instanceof HttpError ? err.message : Promise.reject(err)),
+    )
+    if (refused === null) return
+    s.log.info({ objectId, problem: refused }, 'a live object change was refused')
+    const row = await findObject(s.db, objectId)
+    room.transact((doc) => {
+      const m = doc.getMap(WORK_MAPS.objects)
+      if (row && row.scene_id === room.sceneId) m.set(objectId, liveObjectOf(row))
+      else m.delete(objectId)
+    })
+  }
+
+  /** A writer's trim entry (shape in the placement's frame) through the objects service; refused: put back. */
+  private async applyTrim(room: Room, trimId: string, value: unknown, conn: Connection): Promise<void> {
+    const s = this.services
+    const options = { sceneId: room.sceneId, fromLive: true, id: trimId }
+    const write = async () => {
+      if (value === null) return objects.removeTrim(s, trimId, actorOf(conn), options)
+      const entry = parseEntry(LiveTrim, value)
+      const before = await findTrim(s.db, trimId)
+      if (!before) return void (await objects.createTrim(s, room.sceneId, entry, actorOf(conn), 'placement', options))
+      if (before.instance_id !== entry.instanceId || before.object_id !== entry.objectId) throw new HttpError(400, 'invalid-input', 'a trim keeps its placement and its object; delete it and make a new one.', 'instanceId')
+      await objects.updateTrim(s, trimId, { mode: entry.mode, label: entry.label, shape: entry.shape }, actorOf(conn), { ...options, frame: 'placement' })
+    }
+    const refused = await write().then(
+      () => null,
+      (err: unknown) => (err instanceof HttpError ? err.message : Promise.reject(err)),
+    )
+    if (refused === null) return
+    s.log.info({ trimId, problem: refused }, 'a live trim change was refused')
+    const row = await findTrim(s.db, trimId)
+    room.transact((doc) => {
+      const m = doc.getMap(WORK_MAPS.trims)
+      if (row && row.scene_id === room.sceneId) m.set(trimId, liveTrimOf(row))
+      else m.delete(trimId)
+    })
   }
 
   private async applyInstance(room: Room, instanceId: string, value: unknown, conn: Connection): Promise<void> {
@@ -320,4 +451,20 @@ const CHANGE_CHECKS: Record<LiveCheckedChangeName, (s: Services, actor: Actor, s
   },
   markerDelete: (s, actor, sceneId, key) => checkMarkerDelete(s, actor, key, sceneId),
   placementMove: (s, actor, sceneId, key, after) => checkPlacementEdit(s, actor, key, parseEntry(LiveInstance, after), sceneId),
+  objectCreate: (s, actor, sceneId, key, after) => objects.prepareObjectCreate(s, actor, sceneId, parseEntry(LiveObject, after), key),
+  objectUpdate: async (s, actor, sceneId, key, after) => {
+    const entry = parseEntry(LiveObject, after)
+    if (!(await findObject(s.db, key))) return objects.prepareObjectCreate(s, actor, sceneId, entry, key)
+    return objects.prepareObjectUpdate(s, actor, key, entry, sceneId)
+  },
+  objectDelete: (s, actor, sceneId, key) => objects.prepareObjectDelete(s, actor, key, sceneId),
+  trimCreate: (s, actor, sceneId, key, after) => objects.prepareTrimCreate(s, actor, sceneId, parseEntry(LiveTrim, after), 'placement', key),
+  trimUpdate: async (s, actor, sceneId, key, after) => {
+    const entry = parseEntry(LiveTrim, after)
+    const before = await findTrim(s.db, key)
+    if (!before) return objects.prepareTrimCreate(s, actor, sceneId, entry, 'placement', key)
+    if (before.instance_id !== entry.instanceId || before.object_id !== entry.objectId) throw new HttpError(400, 'invalid-input', 'instanceId: a trim keeps its placement and its object; delete it and make a new one.', 'instanceId')
+    return objects.prepareTrimUpdate(s, actor, key, { mode: entry.mode, label: entry.label, shape: entry.shape }, 'placement', sceneId)
+  },
+  trimDelete: (s, actor, sceneId, key) => objects.prepareTrimDelete(s, actor, key, sceneId),
 }

@@ -3,6 +3,8 @@ import { fittedMargin, fittedOpening, fittedOutline } from '@shared/measure/edge
 import { freeOpening } from '@shared/measure/opening'
 import { concaveOutline } from '@shared/measure/polygon'
 import { searchPassage, supportPoints } from '@shared/measure/orientation'
+import { strayPoints } from '@shared/measure/strayPoints'
+import { trimMask } from '@shared/measure/trims'
 import { measureSizes } from '@shared/measure/sizes'
 
 /**
@@ -19,6 +21,8 @@ export const TASKS = {
   concaveOutline,
   supportPoints,
   searchPassage,
+  trimMask,
+  strayPoints,
   measureSizes,
 }
 

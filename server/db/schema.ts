@@ -438,7 +438,56 @@ export interface ServerProcessesTable {
   beat_at: Generated<Date>
 }
 
+export interface SceneObjectsTable {
+  id: Generated<string>
+  scene_id: string
+  name: string
+  /** StraySettings ({k, n}) or null. */
+  stray: Json<{ k: number; n: number } | null>
+  revision: Generated<number>
+  created_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
+export interface ObjectMembersTable {
+  object_id: string
+  instance_id: string
+  position: number
+}
+
+export interface TrimsTable {
+  id: Generated<string>
+  scene_id: string
+  instance_id: string
+  /** Null: a scene cut of the placement. */
+  object_id: string | null
+  mode: 'keep' | 'cut'
+  label: string | null
+  /** TrimShape in the placement's own frame. */
+  shape: Json<Record<string, unknown>>
+  revision: Generated<number>
+  created_by: string | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+
+export interface ObjectRevisionsTable {
+  id: Generated<string>
+  scene_id: string
+  object_id: string | null
+  trim_id: string | null
+  action: 'created' | 'edited' | 'deleted'
+  state: Json<Record<string, unknown>>
+  user_id: string | null
+  created_at: Timestamp
+}
+
 export interface Database {
+  scene_objects: SceneObjectsTable
+  object_members: ObjectMembersTable
+  trims: TrimsTable
+  object_revisions: ObjectRevisionsTable
   server_processes: ServerProcessesTable
   registrations: RegistrationsTable
   markers: MarkersTable

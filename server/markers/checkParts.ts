@@ -47,9 +47,10 @@ export interface CheckContext {
    * An object's points as its trims, its members' scene cuts and its stray filter keep them (scene frame), with
    * what each member adds to a budget; `around` (metres) also returns the points its trims took away within
    * that distance of the kept points' bounding box (the floor it stands on). Throws `Stop` for an object that
-   * is gone, a member still processing, or more points than one check reads.
+   * is gone, a member still processing, or more points than one check reads. `{ instanceId }`: a placement read
+   * as a one-member object with no trims of its own (an older clearance's object).
    */
-  objectPoints(objectId: string, options?: { around?: number }): Promise<ObjectPointsRead>
+  objectPoints(target: string | { instanceId: string }, options?: { around?: number }): Promise<ObjectPointsRead>
   /** Stops work early when a newer revision made this check moot (latest wins). */
   cancelled?: () => boolean
   /** Stored points one check may read (config.limits.checkPoints); over it the check ends with a reason. */
@@ -62,7 +63,7 @@ export interface ObjectPointsRead {
   points: Float64Array
   /** With `around`: the points its trims took away near it, scene frame (else empty). */
   around: Float64Array
-  members: { instanceId: string; scanName: string; registrationU: number; kept: number }[]
+  members: { instanceId: string; scanName: string; registrationU: number; stored: number; kept: number }[]
   /** The largest per-scan point uncertainty and spacing of its members (metres). */
   pointUncertainty: number
   spacing: number

@@ -1,4 +1,5 @@
 import { Stop } from './checkParts'
+import { readObjectPoints } from './objectPoints'
 import type pino from 'pino'
 import type { Check } from '@shared/schemas'
 import type { Db } from '../db'
@@ -287,8 +288,19 @@ export class MarkerChecker {
         if (!m || m.scene_id !== sceneId) return undefined
         return { kind: m.kind, anchors: m.anchors as StoredAnchor[], params: m.params as Record<string, unknown>, revision: m.revision }
       },
-      objectPoints: async () => {
-        throw new Stop('invalid-geometry', 'objects are read once the objects service lands')
+      objectPoints: async (target, options = {}) => {
+        const read = await readObjectPoints({ db: this.db, points: this.points }, sceneId, typeof target === 'string' ? { objectId: target } : target, { maxPoints: this.limits.checkPoints, ...options })
+        if ('problem' in read) throw new Stop(read.state, read.problem)
+        const memberScans = read.members.map((m) => scans.get(m.scanId))
+        return {
+          name: read.name,
+          points: read.points,
+          around: read.around,
+          members: read.members.map((m) => ({ instanceId: m.instanceId, scanName: m.scanName, registrationU: placements.get(m.instanceId)?.registrationU ?? 0, stored: m.stored, kept: m.kept })),
+          pointUncertainty: Math.max(0, ...memberScans.map((s) => s?.pointUncertainty ?? 0)),
+          spacing: Math.max(0, ...memberScans.map((s) => s?.spacing ?? 0)),
+          strayDropped: read.stray?.dropped ?? 0,
+        }
       },
     }
   }

@@ -14,6 +14,7 @@ import { projectOfUploadToken, findLiveUploadToken, markUploadTokenUsed } from '
 import { projectOfInvite } from '../repositories/invites'
 import { projectOfPass } from '../repositories/passes'
 import { projectOfExport } from '../repositories/exports'
+import { projectOfObject, projectOfTrim } from '../repositories/objects'
 import type { Membership, RigKey } from '../routes/registry'
 import type { Guest } from '../types'
 
@@ -37,6 +38,8 @@ const projectOf: Record<string, (db: Conn, id: string) => Promise<string | null>
   commentId: async (db, id) => (await projectOfComment(db, id))?.project_id ?? null,
   registrationId: async (db, id) => (await projectOfRegistration(db, id))?.project_id ?? null,
   exportId: async (db, id) => (await projectOfExport(db, id))?.project_id ?? null,
+  objectId: async (db, id) => (await projectOfObject(db, id))?.project_id ?? null,
+  trimId: async (db, id) => (await projectOfTrim(db, id))?.project_id ?? null,
 }
 
 export const SCOPE_PARAMS = Object.keys(projectOf)

@@ -3,12 +3,12 @@ import { invertRigid, transformPoint } from '@shared/geometry/rigidTransform'
 import { InstanceUpdateBody, MarkerCreateBody, type Anchor } from '@shared/schemas'
 import { Id } from '@shared/schemas/common'
 import { ErrorCode } from '@shared/schemas/common'
-import { sql } from 'kysely'
 import { HttpError } from '../errors'
 import * as repo from '../repositories/markers'
 import { findInstance, listInstances, type InstanceRow } from '../repositories/scenes'
 import type { Services } from '../types'
 import { kindCheck } from '../markers/kinds'
+import { findObject } from '../repositories/objects'
 
 /**
  * The one set of checks every marker and placement write goes through, whichever door it came in by: the
@@ -37,11 +37,11 @@ export function invalid(field: string, message: string): HttpError {
   return new HttpError(400, ErrorCode.invalidInput, `body.${field}: ${message}`, field)
 }
 
-function needs(actor: Actor, right: Right): void {
+export function needs(actor: Actor, right: Right): void {
   if (!can(actor.role, right)) throw HttpError.forbidden(`Your role in this project (${actor.role}) does not allow this.`)
 }
 
-function fieldError(error: { issues: { path: PropertyKey[]; message: string }[] }): HttpError {
+export function fieldError(error: { issues: { path: PropertyKey[]; message: string }[] }): HttpError {
   const issue = error.issues[0]!
   return invalid(issue.path.map(String).join('.'), issue.message)
 }
@@ -63,15 +63,6 @@ function toScene(anchors: readonly repo.StoredAnchor[], placements: Placements):
   })
 }
 
-/**
- * Is there an object with this id in the scene? (A size marker names one.) It reads the `scene_objects` table
- * (`id`, `scene_id`) of the objects API by a plain query, the table not being in the typed schema of this branch.
- */
-async function objectInScene(s: Services, sceneId: string, objectId: string): Promise<boolean> {
-  const found = await sql<{ one: number }>`select 1 as one from scene_objects where id = ${objectId} and scene_id = ${sceneId}`.execute(s.db)
-  return found.rows.length > 0
-}
-
 /** Placements and markers named by the marker (its anchors, and what its kind's params name) must be in its scene. */
 export async function validateReferences(s: Services, sceneId: string, body: MarkerCreateBody, placements: Placements, markerId?: string): Promise<void> {
   body.anchors.forEach((a, i) => {
@@ -81,7 +72,7 @@ export async function validateReferences(s: Services, sceneId: string, body: Mar
     sceneId,
     ...(markerId === undefined ? {} : { markerId }),
     hasPlacement: (id) => placements.has(id),
-    hasObject: (id) => objectInScene(s, sceneId, id),
+    hasObject: async (id) => (await findObject(s.db, id))?.scene_id === sceneId,
     findMarker: (id) => repo.findMarkerCore(s.db, id),
     invalid,
   })

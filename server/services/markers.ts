@@ -7,6 +7,7 @@ import * as repo from '../repositories/markers'
 import * as revisions from '../repositories/markerRevisions'
 import { touchScene } from '../repositories/scenes'
 import { latestAcceptedFits } from '../repositories/registrations'
+import { invalidateMarkersOfObjects, objectsOfInstance } from '../repositories/objects'
 import type { Services } from '../types'
 import type { MarkerChecker } from '../markers/checker'
 import { toMarker } from './mappers'
@@ -214,6 +215,25 @@ export async function placementChanged(s: Services, sceneId: string, instanceId:
     if (r.held_instance_id !== instanceId || r.moving_instance_id === instanceId) continue
     for (const m of await repo.invalidateMarkersOfInstance(s.db, sceneId, r.moving_instance_id)) pending.set(m.id, m.revision)
   }
+  await recheck(s, sceneId, [...pending].map(([id, revision]) => ({ id, revision })))
+}
+
+/**
+ * The points some markers read changed without any placement moving: an object's trims, members or stray
+ * setting (`objectIds`: markers naming those objects), or a placement's scene cuts (`instanceIds`: everything
+ * measured on the placement, and markers naming an object it belongs to). They are checked again, and the
+ * signed-off ones return to open with `note` saying why.
+ */
+export async function pointsChanged(s: Services, sceneId: string, change: { instanceIds?: readonly string[]; objectIds?: readonly string[]; note: string; userId: string | null }): Promise<void> {
+  const pending = new Map<string, number>()
+  const objectIds = new Set(change.objectIds ?? [])
+  for (const instanceId of change.instanceIds ?? []) {
+    for (const m of await repo.invalidateMarkersOfInstance(s.db, sceneId, instanceId)) pending.set(m.id, m.revision)
+    for (const id of await objectsOfInstance(s.db, instanceId)) objectIds.add(id)
+  }
+  const ofObjects = await invalidateMarkersOfObjects(s.db, sceneId, [...objectIds])
+  for (const m of [...ofObjects, ...(await repo.invalidateDependents(s.db, sceneId, ofObjects.map((m) => m.id)))]) pending.set(m.id, m.revision)
+  await reopenSignedOff(s, sceneId, [...pending.keys()], change.note, change.userId, { live: true })
   await recheck(s, sceneId, [...pending].map(([id, revision]) => ({ id, revision })))
 }
 

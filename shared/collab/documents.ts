@@ -22,7 +22,7 @@ export const DOCUMENT_KINDS = ['work', 'record'] as const
 export type DocumentKind = (typeof DOCUMENT_KINDS)[number]
 
 /** Map names inside each document. */
-export const WORK_MAPS = { markers: 'markers', instances: 'instances', meta: 'meta' } as const
+export const WORK_MAPS = { markers: 'markers', instances: 'instances', objects: 'objects', trims: 'trims', meta: 'meta' } as const
 export const RECORD_MAPS = { markers: 'markers', meta: 'meta' } as const
 
 export function documentName(sceneId: string, kind: DocumentKind): string {
@@ -104,6 +104,18 @@ export const LiveInstance = z
   .object({ scanId: Id, matrix: z.array(Finite).length(16), visible: z.boolean(), color: z.string() })
   .strict()
 export type LiveInstance = z.infer<typeof LiveInstance>
+
+/** An object in the work document (shared/schemas/objects.ts): its name, member placements and stray setting. */
+export const LiveObject = z
+  .object({ name: z.string(), members: z.array(Id), stray: z.object({ k: z.number(), n: z.number() }).strict().nullable() })
+  .strict()
+export type LiveObject = z.infer<typeof LiveObject>
+
+/** A trim in the work document: its shape in its placement's own frame; objectId null for a scene cut. */
+export const LiveTrim = z
+  .object({ instanceId: Id, objectId: Id.nullable(), mode: z.enum(['keep', 'cut']), label: z.string().nullable(), shape: z.record(z.string(), z.unknown()) })
+  .strict()
+export type LiveTrim = z.infer<typeof LiveTrim>
 
 /**
  * A marker's entry in the record document (server-written): the revision the server holds, its check, the

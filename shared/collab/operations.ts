@@ -22,7 +22,7 @@ export interface LiveOperation {
 }
 
 export const LIVE_OPERATIONS = {
-  openWork: { document: 'work', kind: 'open', right: 'view', what: 'open the work document (markers and placements)' },
+  openWork: { document: 'work', kind: 'open', right: 'view', what: 'open the work document (markers, placements, objects, trims)' },
   openRecord: { document: 'record', kind: 'open', right: 'view', what: 'open the record document (checks, reviews)' },
   markerCreate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'add an entry to the markers map' },
   markerUpdate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'change an entry of the markers map' },
@@ -30,6 +30,12 @@ export const LIVE_OPERATIONS = {
   placementMove: { document: 'work', kind: 'change', right: 'editScans', what: 'change an entry of the instances map (move, show, colour)' },
   placementAdd: { document: 'work', kind: 'change', right: 'editScans', refused: 'placements are added through the API', what: 'add an entry to the instances map' },
   placementRemove: { document: 'work', kind: 'change', right: 'editScans', refused: 'placements are removed through the API', what: 'delete an entry of the instances map' },
+  objectCreate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'add an entry to the objects map' },
+  objectUpdate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'change an entry of the objects map (name, members, stray points)' },
+  objectDelete: { document: 'work', kind: 'change', right: 'editMarkers', what: 'delete an entry of the objects map' },
+  trimCreate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'add an entry to the trims map' },
+  trimUpdate: { document: 'work', kind: 'change', right: 'editMarkers', what: 'change an entry of the trims map (mode, label, shape)' },
+  trimDelete: { document: 'work', kind: 'change', right: 'editMarkers', what: 'delete an entry of the trims map' },
   writeMeta: { document: 'work', kind: 'change', right: 'editMarkers', refused: 'the meta map is written by the server only', what: 'write the meta map' },
   writeUnknown: { document: 'work', kind: 'change', right: 'editMarkers', refused: 'the work document has no such map', what: 'write a shared type that is not one of the known maps' },
   writeRecord: { document: 'record', kind: 'change', right: null, what: 'write the record document (server-written)' },
@@ -47,6 +53,8 @@ export function liveOperationOf(document: DocumentKind, root: string, action: Ch
   if (document === 'record') return 'writeRecord'
   if (root === WORK_MAPS.markers) return action === 'add' ? 'markerCreate' : action === 'update' ? 'markerUpdate' : 'markerDelete'
   if (root === WORK_MAPS.instances) return action === 'add' ? 'placementAdd' : action === 'update' ? 'placementMove' : 'placementRemove'
+  if (root === WORK_MAPS.objects) return action === 'add' ? 'objectCreate' : action === 'update' ? 'objectUpdate' : 'objectDelete'
+  if (root === WORK_MAPS.trims) return action === 'add' ? 'trimCreate' : action === 'update' ? 'trimUpdate' : 'trimDelete'
   if (root === WORK_MAPS.meta) return 'writeMeta'
   return 'writeUnknown'
 }

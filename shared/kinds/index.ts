@@ -59,6 +59,9 @@ export function namesMarker(params: Record<string, unknown>, param: string, mark
 /** Params, by any kind, that name placements (one id or a list). */
 export const PLACEMENT_PARAMS: readonly string[] = [...new Set(KINDS.flatMap((k) => ('placementParams' in k ? [...k.placementParams] : [])))]
 
+/** Params of any kind that name an object of the scene (a clearance's or a size's object). */
+export const OBJECT_PARAMS: readonly string[] = [...new Set(KINDS.flatMap((k) => ('objectParams' in k ? [...(k.objectParams as readonly string[])] : [])))]
+
 export * from './distance'
 export * from './angle'
 export * from './section'

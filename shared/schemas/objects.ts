@@ -135,6 +135,9 @@ export const StraySettings = z
 export type StraySettings = z.infer<typeof StraySettings>
 
 export const MAX_OBJECT_MEMBERS = 16
+/** The most objects one scene holds, and the most trims one placement holds for one object (or as scene cuts). */
+export const MAX_OBJECTS_PER_SCENE = 100
+export const MAX_TRIMS_PER_SET = 32
 const ObjectName = z.string({ error: 'must be text' }).trim().min(1, { error: 'must not be empty' }).max(120, { error: 'must be at most 120 characters' })
 const Members = z
   .array(Id, { error: 'must be a list of placement ids' })

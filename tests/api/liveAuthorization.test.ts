@@ -78,6 +78,19 @@ async function marker(target: Target, label = 'walk marker'): Promise<string> {
   return res.body.marker.id as string
 }
 
+async function object(target: Target): Promise<string> {
+  const p = places[target]
+  return (await ownerOf(target).agent.post(`/api/scenes/${p.sceneId}/objects`).send({ name: 'walk object', members: [p.instanceId] }).expect(201)).body.object.id as string
+}
+
+async function sceneCut(target: Target): Promise<string> {
+  const p = places[target]
+  return (await ownerOf(target).agent.post(`/api/instances/${p.instanceId}/trims`).send({ mode: 'cut', shape: { shape: 'below', point: [0, 0, -5] } }).expect(201)).body.trim.id as string
+}
+
+/** A scene cut's work-document entry (placement frame): everything below z = -5. */
+const cutEntry = (instanceId: string, label: string | null) => ({ instanceId, objectId: null, mode: 'cut', label, shape: { shape: 'below', point: [0, 0, -5], up: [0, 0, 1] } })
+
 const entry = (instanceId: string, label: string) => ({ kind: 'distance', label, anchors: [{ instanceId, x: 0, y: 0, z: 0 }, { instanceId, x: 2, y: 0, z: 0 }], params: {} })
 
 type Outcome = { synced: true } | { code: number; reason: string }
@@ -105,6 +118,8 @@ async function until(check: () => boolean | Promise<boolean>, ms = 5000, what = 
 
 const db = () => t.server.services.db
 const markerRow = (id: string) => db().selectFrom('markers').select(['id', 'scene_id', 'label']).where('id', '=', id).executeTakeFirst()
+const objectRow = (id: string) => db().selectFrom('scene_objects').select(['id', 'name']).where('id', '=', id).executeTakeFirst()
+const trimRow = (id: string) => db().selectFrom('trims').select(['id', 'label']).where('id', '=', id).executeTakeFirst()
 const instanceRow = (id: string) => db().selectFrom('scene_instances').select(['id', 'matrix']).where('id', '=', id).executeTakeFirst()
 
 beforeAll(async () => {
@@ -232,6 +247,70 @@ const CASES: Record<LiveOperationName, CaseMaker> = {
       },
       stored: async () => (await instanceRow(id())) === undefined,
       seen: (doc) => doc.getMap(WORK_MAPS.instances).has(id()) === (target !== 'this scene'),
+    }
+  },
+  objectCreate: (target) => {
+    const id = uuid()
+    return {
+      prepare: async () => {},
+      act: (doc) => doc.getMap(WORK_MAPS.objects).set(id, { name: 'made live', members: [places[target].instanceId], stray: null }),
+      stored: async () => (await objectRow(id)) !== undefined,
+      seen: (doc) => doc.getMap(WORK_MAPS.objects).has(id),
+    }
+  },
+  objectUpdate: (target, role) => {
+    let id = ''
+    const name = `renamed by the ${role}`
+    return {
+      prepare: async () => void (id = await object(target)),
+      act: (doc) => doc.getMap(WORK_MAPS.objects).set(id, { name, members: [places['this scene'].instanceId], stray: null }),
+      stored: async () => (await objectRow(id))?.name === name,
+      seen: (doc) => (doc.getMap(WORK_MAPS.objects).get(id) as { name?: string } | undefined)?.name === name,
+    }
+  },
+  objectDelete: (target) => {
+    let id = ''
+    return {
+      prepare: async () => void (id = await object(target)),
+      act: (doc) => {
+        const map = doc.getMap(WORK_MAPS.objects)
+        if (!map.has(id)) doc.transact(() => map.set(id, { name: 'taken', members: [places[target].instanceId], stray: null }))
+        doc.transact(() => map.delete(id))
+      },
+      stored: async () => (await objectRow(id)) === undefined,
+      seen: (doc) => doc.getMap(WORK_MAPS.objects).has(id) === (target !== 'this scene'),
+    }
+  },
+  trimCreate: (target) => {
+    const id = uuid()
+    return {
+      prepare: async () => {},
+      act: (doc) => doc.getMap(WORK_MAPS.trims).set(id, cutEntry(places[target].instanceId, null)),
+      stored: async () => (await trimRow(id)) !== undefined,
+      seen: (doc) => doc.getMap(WORK_MAPS.trims).has(id),
+    }
+  },
+  trimUpdate: (target, role) => {
+    let id = ''
+    const label = `relabelled by the ${role}`
+    return {
+      prepare: async () => void (id = await sceneCut(target)),
+      act: (doc) => doc.getMap(WORK_MAPS.trims).set(id, cutEntry(places[target].instanceId, label)),
+      stored: async () => (await trimRow(id))?.label === label,
+      seen: (doc) => (doc.getMap(WORK_MAPS.trims).get(id) as { label?: string } | undefined)?.label === label,
+    }
+  },
+  trimDelete: (target) => {
+    let id = ''
+    return {
+      prepare: async () => void (id = await sceneCut(target)),
+      act: (doc) => {
+        const map = doc.getMap(WORK_MAPS.trims)
+        if (!map.has(id)) doc.transact(() => map.set(id, cutEntry(places[target].instanceId, 'taken')))
+        doc.transact(() => map.delete(id))
+      },
+      stored: async () => (await trimRow(id)) === undefined,
+      seen: (doc) => doc.getMap(WORK_MAPS.trims).has(id) === (target !== 'this scene'),
     }
   },
   writeMeta: () => ({

@@ -15,6 +15,7 @@ import { computeSection, openingOf, sectionFigure, type SectionComputation } fro
 
 /** A direction of travel closer than this cosine to the opening's plane is refused. */
 const GRAZING_COS = 0.1
+const IDENTITY = [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1]
 
 export const CLEARANCE_ASSUMPTIONS = [
   'The object passes straight along the direction of travel, without turning on the way.',
@@ -191,7 +192,6 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const params = parsed.data
   const sectionMarker = await ctx.marker(params.sectionMarkerId)
   if (!sectionMarker || sectionMarker.kind !== 'section') throw new Stop('invalid-geometry', 'the section of this clearance was deleted.')
-  const { placement: object, scan: objectScan } = placementOf(ctx, params.objectInstanceId, 'the object')
   const first = await sectionOfMarker(sectionMarker, ctx)
   const n = first.frame.n
   let dir = params.direction ?? n
@@ -205,13 +205,12 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const opening = await openingOf(sec, ctx)
   if ('problem' in opening) throw new Stop('invalid-geometry', `the ${passage.length ? 'passage' : 'section'} has no free opening: ${opening.problem}`)
 
-  const cap = ctx.maxPoints ?? Infinity
-  const local = await ctx.points.allPoints(object.scanId, cap)
-  if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
-  if (local.length / 3 > cap) throw new Stop('invalid-geometry', tooManyPoints("the object's scan", cap, 'upload the object as a scan of its own, cropped to the object (or thinned), and place that instead'))
-  const count = local.length / 3
-  if (count < 3) throw new Stop('invalid-geometry', 'the object has no stored points.')
-  const framed = await inSectionFrame(local, object.matrix, sec.frame)
+  // The object: its members' kept points (trims, scene cuts, stray points), scene frame.
+  const object = await ctx.objectPoints(params.objectId ?? { instanceId: params.objectInstanceId! })
+  stillWanted(ctx)
+  const count = object.points.length / 3
+  if (count < 3) throw new Stop('invalid-geometry', `the object “${object.name}” keeps no points (${object.members.map((m) => `${m.scanName}: ${m.kept} of ${m.stored}`).join('; ')}): check its trims.`)
+  const framed = await inSectionFrame(object.points, IDENTITY, sec.frame)
   const silhouette = sharedFloat64Array(2 * count)
   const requiredMargin = params.requiredMargin ?? ctx.settings.requiredMargin
   // How it moves: resting on the floor (default when the lower edge is one), on a trolley, or carried.
@@ -237,7 +236,7 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   }
   // The object's outline fitted to its points (shared/measure/edges.ts), placed by the fit, and the margin
   // measured to the opening's fitted surfaces.
-  const outline = await compute.fittedOutline(silhouette, objectScan.pointUncertainty ?? 0, objectScan.spacing ?? sec.spacing)
+  const outline = await compute.fittedOutline(silhouette, object.pointUncertainty, object.spacing || sec.spacing)
   stillWanted(ctx)
   if (!outline.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${outline.reason}).`)
   const fitOptions = {
@@ -255,7 +254,9 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   const parts: CheckPart[] = [
     ...(fitted?.ok ? marginEdgeParts(fitted, outline) : [{ name: 'grid resolution', u: fitResolution(opening.opening) / Math.sqrt(3) }]),
     { name: 'registration (opening)', u: sec.registrationRms },
-    { name: 'registration (object)', u: object.registrationU },
+    // Each member's registration (members on one reference share none; the largest would be a floor, the
+    // sum in quadrature over members is kept: conservative when they share a reference).
+    ...object.members.filter((m) => object.members.length === 1 || m.registrationU > 0).map((m) => ({ name: object.members.length > 1 ? `registration (object: ${m.scanName})` : 'registration (object)', u: m.registrationU })),
   ]
   const budget = combineInQuadrature(parts)
   if (!budget.ok) throw new Stop('invalid-geometry', `the margin's uncertainty is not defined (${budget.reason}).`)
@@ -302,7 +303,8 @@ export const clearance: KindCheck = {
   check: (base, _snapped, input, ctx) => clearanceCheck(base, input, ctx),
   references: async (raw, refs) => {
     const params = raw as ClearanceParams
-    if (!refs.hasPlacement(params.objectInstanceId)) throw refs.invalid('params.objectInstanceId', 'no placement with this id in the scene.')
+    if (params.objectInstanceId !== undefined && !refs.hasPlacement(params.objectInstanceId)) throw refs.invalid('params.objectInstanceId', 'no placement with this id in the scene.')
+    if (params.objectId !== undefined && !(await refs.hasObject(params.objectId))) throw refs.invalid('params.objectId', 'no object with this id in the scene.')
     const section = await refs.findMarker(params.sectionMarkerId)
     if (!section || section.scene_id !== refs.sceneId || section.id === refs.markerId) throw refs.invalid('params.sectionMarkerId', 'no section marker with this id in the scene.')
     if (section.kind !== 'section') throw refs.invalid('params.sectionMarkerId', `that marker is a ${section.kind}, not a section.`)

@@ -28,8 +28,8 @@ export interface ReferenceContext {
   /** The marker being changed (undefined for a new one): it may not name itself. */
   markerId?: string
   hasPlacement(id: string): boolean
-  /** Is there an object (shared/schemas/objects.ts) with this id in the marker's scene? */
-  hasObject(id: string): boolean | Promise<boolean>
+  /** An object of this scene (shared/schemas/objects.ts). */
+  hasObject(id: string): Promise<boolean>
   findMarker(id: string): Promise<{ id: string; scene_id: string; kind: string; params: unknown } | undefined>
   invalid(field: string, message: string): Error
 }

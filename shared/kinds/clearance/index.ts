@@ -6,7 +6,7 @@ import { SectionFigure } from '../section'
 import { defineKind } from '../types'
 
 /**
- * A clearance: does an object (a placement) pass through the free opening of a section marker, and with what
+ * A clearance: does an object (its members' kept points) pass through the free opening of a section marker, and with what
  * margin (shared/measure/clearance.ts, edges.ts, orientation.ts).
  */
 
@@ -18,7 +18,10 @@ export const ORIENTATION_MODES = ['as-it-stands', 'upright', 'tipped', 'any'] as
 
 export const ClearanceParams = z
   .object({
-    objectInstanceId: Id,
+    /** The object (shared/schemas/objects.ts): its members' kept points are the object. */
+    objectId: Id.optional(),
+    /** Older clearances name one placement as the object: read as a one-member object with no trims. */
+    objectInstanceId: Id.optional(),
     sectionMarkerId: Id,
     /**
      * Further sections along the direction of travel (the far face of a thick wall, a tunnel behind a hatch):
@@ -68,6 +71,7 @@ export const ClearanceParams = z
   })
   .strict()
   .superRefine((p, ctx) => {
+    if ((p.objectId === undefined) === (p.objectInstanceId === undefined)) ctx.addIssue({ code: 'custom', path: ['objectId'], message: 'name the object: give objectId (an object of the scene) or objectInstanceId (one placement as the object), not both' })
     const through = [p.sectionMarkerId, ...(p.alsoThrough ?? [])]
     if (new Set(through).size !== through.length) ctx.addIssue({ code: 'custom', path: ['alsoThrough'], message: 'names a section twice (each section of the passage once)' })
     if (p.orientation && p.maxTurnDegrees !== undefined) ctx.addIssue({ code: 'custom', path: ['maxTurnDegrees'], message: 'give either maxTurnDegrees (a turn in the opening plane) or orientation, not both' })
@@ -109,7 +113,7 @@ export type ClearanceResult = z.infer<typeof ClearanceResult>
 const ClearanceCreate = z.object({
   kind: z.literal('clearance'),
   label: MarkerLabel.optional(),
-  anchors: z.array(Anchor).max(0, { error: 'a clearance takes no anchors (it names an object placement and a section)' }).default([]),
+  anchors: z.array(Anchor).max(0, { error: 'a clearance takes no anchors (it names an object and a section)' }).default([]),
   params: ClearanceParams,
 })
 
@@ -125,4 +129,5 @@ export const clearance = defineKind({
     { param: 'alsoThrough', on: 'section' },
   ],
   placementParams: ['objectInstanceId'],
+  objectParams: ['objectId'],
 })

@@ -7,6 +7,9 @@ import { fitThrough } from '@shared/measure/clearance'
 import { fittedMargin, fittedOpening, fittedOutline } from '@shared/measure/edges'
 import { freeOpening, type FreeOpening } from '@shared/measure/opening'
 import { concaveOutline } from '@shared/measure/polygon'
+import { strayPoints } from '@shared/measure/strayPoints'
+import { trimMask } from '@shared/measure/trims'
+import { TrimShape } from '@shared/schemas/objects'
 import { closeComputePool, compute, ComputeTaskError, routeComputeTask, sharedFloat64Array } from '../../../server/compute/pool'
 import { checkMarker, type CheckContext, type CheckInput } from '../../../server/markers/check'
 import { boxSolid, wallWithOpening } from '../../utils/solids'
@@ -59,6 +62,19 @@ describe('tasks in the pool', () => {
     expect(await compute.fittedMargin(direct, fit.placed, noise)).toEqual(margin)
     // The door 0.900 m, the box 0.600 m wide: 0.150 m a side as it stands.
     expect(margin.ok && margin.margin).toBeCloseTo(0.15, 2)
+  })
+
+  it('keeps and drops the same points as the direct calls (trims and stray points)', async () => {
+    const xyz = Float64Array.from(boxSolid(0.6, 0.4, 1.2, 0.02).xyz)
+    const trims = [
+      { mode: 'keep' as const, shape: TrimShape.parse({ shape: 'box', centre: [0, 0, 0.6], size: [0.5, 2, 2], rotation: [0, 0, 0.2, 1] }) },
+      { mode: 'cut' as const, shape: TrimShape.parse({ shape: 'below', point: [0, 0, 0.1] }) },
+    ]
+    const mask = trimMask(xyz, trims)
+    expect(Array.from(await compute.trimMask(inShared(xyz), trims))).toEqual(Array.from(mask))
+    const stray = strayPoints(xyz, 8, 2)
+    const pooled = await compute.strayPoints(inShared(xyz), 8, 2)
+    expect({ ...pooled, keep: Array.from(pooled.keep) }).toEqual({ ...stray, keep: Array.from(stray.keep) })
   })
 
   it('fails the one call whose task throws or whose thread dies, and keeps answering', async () => {

@@ -29,7 +29,7 @@ function boxRead(): ObjectPointsRead {
     name: 'crate',
     points,
     around: scan.around,
-    members: scan.counts.map((kept, i) => ({ instanceId: `00000000-0000-4000-8000-00000000010${i}`, scanName: `station ${'ABCD'[i]}`, registrationU: 0.001, kept })),
+    members: scan.counts.map((kept, i) => ({ instanceId: `00000000-0000-4000-8000-00000000010${i}`, scanName: `station ${'ABCD'[i]}`, registrationU: 0.001, stored: kept, kept })),
     pointUncertainty: 0.004,
     spacing: 0.017,
     strayDropped: 0,
