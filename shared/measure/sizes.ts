@@ -25,8 +25,9 @@ import { combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from './un
  * Uncertainty (GUM, JCGM 100:2008 section 5.1, eq. 10; U = k u, k = 2): a size is the difference of two face
  * offsets, so its parts are the two face fits (each s sqrt([(X^T X)^-1]_00), s at least the points' noise: the
  * point uncertainty enters here, averaged over the face's points, JCGM 100 section 4.2.3) and each member's
- * registration: a face fitted from several members moves by sum w_i e_i (w_i: the member's share of the face's
- * points, e_i its registration error along the face's normal), so member i's part of a size is
+ * registration: a face fitted from several members moves by sum w_i e_i (w_i: the member's weight in the face's
+ * least-squares fit, the sum of its points' entries in the first row of (X^T X)^-1 X^T; e_i its registration
+ * error along the face's normal), so member i's part of a size is
  * |w_i(far face) - w_i(near face)| u_i, and a member that sees both faces cancels, as two anchors on one
  * placement do (README.md, "Registration terms"). The floor's points carry no member when their counts are not
  * given: then the floor's part is the largest member's registration u, taken independent of the top (the
@@ -170,21 +171,31 @@ function fitFace(
     if (g2 < 0) ts.push(Math.min(g.tRange[1], Math.max(g.tRange[0], -g1 / (2 * g2))))
     top = Math.max(...ts.map((t) => g0 + g1 * t + g2 * t * t))
   }
-  // The points the fit kept (within 3 s of it over its window), counted by member.
+  // Each member's weight in the fitted offset: the fit is linear in the offsets d_j of the points it kept
+  // (within 3 s of it over its window), a = sum h_j d_j with h the first row of (X^T X)^-1 X^T, so a shift e of
+  // one member's points along the normal moves a by e times the sum of its h_j (these weights sum to 1; a member
+  // at one end of a curved window can weigh more than its share of the points). Near the top of a curve the
+  // fitted top moves as a does.
   const s = Math.max(sigma, fit.rms)
   const tx = -normal[1], ty = normal[0]
   const h = curved ? local : half
-  const counts = new Array<number>(memberCount).fill(0)
-  let total = 0
+  const k = fit.coef[2] !== 0 ? 3 : fit.coef[1] !== 0 ? 2 : 1
+  const kept: number[] = [], keptWho: number[] = []
+  const XtX = [0, 0, 0, 0, 0, 0, 0, 0, 0]
   for (let i = 0; i < uv.length; i += 2) {
     const px = uv[i]! - centre[0], py = uv[i + 1]! - centre[1]
     const t = px * tx + py * ty
     if (t < -h || t > h) continue
     const d = px * normal[0] + py * normal[1]
     if (Math.abs(d - (fit.coef[0] + fit.coef[1] * t + fit.coef[2] * t * t)) > 3 * s) continue
-    counts[who[i >> 1]!]!++
-    total++
+    kept.push(t)
+    keptWho.push(who[i >> 1]!)
+    const row = [1, t, t * t]
+    for (let r = 0; r < k; r++) for (let c = 0; c < k; c++) XtX[3 * r + c]! += row[r]! * row[c]!
   }
+  const inv = firstRowOfInverse(XtX, k)
+  const weights = new Array<number>(memberCount).fill(0)
+  if (inv) for (let j = 0; j < kept.length; j++) weights[keptWho[j]!]! += inv[0]! + inv[1]! * kept[j]! + inv[2]! * kept[j]! * kept[j]!
   const along = (centre[0] - origin[0]) * normal[0] + (centre[1] - origin[1]) * normal[1]
   const base = origin[0] * normal[0] + origin[1] * normal[1]
   return {
@@ -193,8 +204,24 @@ function fitFace(
     fit,
     slope: curved ? 0 : fit.coef[1],
     curved,
-    weights: counts.map((c) => (total > 0 ? c / total : 0)),
+    weights,
   }
+}
+
+/** The first row of the inverse of the symmetric k x k matrix in the top left of `m` (3 x 3, row-major), padded with zeros to 3; null if singular. */
+function firstRowOfInverse(m: readonly number[], k: number): [number, number, number] | null {
+  const a = (r: number, c: number) => m[3 * r + c]!
+  if (k === 1) return a(0, 0) > 0 ? [1 / a(0, 0), 0, 0] : null
+  if (k === 2) {
+    const det = a(0, 0) * a(1, 1) - a(0, 1) * a(1, 0)
+    return Math.abs(det) > 0 ? [a(1, 1) / det, -a(0, 1) / det, 0] : null
+  }
+  const c00 = a(1, 1) * a(2, 2) - a(1, 2) * a(2, 1)
+  const c01 = a(1, 2) * a(2, 0) - a(1, 0) * a(2, 2)
+  const c02 = a(1, 0) * a(2, 1) - a(1, 1) * a(2, 0)
+  const det = a(0, 0) * c00 + a(0, 1) * c01 + a(0, 2) * c02
+  // Symmetric: the first row of the inverse is the first column of cofactors over the determinant.
+  return Math.abs(det) > 0 ? [c00 / det, c01 / det, c02 / det] : null
 }
 
 /**
