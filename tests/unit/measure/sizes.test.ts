@@ -95,6 +95,20 @@ describe('the sizes of a box 0.60 x 0.40 x 1.20 m on a floor, four aligned stati
     expect(Math.abs(r.height.value - BOX.height)).toBeLessThanOrEqual(r.height.U)
   })
 
+  test('a large object is fitted on every k-th point: the sizes move by no more than their fits allow, the fits\' u larger by about sqrt(k)', () => {
+    const sigma = 0.002
+    const scan = trialScan(beams, { centre: [0, 0], half: [0.35, 0.25], turnDeg: 0, cutBelow: 0.01 }, sigma, REG_U, 104)
+    const all = measureSizes(scan.points, scan.around, options(scan, sigma))
+    // A cap of a quarter of the points: every 4th point is fitted (s / sqrt(m), JCGM 100 4.2.3: twice the u).
+    const thinned = measureSizes(scan.points, scan.around, { ...options(scan, sigma), fitPoints: Math.ceil(scan.points.length / 3 / 4) })
+    if (!all.ok || !thinned.ok) throw new Error('not measured')
+    // The same registration draw in both: the thinned sizes stay within the extra spread of their fits.
+    for (const k of ['length', 'width', 'height'] as const) expect(Math.abs(thinned[k].value - all[k].value), k).toBeLessThanOrEqual(3 * thinned[k].parts[0]!.u + 1e-4)
+    const fits = (r: ObjectSizes) => r.length.parts.find((p) => p.name === 'face fits')!.u
+    expect(fits(thinned) / fits(all)).toBeGreaterThan(1.5)
+    expect(fits(thinned) / fits(all)).toBeLessThan(2.7)
+  })
+
   test('without a floor (nothing trimmed away under it) the height is from the lowest kept point, and says so', () => {
     const sigma = 0.002
     const scan = trialScan(beams, { centre: [0, 0], half: [0.35, 0.25], turnDeg: 0, cutBelow: 0.01 }, sigma, REG_U, 103)
