@@ -130,8 +130,8 @@ describe('a turned box and coverage', () => {
     expect(angle).toBeCloseTo(30, 0)
   })
 
-  test('50 trials at 10 mm range noise: the truth within U for at least 90 % of them (seen: length 98 %, width 94 %, height 100 %), U not inflated', () => {
-    const beams = castStations(stationsAround(0, 0, 2.0, 1.8, AROUND, 0.45, 0.5), boxSurfaces())
+  test('50 trials at 10 mm range noise: the truth within U for at least 90 % of them (seen: length 94 %, width 100 %, height 100 %), U not inflated', () => {
+    const beams = castStations(stationsAround(0, 0, 2.0, 1.8, AROUND, 0.45, 0.7), boxSurfaces())
     const trials = Array.from({ length: 50 }, (_, i) => within(sizesOf(beams, 0.01, 1000 + i), BOX))
     for (const k of ['length', 'width', 'height'] as const) {
       const rows = trials.map((t) => t.find((x) => x.k === k)!)
