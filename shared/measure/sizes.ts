@@ -10,8 +10,9 @@ import { combineInQuadrature, COVERAGE_FACTOR, type UncertaintyPart } from './un
  *
  * Frame: the scene's, metres, Z up; the object stands upright as scanned, so the box's third axis is Z.
  * Method:
- * - Footprint: the points between the provisional bottom and top, projected on the floor plane; their
- *   minimum-area rectangle (calipers.ts: Freeman and Shapira 1975; Toussaint 1983) gives the box's turn.
+ * - Footprint: the points clear (by an inset) of the lowest kept points and of the top, projected on the floor
+ *   plane; their minimum-area rectangle (calipers.ts: Freeman and Shapira 1975; Toussaint 1983) gives the
+ *   box's turn. Over `fitPoints` (200 000) points, every k-th point is fitted.
  * - Side faces: each of the four is fitted, as edges.ts fits an edge, to the band of points beside it, in the
  *   footprint, between insets from the face's ends and from the top and bottom (so the top face and the floor
  *   never enter a side's band). The turn is then refined by the fitted faces' slopes and the faces fitted again.
