@@ -1,6 +1,7 @@
 import type { CheckState } from '@shared/collab/states'
 import { TrimShape, type TrimMode } from '@shared/schemas'
 import type { Conn } from '../db'
+import { HttpError } from '../errors'
 import { compute, sharedFloat64Array } from '../compute/pool'
 import { findObject, listSceneCuts, listTrimsOfObject, type TrimRow } from '../repositories/objects'
 import { findScan } from '../repositories/scans'
@@ -94,7 +95,14 @@ export async function readObjectPoints(
     const scan = await findScan(deps.db, placement.scan_id)
     if (scan && (scan.status === 'queued' || scan.status === 'processing')) return { state: 'pending', problem: `the object “${name}”: its scan “${scan.name}” is still being processed.` }
     if (!scan || scan.status !== 'ready') return { state: 'invalid-geometry', problem: `the object “${name}”: its scan ${scan ? `“${scan.name}” failed to process` : 'was deleted'}.` }
-    const xyz = await deps.points.allPoints(placement.scan_id, cap)
+    let xyz: Float64Array
+    try {
+      xyz = await deps.points.allPoints(placement.scan_id, cap)
+    } catch (err) {
+      // A scan marked ready with no tiles (nothing stored): a problem of this object, not a missing route.
+      if (err instanceof HttpError && err.status === 404) return { state: 'invalid-geometry', problem: `the object “${name}”: its scan “${scan.name}” has no stored points.` }
+      throw err
+    }
     if (options.cancelled?.()) return { state: 'pending', problem: 'superseded by a newer change' }
     if (xyz.length / 3 > cap) return { state: 'invalid-geometry', problem: tooMany(`the object “${name}”: its scan “${scan.name}”`, cap) }
     const sceneCuts = cuts.get(id) ?? []
