@@ -60,8 +60,8 @@ export function useObjectTrimsView(options: Options) {
     const list: TrimOutline[] = []
     if (options.panelOpen()) {
       const open = options.objects().find((o) => o.id === options.openObjectId())
-      for (const t of open?.trims ?? []) list.push({ id: t.id, mode: t.mode, shape: t.shape })
-      for (const cuts of options.cuts()?.values() ?? []) for (const t of cuts) list.push({ id: t.id, mode: t.mode, shape: t.shape })
+      for (const t of open?.trims ?? []) list.push({ id: t.id, mode: t.mode, shape: t.shape, instanceId: t.instanceId })
+      for (const cuts of options.cuts()?.values() ?? []) for (const t of cuts) list.push({ id: t.id, mode: t.mode, shape: t.shape, instanceId: t.instanceId })
     }
     const draft = options.draft()
     if (draft) list.push(draft)

@@ -211,7 +211,7 @@ export class PointViewer {
     this.scene.add(this.markerLayer.object)
     this.trimOutlines = new TrimOutlines(
       (p) => this.sceneToRender(p),
-      () => ({ centre: this.sceneCentre(), radius: this.sceneRadius() }),
+      (instanceId) => this.extentOf(instanceId),
     )
     this.boxHandles = new TrimBoxHandles(this.perspective, this.canvas, {
       toRender: (p) => this.sceneToRender(p),
@@ -840,6 +840,16 @@ export class PointViewer {
   private renderToScene(p: THREE.Vector3): Vec3 {
     const o = this.origin ?? [0, 0, 0]
     return [p.x + o[0], p.y + o[1], p.z + o[2]]
+  }
+
+  /** A placement's centre and half diagonal (scene frame), or the scene's when it has no points yet. */
+  private extentOf(instanceId?: string): { centre: Vec3; radius: number } {
+    const inst = instanceId ? this.instances.get(instanceId) : undefined
+    if (inst?.tree) {
+      const { min, max } = inst.tree.bounds
+      return { centre: inst.sceneCentre(), radius: Math.max(Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]) / 2, 0.05) }
+    }
+    return { centre: this.sceneCentre(), radius: this.sceneRadius() }
   }
 
   private sceneCentre(): Vec3 {

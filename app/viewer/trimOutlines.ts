@@ -1,7 +1,7 @@
 /**
  * Trims drawn as outlines over the points (scene frame in, render frame on the GPU): a box by its twelve edges,
  * "cut below" by a level rectangle across the scene at its height, a prism by its outline at both ends of its
- * sweep and the edges joining them (an unbounded sweep is drawn across the scene's extent). Keep trims in moss,
+ * sweep and the edges joining them (an unbounded one is drawn across its placement's extent). Keep trims in moss,
  * cut trims in brick, both bright enough for the charcoal viewport; drawn on top of the points (no depth test)
  * so a trim inside a cloud still reads. Also the outline being drawn on the screen: its corners so far.
  */
@@ -16,6 +16,8 @@ export interface TrimOutline {
   id: string
   mode: TrimMode
   shape: TrimShape
+  /** The placement it trims: an unbounded shape is drawn across that placement's extent (else the scene's). */
+  instanceId?: string
 }
 
 /** The twelve edges of a box (scene frame), as pairs of corners. */
@@ -95,7 +97,7 @@ export class TrimOutlines {
 
   constructor(
     private toRender: (p: Vec3) => THREE.Vector3,
-    private extent: () => { centre: Vec3; radius: number },
+    private extent: (instanceId?: string) => { centre: Vec3; radius: number },
   ) {
     this.object.renderOrder = 5
   }
@@ -115,8 +117,10 @@ export class TrimOutlines {
   /** Again after the render origin or the scene's extent changed. */
   rebuild(): void {
     this.clear()
-    const { centre, radius } = this.extent()
-    for (const t of this.shown) this.add(trimEdges(t.shape, centre, radius), this.materials[t.mode])
+    for (const t of this.shown) {
+      const { centre, radius } = this.extent(t.instanceId)
+      this.add(trimEdges(t.shape, centre, radius), this.materials[t.mode])
+    }
     if (this.draft.length > 1) {
       const pairs: Vec3[] = []
       for (let i = 0; i + 1 < this.draft.length; i++) pairs.push(this.draft[i]!, this.draft[i + 1]!)

@@ -21,12 +21,15 @@ import { boxSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
 const SHOTS = '/tmp/objui-shots'
 const CRATE = { w: 0.6, d: 0.4, h: 1.2 }
 const DOOR = { width: 0.9, height: 2.0 }
+/** Grid spacing of the scans, metres: coarse enough to keep the file quick, fine enough for millimetre margins. */
+const SPACING = 0.02
 /** Where the scans are placed: the crate stations together (aligned), the clean crate and the wall apart. */
 const AT = { crateA: [0, 0, 0], crateB: [0, 0, 0], clean: [4, 0, 0], wall: [0, 3, 0] } as const
 type Name = keyof typeof AT
 
 let t: TestServer
 let browser: Browser
+let launching: Promise<Browser> | undefined
 let owner: Awaited<ReturnType<typeof signUpAgent>>
 let projectId: string
 let sceneId: string
@@ -35,26 +38,26 @@ let section: Marker
 
 type Hook = {
   __spanmark: {
-    viewer: { stats(): { firstFrameMs: number | null; tilesPending: number } }
+    viewer: { stats(): { firstFrameMs: number | null; tilesPending: number }; project(x: number, y: number, z: number): { x: number; y: number } }
     markers: { list(): { id: string; kind: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ instanceId: string } | null> }
     objects: { draft(): { shape: string; height?: number } | null; cutPoints(): Record<string, number>; outlines(): number }
   }
 }
 
 /**
- * The crate's five visible faces standing on a 2.4 x 2.4 m floor (the floor under it not scanned), as one
+ * The crate's five visible faces standing on a 1.8 x 1.8 m floor (the floor under it not scanned), as one
  * station sees them (every face: the stations here differ by their noise, as two aligned stations do).
  */
 function crateOnFloor(seed: number): SurfaceSampler {
   const { w, d, h } = CRATE
-  const s = new SurfaceSampler(0.015, 0.001, seed)
+  const s = new SurfaceSampler(SPACING, 0.001, seed)
   const X = [1, 0, 0], Y = [0, 1, 0], Z = [0, 0, 1]
   s.rect([-w / 2, -d / 2, h], X, w, Y, d)
   s.rect([-w / 2, -d / 2, 0], X, w, Z, h)
   s.rect([-w / 2, d / 2, 0], Z, h, X, w)
   s.rect([-w / 2, -d / 2, 0], Z, h, Y, d)
   s.rect([w / 2, -d / 2, 0], Y, d, Z, h)
-  s.rect([-1.2, -1.2, 0], X, 2.4, Y, 2.4, (p) => Math.abs(p[0]!) < w / 2 + 0.005 && Math.abs(p[1]!) < d / 2 + 0.005)
+  s.rect([-0.9, -0.9, 0], X, 1.8, Y, 1.8, (p) => Math.abs(p[0]!) < w / 2 + 0.005 && Math.abs(p[1]!) < d / 2 + 0.005)
   return s
 }
 
@@ -75,13 +78,15 @@ async function shot(page: Page, name: string): Promise<void> {
 beforeAll(async () => {
   if (!fs.existsSync('dist/index.html')) throw new Error('browser tests need the client build: run them through `npm test`')
   t = await startTestServer({}, { WORKER: 'spawn' })
+  // Chromium starts while the scans are processed.
+  launching = launchBrowser()
   owner = await signUpAgent(t, 'Object Measurer')
   projectId = (await owner.agent.post('/api/projects').send({ name: 'Crate through the door' }).expect(201)).body.project.id
   const solids: Record<Name, SurfaceSampler> = {
     crateA: crateOnFloor(21),
     crateB: crateOnFloor(22),
-    clean: boxSolid(CRATE.w, CRATE.d, CRATE.h, 0.015, 0.001, 23),
-    wall: wallWithOpening({ width: DOOR.width, height: DOOR.height, spacing: 0.015, seed: 24 }),
+    clean: boxSolid(CRATE.w, CRATE.d, CRATE.h, SPACING, 0.001, 23),
+    wall: wallWithOpening({ width: DOOR.width, height: DOOR.height, spacing: SPACING, seed: 24 }),
   }
   const names: Record<Name, string> = { crateA: 'crate, station 1', crateB: 'crate, station 2', clean: 'crate alone', wall: 'door wall' }
   const scanIds = {} as Record<Name, string>
@@ -100,11 +105,12 @@ beforeAll(async () => {
   const res = await owner.agent.post(`/api/scenes/${sceneId}/markers`).send({ kind: 'section', label: 'door', anchors: [anchor(-half), anchor(half)], params: { plane: 'two-points', thickness: 0.1, opening: true } })
   expect(res.status, JSON.stringify(res.body)).toBe(201)
   section = await waitChecked(res.body.marker.id)
-  browser = await launchBrowser()
+  browser = await launching
 }, 120_000)
 
 afterAll(async () => {
-  await browser?.close()
+  // Closed even when the set-up failed before it waited for Chromium.
+  await (await launching?.catch(() => undefined))?.close()
   await t?.stop()
 })
 
@@ -163,7 +169,7 @@ it('trims the floor away in the view, makes an object of two stations, and gets 
   await page.getByTestId('trim-panel').waitFor({ state: 'detached' })
   await expect.poll(async () => (await objects()).find((o) => o.id === crate.id)!.trims.length).toBe(1)
   const afterCut = await points()
-  // The floor (2.4 x 2.4 m less the footprint, 1.5 cm grid) is most of the station: it is gone.
+  // The floor (1.8 x 1.8 m less the footprint) is most of the station: it is gone.
   expect(afterCut.kept).toBeLessThan(untrimmed.kept * 0.5)
   expect(afterCut.members[0]!.trimmed).toBeGreaterThan(untrimmed.kept * 0.5)
   await expect.poll(() => card.getByTestId('object-kept').getAttribute('data-kept')).toBe(String(afterCut.kept))
@@ -196,17 +202,27 @@ it('trims the floor away in the view, makes an object of two stations, and gets 
   await expect.poll(() => card.getByTestId('object-member-kept').count()).toBe(2)
   await shot(page, '05-two-stations')
 
-  // A scene cut on the wall, away from the door: its points are hidden in the view, and dimmed on demand.
-  await page.getByTestId('scene-cuts-placement').and(page.locator(`[data-instance-id="${placed.wall}"]`)).getByTestId('scene-cut-box').click()
-  const cutBox = { 'trim-centre-x': '-0.85', 'trim-centre-y': '3', 'trim-centre-z': '2.3', 'trim-size-x': '0.4', 'trim-size-y': '0.5', 'trim-size-z': '0.4' }
-  for (const [id, value] of Object.entries(cutBox)) await page.getByTestId(id).fill(value)
+  // A scene cut on the wall, beside the door, by an outline clicked on a head-on view along y. Its points are
+  // hidden in the view, and dimmed on demand.
+  await page.getByTestId('scene-cuts-placement').and(page.locator(`[data-instance-id="${placed.wall}"]`)).getByTestId('scene-cut-outline').click()
+  await page.getByTestId('trim-outline-view').selectOption('front')
+  await expect.poll(() => page.getByTestId('profile-banner').innerText()).toMatch(/outline/)
+  const canvas = (await page.getByTestId('scene-viewport').boundingBox())!
+  // Right of the door, under the section's slab at 1 m (and clear of the labels and the panel on the screen).
+  const corners: [number, number][] = [[0.6, 0.45], [0.95, 0.45], [0.95, 0.85], [0.6, 0.85], [0.6, 0.45]]
+  for (const [x, z] of corners) {
+    const px = (await page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.viewer.project(x, y, z), [AT.wall[0] + x, AT.wall[1], z] as const))
+    await page.mouse.click(canvas.x + px.x, canvas.y + px.y)
+  }
+  // The fifth click, on the first corner, closed it.
+  await expect.poll(() => hook((h) => (h.objects.draft() as { closed?: boolean } | null)?.closed ?? null)).toBe(true)
+  await shot(page, '06-outline-drawn')
   await page.getByTestId('trim-save').click()
   await page.getByTestId('trim-panel').waitFor({ state: 'detached' })
-  await expect.poll(() => hook((h) => h.objects.cutPoints()[Object.keys(h.objects.cutPoints()).find((k) => h.objects.cutPoints()[k]! > 0) ?? ''] ?? 0), { timeout: 10_000 }).toBeGreaterThan(0)
-  const cuts = await hook((h) => h.objects.cutPoints())
-  expect(Object.entries(cuts).filter(([, n]) => n > 0).map(([id]) => id)).toEqual([placed.wall])
+  await expect.poll(() => page.getByTestId('profile-banner').count()).toBe(0)
+  await expect.poll(async () => Object.entries(await hook((h) => h.objects.cutPoints())).filter(([, n]) => n > 0).map(([id]) => id), { timeout: 10_000 }).toEqual([placed.wall])
   await page.getByTestId('scene-cuts-dim').check()
-  await shot(page, '06-scene-cut-dimmed')
+  await shot(page, '07-scene-cut-dimmed')
   await page.getByTestId('scene-cuts-dim').uncheck()
 
   // The clearance through the door, on the object, with the C tool.
@@ -220,7 +236,7 @@ it('trims the floor away in the view, makes an object of two stations, and gets 
   const onObject = (await owner.agent.get(`/api/scenes/${sceneId}/markers`).expect(200)).body.markers.find((m: Marker) => m.kind === 'clearance') as Marker
   expect((onObject.params as { objectId?: string }).objectId).toBe(crate.id)
   await expect.poll(() => page.getByTestId('marker-outcome').innerText()).toMatch(/passes/)
-  await shot(page, '07-clearance-on-object')
+  await shot(page, '08-clearance-on-object')
 
   // The references through the API: the clean crate, and station 1 as it was scanned, floor and all.
   const clearanceOf = async (params: object) => {
