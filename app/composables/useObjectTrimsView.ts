@@ -1,10 +1,8 @@
 import { computed, watch, type ShallowRef } from 'vue'
-import { invertRigid } from '@shared/geometry/rigidTransform'
-import { trimToFrame } from '@shared/geometry/trimFrame'
 import type { Instance, SceneObject, Trim } from '@shared/schemas'
 import type { PointViewer } from '@/viewer/PointViewer'
 import type { TrimOutline } from '@/viewer/trimOutlines'
-import type { PlacementTrims } from '@/viewer/trimStates'
+import { toScanFrame, type PlacementTrims } from '@/viewer/trimStates'
 
 interface Options {
   viewer: ShallowRef<PointViewer | null>
@@ -37,9 +35,7 @@ export function useObjectTrimsView(options: Options) {
       const placementCuts = cuts?.get(inst.id) ?? []
       const member = open?.members.includes(inst.id) ? open.trims.filter((t) => t.instanceId === inst.id) : null
       if (placementCuts.length === 0 && member === null) continue
-      const back = invertRigid(inst.matrix)
-      const local = (t: Trim) => ({ mode: t.mode, shape: trimToFrame(t.shape, back) })
-      out.set(inst.id, { cuts: placementCuts.map(local), member: member ? member.map(local) : null })
+      out.set(inst.id, { cuts: toScanFrame(placementCuts, inst.matrix), member: member ? toScanFrame(member, inst.matrix) : null })
     }
     return out
   })

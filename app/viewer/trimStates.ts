@@ -7,6 +7,8 @@
  * States (one byte per point, the shader's `trimState`): 0 shown as it is, 1 cut by a scene cut, 2 kept by the
  * open object, 3 left out by the open object's trims.
  */
+import { invertRigid } from '@shared/geometry/rigidTransform'
+import { trimToFrame } from '@shared/geometry/trimFrame'
 import { trimMask } from '@shared/measure/trims'
 import type { TrimMode, TrimShape } from '@shared/schemas'
 import type { Vec3 } from './types'
@@ -26,6 +28,13 @@ export interface PlacementTrims {
 
 export function hasTrims(t: PlacementTrims | null | undefined): t is PlacementTrims {
   return !!t && (t.cuts.length > 0 || t.member !== null)
+}
+
+/** Trims as the API gives them (scene frame) into a placement's scan frame, by the inverse of its matrix. */
+export function toScanFrame(trims: readonly ScanFrameTrim[], matrix: readonly number[]): ScanFrameTrim[] {
+  if (trims.length === 0) return []
+  const back = invertRigid(matrix)
+  return trims.map((t) => ({ mode: t.mode, shape: trimToFrame(t.shape, back) }))
 }
 
 /** A tile's points in the scan frame, float64: the node's centre plus the float32 offsets. */
