@@ -59,6 +59,12 @@ export interface FitOptions {
   maxTurnDegrees?: number
   /** The object rests on this level (v, metres) instead of being carried: see the header. */
   restOn?: number
+  /**
+   * With `restOn`: how far the floor's points scatter above their surface (metres; about 4 sigma of their
+   * noise). The floor's blocked band reaches that much higher, and is freed as well: noise on the floor is no
+   * obstacle to an object resting on it.
+   */
+  floorBand?: number
 }
 
 export type FitOutcome = 'passes' | 'does-not-pass' | 'too-close-to-call'
@@ -146,7 +152,8 @@ export function fitThrough(
     // Each column's lowest free cell at or above the resting row, within the floor points' blocked band
     // (the radius and a cell): everything below it is freed.
     region = region.slice()
-    const reach = Math.ceil((opening.radius + cell) / cell) + 1
+    const band = options.floorBand !== undefined && Number.isFinite(options.floorBand) && options.floorBand > 0 ? options.floorBand : 0
+    const reach = Math.ceil((opening.radius + cell + band) / cell) + 1
     for (let i = 0; i < nu; i++) {
       let first = -1
       for (let j = Math.max(0, restRow); j <= Math.min(nv - 1, restRow + reach); j++)

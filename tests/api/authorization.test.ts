@@ -45,6 +45,8 @@ interface Fixture {
   registrationId: string
   exportId: string
   uploadId: string
+  objectId: string
+  trimId: string
 }
 
 let invited = 0
@@ -96,6 +98,14 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     .values({ project_id: projectId, scan_id: crypto.randomUUID(), object_key: `projects/${projectId}/scans/x/matrix.xyz`, s3_upload_id: 'none', file_name: 'matrix.xyz', declared_size: 100, part_size: 65536, part_count: 1 })
     .returning('id')
     .executeTakeFirstOrThrow()
+  // An object of the placement with one trim, written straight to the tables (how they are made is tested in objects.test.ts).
+  const object = await t.server.services.db.insertInto('scene_objects').values({ scene_id: scene.body.scene.id, name: 'matrix object', stray: 'null' }).returning('id').executeTakeFirstOrThrow()
+  await t.server.services.db.insertInto('object_members').values({ object_id: object.id, instance_id: instanceId, position: 0 }).execute()
+  const trim = await t.server.services.db
+    .insertInto('trims')
+    .values({ scene_id: scene.body.scene.id, instance_id: instanceId, object_id: object.id, mode: 'cut', shape: JSON.stringify({ shape: 'below', point: [0, 0, -1], up: [0, 0, 1] }) })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   let passId: string
   let guest: Fixture['guest'] = null
   if (withGuest) {
@@ -118,6 +128,8 @@ async function freshProject(withGuest = false): Promise<Fixture> {
     registrationId: registration.id,
     exportId: exported.id,
     uploadId: upload.id,
+    objectId: object.id,
+    trimId: trim.id,
     inviteId: invite.body.invite.id,
     passId,
     guest,
@@ -139,6 +151,8 @@ const NOWHERE: Fixture = {
   registrationId: '00000000-0000-4000-8000-00000000000a',
   exportId: '00000000-0000-4000-8000-00000000000b',
   uploadId: '00000000-0000-4000-8000-00000000000c',
+  objectId: '00000000-0000-4000-8000-00000000000d',
+  trimId: '00000000-0000-4000-8000-00000000000e',
   guest: null,
 }
 
@@ -172,6 +186,10 @@ function fillPath(route: RouteDef, f: Fixture): string {
         return f.exportId
       case 'uploadId':
         return f.uploadId
+      case 'objectId':
+        return f.objectId
+      case 'trimId':
+        return f.trimId
       case 'partNumber':
         return '1'
       case 'nodeKey':

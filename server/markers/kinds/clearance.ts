@@ -240,14 +240,16 @@ async function clearanceCheck(base: Check, input: CheckInput, ctx: CheckContext)
   stillWanted(ctx)
   if (!outline.ok) throw new Stop('invalid-geometry', `the object's silhouette cannot be fitted (${outline.reason}).`)
   const fitOptions = {
-    ...(turned ? { maxTurnDegrees: 0 } : params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees }),
-    ...(restOn === null ? {} : { restOn }),
+    // Turned by the search, or kept as it stands: no further turn in the opening plane.
+    ...(turned || params.orientation?.mode === 'as-it-stands' ? { maxTurnDegrees: 0 } : params.maxTurnDegrees === undefined ? {} : { maxTurnDegrees: params.maxTurnDegrees }),
+    // Resting: the floor's own scatter (4 sigma of its points) is floor, not an obstacle.
+    ...(restOn === null ? {} : { restOn, floorBand: 4 * sec.pointUncertainty }),
   }
   const fit = await compute.fitThrough(opening.opening, outline.xy, requiredMargin, 0, fitOptions)
   if (!fit.ok) throw new Stop('invalid-geometry', fit.reason === 'rest-level-outside' ? 'the object resting at that height does not reach into the opening (the trolley is higher than the opening).' : `the object's silhouette cannot be fitted (${fit.reason}).`)
   stillWanted(ctx)
   // Resting: the floor under it is no gap to measure (its points are left out) and it only slides across.
-  const marginOpening = restOn === null ? opening.opening : { ...opening.opening, points: pointsAbove(opening.opening.points, restOn + 2 * sec.spacing) }
+  const marginOpening = restOn === null ? opening.opening : { ...opening.opening, points: pointsAbove(opening.opening.points, restOn + 2 * sec.spacing + 4 * sec.pointUncertainty) }
   const fitted = fit.margin > 0 ? await compute.fittedMargin(marginOpening, fit.placed, sec.pointUncertainty, 24, { keepHeight: restOn !== null }) : null
   // Margin uncertainty: the edge fits on both sides, both registrations; an overlap (negative margin) is
   // measured on the grid, with the grid's resolution as a rectangular half-width (GUM 4.3.7).
