@@ -145,6 +145,18 @@ export function useTrimEditor(options: Options) {
     draft.value = { ...d, closed: true }
   }
 
+  // Esc takes back an outline's last corner, or drops the trim being drawn (not while typing in a field).
+  function onKey(event: KeyboardEvent): void {
+    if (event.key !== 'Escape' || !draft.value) return
+    const el = event.target as HTMLElement | null
+    if (el && (el.tagName === 'INPUT' || el.tagName === 'SELECT' || el.tagName === 'TEXTAREA')) return
+    const d = draft.value
+    if (d.shape === 'prism' && !d.closed && d.corners.length > 0) draft.value = { ...d, corners: d.corners.slice(0, -1) }
+    else cancel()
+  }
+  onMounted(() => window.addEventListener('keydown', onKey))
+  onBeforeUnmount(() => window.removeEventListener('keydown', onKey))
+
   async function save(): Promise<Trim | null> {
     const t = target.value
     const d = draft.value

@@ -311,6 +311,7 @@ export class PointViewer {
    */
   setClickMode(mode: 'pick' | 'screen' | 'none'): void {
     this.clickMode = mode
+    this.markerLayer.setPassive(mode === 'screen')
     if (mode !== 'pick') this.showHover(null)
   }
 
