@@ -37,7 +37,11 @@ export class ViewInstance {
   private drawn = new Map<string, THREE.Points>()
   private trims: PlacementTrims | null = null
   /** Per tile key: the geometry with the points' trim states, and the states (picking skips cut points). */
-  private trimmed = new Map<string, { geometry: THREE.BufferGeometry; states: Uint8Array }>()
+  private trimmed = new Map<string, { geometry: THREE.BufferGeometry; states: Uint8Array; version: number }>()
+  /** Bumped by each setTrims: a tile's states of an older version are shown until computed again. */
+  private trimVersion = 0
+  /** Some drawn tiles still show states of older trims (the per-frame budget ran out). */
+  trimsPending = false
 
   constructor(spec: InstanceSpec) {
     this.id = spec.id
@@ -109,7 +113,8 @@ export class ViewInstance {
    */
   setTrims(trims: PlacementTrims | null): void {
     this.trims = hasTrims(trims) ? trims : null
-    for (const key of [...this.trimmed.keys()]) this.dropTrimmed(key)
+    this.trimVersion++
+    if (!this.trims) for (const key of [...this.trimmed.keys()]) this.dropTrimmed(key)
   }
 
   /** A tile's trim states (null: no trims, every point shown as it is). */
@@ -127,17 +132,28 @@ export class ViewInstance {
     return n
   }
 
-  private geometryOf(entry: TileEntry): THREE.BufferGeometry {
+  /**
+   * The geometry a tile is drawn with. States are computed for a tile that has none at once; a tile showing
+   * older trims' states keeps them while `budget` (points, shared by the placements this frame) is spent, and
+   * is done in a later frame, so a trim change over millions of drawn points never stalls one frame.
+   */
+  private geometryOf(entry: TileEntry, budget: { points: number }): THREE.BufferGeometry {
     if (!this.trims) return entry.geometry
     let t = this.trimmed.get(entry.key)
-    if (!t || t.states.length !== entry.count) {
+    const fresh = t && t.version === this.trimVersion && t.states.length === entry.count
+    if (t && !fresh && budget.points <= 0 && t.states.length === entry.count) {
+      this.trimsPending = true
+      return t.geometry
+    }
+    if (!t || !fresh) {
       if (t) this.dropTrimmed(entry.key)
       const states = trimStates(entry.origin, entry.positions, entry.count, this.trims)
+      budget.points -= entry.count
       const geometry = new THREE.BufferGeometry()
       for (const [name, attribute] of Object.entries(entry.geometry.attributes)) geometry.setAttribute(name, attribute)
       geometry.setAttribute('trimState', new THREE.BufferAttribute(states, 1))
       geometry.boundingSphere = entry.geometry.boundingSphere
-      t = { geometry, states }
+      t = { geometry, states, version: this.trimVersion }
       this.trimmed.set(entry.key, t)
     }
     return t.geometry
@@ -153,13 +169,14 @@ export class ViewInstance {
   }
 
   /** Shows exactly these tiles, creating Points for new ones; returns how many points that draws. */
-  show(entries: readonly TileEntry[]): number {
+  show(entries: readonly TileEntry[], budget: { points: number } = { points: Infinity }): number {
     const keep = new Set<string>()
     let points = 0
+    this.trimsPending = false
     for (const entry of entries) {
       keep.add(entry.key)
       let object = this.drawn.get(entry.key)
-      const geometry = this.geometryOf(entry)
+      const geometry = this.geometryOf(entry, budget)
       if (!object || object.geometry !== geometry) {
         if (object) this.group.remove(object)
         object = new THREE.Points(geometry, this.material)
