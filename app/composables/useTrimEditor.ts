@@ -226,6 +226,8 @@ export interface SpanmarkObjectsHook {
   cutPoints(): Record<string, number>
   /** Trims drawn as outlines. */
   outlines(): number
+  /** The pointer is over a handle of the box being drawn. */
+  onHandle(): boolean
 }
 
 type HookWindow = { __spanmark?: Record<string, unknown> }
@@ -237,6 +239,7 @@ export function installObjectsTestHook(viewer: ShallowRef<PointViewer | null>, e
     draft: () => editor.draft.value,
     cutPoints: () => viewer.value?.cutPoints() ?? {},
     outlines: () => viewer.value?.trimOutlineCount ?? 0,
+    onHandle: () => viewer.value?.trimHandleHovered ?? false,
   }
   onMounted(() => {
     w.__spanmark = { ...w.__spanmark, objects: hook }

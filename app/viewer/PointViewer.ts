@@ -365,6 +365,11 @@ export class PointViewer {
     this.needsRender = true
   }
 
+  /** The pointer is over one of the box trim's handles (browser tests find a handle this way). */
+  get trimHandleHovered(): boolean {
+    return this.boxHandles.onHandle
+  }
+
   /** Where the view turns about (scene frame): a new box starts there. */
   viewCentre(): Vec3 {
     const target = (this.profileOrbit ?? this.orbit).target

@@ -45,7 +45,7 @@ type Hook = {
   __spanmark: {
     viewer: { stats(): { firstFrameMs: number | null; tilesPending: number }; project(x: number, y: number, z: number): { x: number; y: number } }
     markers: { list(): { id: string; kind: string; state: string }[]; pick(x: number, y: number, z: number): Promise<{ instanceId: string } | null> }
-    objects: { draft(): { shape: string; height?: number } | null; cutPoints(): Record<string, number>; outlines(): number }
+    objects: { draft(): { shape: string; height?: number } | null; cutPoints(): Record<string, number>; outlines(): number; onHandle(): boolean }
   }
 }
 
@@ -201,6 +201,29 @@ it('trims the floor away in the view, makes an object of two stations, and gets 
   await member(placed.crateB).getByTestId('object-trim-mode').selectOption('keep')
   await member(placed.crateB).getByTestId('object-trim-box').click()
   await page.getByTestId('trim-panel').waitFor()
+  // The box's move handle along x: found by hovering out from its centre along x's image, then dragged 60 px.
+  let canvas = (await page.getByTestId('scene-viewport').boundingBox())!
+  const draftBox = async () => (await hook((h) => h.objects.draft())) as unknown as { centre: [number, number, number] }
+  const before = await draftBox()
+  const view = (p: [number, number, number]) => page.evaluate(([x, y, z]) => (window as unknown as Hook).__spanmark.viewer.project(x, y, z), p)
+  const c0 = await view(before.centre)
+  const c1 = await view([before.centre[0] + 0.1, before.centre[1], before.centre[2]])
+  const len = Math.hypot(c1.x - c0.x, c1.y - c0.y)
+  const dir = { x: (c1.x - c0.x) / len, y: (c1.y - c0.y) / len }
+  let grip: { x: number; y: number } | null = null
+  for (let d = 12; d <= 150 && !grip; d += 6) {
+    const at = { x: canvas.x + c0.x + dir.x * d, y: canvas.y + c0.y + dir.y * d }
+    await page.mouse.move(at.x, at.y)
+    if (await hook((h) => h.objects.onHandle())) grip = at
+  }
+  expect(grip, 'a move handle along x').not.toBeNull()
+  await page.mouse.down()
+  await page.mouse.move(grip!.x + dir.x * 60, grip!.y + dir.y * 60, { steps: 4 })
+  await page.mouse.up()
+  const dragged = await draftBox()
+  expect(dragged.centre[0] - before.centre[0]).toBeGreaterThan(0.01)
+  expect(Math.abs(dragged.centre[1] - before.centre[1])).toBeLessThan(1e-9)
+  await expect.poll(() => page.getByTestId('trim-centre-x').inputValue()).toBe(dragged.centre[0].toFixed(3))
   const typed = { 'trim-centre-x': '0', 'trim-centre-y': '0', 'trim-centre-z': '0.63', 'trim-size-x': '0.8', 'trim-size-y': '0.6', 'trim-size-z': '0', 'trim-turn': '0' }
   for (const [id, value] of Object.entries(typed)) await page.getByTestId(id).fill(value)
   await page.getByTestId('trim-save').click()
@@ -238,8 +261,8 @@ it('trims the floor away in the view, makes an object of two stations, and gets 
   // hidden in the view, and dimmed on demand.
   await page.getByTestId('scene-cuts-placement').and(page.locator(`[data-instance-id="${placed.wall}"]`)).getByTestId('scene-cut-outline').click()
   await page.getByTestId('trim-outline-view').selectOption('front')
+  canvas = (await page.getByTestId('scene-viewport').boundingBox())!
   await expect.poll(() => page.getByTestId('profile-banner').innerText()).toMatch(/outline/)
-  const canvas = (await page.getByTestId('scene-viewport').boundingBox())!
   // Right of the door, under the section's slab at 1 m (and clear of the labels and the panel on the screen).
   const corners: [number, number][] = [[0.6, 0.45], [0.95, 0.45], [0.95, 0.85], [0.6, 0.85], [0.6, 0.45]]
   for (const [x, z] of corners) {
