@@ -8,6 +8,12 @@ import type { Picked } from '@/components/viewer/markerPlacing'
 import type { MarkerStroke, MarkerView } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
 
+/** A figure a kind draws with a component of its own (a size's box from above and from the side); the unit is added to its props. */
+export interface KindFigure {
+  component: Component
+  props: Record<string, unknown>
+}
+
 /** What a kind draws in the viewport besides its anchors' dots (app/components/viewer/markerViews.ts adds those and the label). */
 export interface KindDrawing {
   strokes: MarkerStroke[]
@@ -101,8 +107,8 @@ export interface MarkerKindUi<K extends MarkerKind = MarkerKind> {
   caption(marker: Marker): string
   /** The card's facts under the value. */
   facts?(marker: Marker, ctx: CardContext): Fact[]
-  /** A plane figure under the facts (sections and clearances). */
-  figure?(marker: Marker, ctx: CardContext): MarkerFigureData | null
+  /** A figure under the facts: a plane figure (sections and clearances) or the kind's own (`KindFigure`). */
+  figure?(marker: Marker, ctx: CardContext): MarkerFigureData | KindFigure | null
   /** A note under the value (an angle near 0 or 180 degrees). */
   note?(marker: Marker): string | null
   /** The words of a checked marker with no anchors to be on the points (sections, clearances). */

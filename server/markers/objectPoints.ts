@@ -5,7 +5,8 @@ import { compute, sharedFloat64Array } from '../compute/pool'
 import { findObject, listSceneCuts, listTrimsOfObject, type TrimRow } from '../repositories/objects'
 import { findScan } from '../repositories/scans'
 import { listInstances } from '../repositories/scenes'
-import type { ScanIndexes } from '../types'
+import type { PointFilter, ScanIndexes } from '../types'
+import { keepsPoint } from '@shared/measure/trims'
 import { tooManyPoints } from './checkParts'
 
 /**
@@ -46,6 +47,11 @@ export interface ObjectReadProblem {
 
 type LocalTrim = { mode: TrimMode; shape: TrimShape }
 const local = (rows: readonly TrimRow[]): LocalTrim[] => rows.map((t) => ({ mode: t.mode, shape: TrimShape.parse(t.shape) }))
+
+/** The filter of a placement's scene cuts (scan frame), or undefined when it has none: for walks and snaps. */
+export async function sceneCutFilters(db: Conn, instanceIds: readonly string[]): Promise<Map<string, PointFilter>> {
+  return new Map([...(await sceneCutsOf(db, instanceIds))].map(([id, trims]) => [id, keepsPoint(trims)]))
+}
 
 /** A placement's scene cuts in its own frame (for snapping, sections and registration too). */
 export async function sceneCutsOf(db: Conn, instanceIds: readonly string[]): Promise<Map<string, LocalTrim[]>> {
