@@ -226,8 +226,8 @@ export interface SpanmarkObjectsHook {
   cutPoints(): Record<string, number>
   /** Trims drawn as outlines. */
   outlines(): number
-  /** The pointer is over a handle of the box being drawn. */
-  onHandle(): boolean
+  /** The handle of the box being drawn under the pointer ('X', 'Y', 'Z', 'XY', ...), or null. */
+  onHandle(): string | null
 }
 
 type HookWindow = { __spanmark?: Record<string, unknown> }
@@ -239,7 +239,7 @@ export function installObjectsTestHook(viewer: ShallowRef<PointViewer | null>, e
     draft: () => editor.draft.value,
     cutPoints: () => viewer.value?.cutPoints() ?? {},
     outlines: () => viewer.value?.trimOutlineCount ?? 0,
-    onHandle: () => viewer.value?.trimHandleHovered ?? false,
+    onHandle: () => viewer.value?.trimHandleHovered ?? null,
   }
   onMounted(() => {
     w.__spanmark = { ...w.__spanmark, objects: hook }

@@ -365,9 +365,9 @@ export class PointViewer {
     this.needsRender = true
   }
 
-  /** The pointer is over one of the box trim's handles (browser tests find a handle this way). */
-  get trimHandleHovered(): boolean {
-    return this.boxHandles.onHandle
+  /** The box trim's handle under the pointer ('X', 'XY', ...), or null (browser tests find a handle this way). */
+  get trimHandleHovered(): string | null {
+    return this.boxHandles.handle
   }
 
   /** Where the view turns about (scene frame): a new box starts there. */

@@ -96,7 +96,12 @@ export class TrimBoxHandles {
 
   /** The pointer is over one of the handles (a click there is no pick). */
   get onHandle(): boolean {
-    return this.controls.object !== undefined && this.controls.axis !== null
+    return this.handle !== null
+  }
+
+  /** Which handle the pointer is over ('X', 'Y', 'Z', 'XY', ... as three names its axes), or null. */
+  get handle(): string | null {
+    return this.controls.object !== undefined ? this.controls.axis : null
   }
 
   dispose(): void {
