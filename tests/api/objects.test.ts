@@ -6,7 +6,8 @@
 // its own station frame and placed back by a known rigid matrix, made into one object: the same clearance.
 // Stray points (isolated mixed pixels beside an edge) are dropped by the statistical outlier filter (Rusu et
 // al. 2008). Synthetic scans of known geometry made here (tests/utils/solids.ts), not demo data.
-import { resultOf, type Marker, type SceneObject, type Trim } from '@shared/schemas'
+import { resultOf, type Export, type Marker, type SceneObject, type Trim } from '@shared/schemas'
+import { readAll } from '../../server/points/readers/index'
 import { Matrix4 } from 'three'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { upload, waitForScan } from '../utils/scans'
@@ -75,6 +76,26 @@ async function waitChecked(id: string, revisionAbove = 0): Promise<Marker> {
     await new Promise((r) => setTimeout(r, 50))
   }
 }
+
+async function waitForExport(id: string): Promise<Export> {
+  const deadline = Date.now() + 30_000
+  for (;;) {
+    const e = (await owner.agent.get(`/api/exports/${id}`).expect(200)).body.export as Export
+    if (e.status === 'ready' || e.status === 'failed') return e
+    if (Date.now() > deadline) throw new Error(`export ${id} still ${e.status} after 30 s`)
+    await new Promise((r) => setTimeout(r, 50))
+  }
+}
+
+const download = (id: string) =>
+  owner.agent
+    .get(`/api/exports/${id}/file`)
+    .buffer(true)
+    .parse((r, done) => {
+      const parts: Buffer[] = []
+      r.on('data', (c: Buffer) => parts.push(c))
+      r.on('end', () => done(null, Buffer.concat(parts)))
+    })
 
 const walls: Record<number, string> = {}
 const sections = {} as Record<number, string>
@@ -207,6 +228,15 @@ describe('objects and trims', () => {
     console.info(`strays: margin with ${withStrays.check.value?.toFixed(4)}, dropped ${read.stray.dropped}: ${clean.check.value?.toFixed(4)} +- ${clean.check.expandedUncertainty?.toFixed(4)}`)
     expect(withStrays.check.value!).toBeLessThan(TRUE_MARGIN - withStrays.check.expandedUncertainty!)
     expect(Math.abs(clean.check.value! - TRUE_MARGIN)).toBeLessThanOrEqual(clean.check.expandedUncertainty!)
+    // Exported, the object is its kept points: trims and stray points applied (PLY, float32 coordinates).
+    const created = await owner.agent.post(`/api/scenes/${sceneId}/exports`).send({ format: 'ply', objectId: object.id }).expect(202)
+    const done = await waitForExport(created.body.export.id)
+    expect(done).toMatchObject({ status: 'ready', source: 'object', objectId: object.id, pointCount: read.kept })
+    const ply = await readAll(new Uint8Array((await download(done.id)).body as Buffer), 'ply')
+    let lowest = Infinity, widest = 0
+    for (let i = 0; i < ply.positions.length; i += 3) (lowest = Math.min(lowest, ply.positions[i + 2]!)), (widest = Math.max(widest, ply.positions[i]!))
+    expect(lowest).toBeGreaterThan(0.02 - 1e-6)
+    expect(widest).toBeLessThan(W / 2 + 0.01)
     // Signed off, then a trim changes: back to open, with a revision saying why.
     await mentor.agent.put(`/api/markers/${clean.id}/review`).send({ state: 'signed-off' }).expect(200)
     await owner.agent.post(`/api/objects/${object.id}/trims`).send({ instanceId, ...keepBox }).expect(201)
