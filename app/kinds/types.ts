@@ -1,6 +1,6 @@
 import type { Component } from 'vue'
 import type { LengthUnit } from '@shared/format/units'
-import type { Instance, Marker, MarkerCreateBody, MarkerKind } from '@shared/schemas'
+import type { Instance, Marker, MarkerCreateBody, MarkerKind, SceneObject } from '@shared/schemas'
 import type { IconSource } from '@/components/base/icons'
 import type { Fact } from '@/components/markers/markerFacts'
 import type { MarkerFigureData } from '@/components/markers/markerFigure'
@@ -43,6 +43,8 @@ export interface PlacingContext {
   }
   unit: LengthUnit
   placements: Instance[]
+  /** The scene's objects (the things to be moved, made of trimmed placements). */
+  objects: readonly SceneObject[]
   markers: Marker[]
   /** The project's required margin, metres. */
   requiredMargin: number
@@ -54,6 +56,8 @@ export interface PlacingContext {
 export interface CardContext {
   markers: readonly Marker[]
   instances: readonly Instance[]
+  /** The scene's objects, when the page has them (a clearance names one). */
+  objects?: readonly SceneObject[]
   unit: LengthUnit
 }
 

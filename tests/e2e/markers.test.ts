@@ -94,12 +94,16 @@ it('places a distance, flags an anchor typed off the surface, places a clearance
   await expect.poll(() => page.getByTestId('marker-card').getAttribute('data-state')).toBe('off-scan')
   await shot(page, '40b-marker-off-scan')
 
-  // Clearance: the C tool, the chest through the seeded door section.
-  await page.keyboard.press('Escape')
-  await page.keyboard.press('c')
+  // Clearance: the C tool, the chest through the seeded door section. A clearance names an object: the
+  // chest's placement made one (through the API) unless the demo has one of it already.
   const section = markers.find((m) => m.label === 'west door, free opening')!
   const chest = scene.instances.find((i) => i.scanName === 'Chart chest')!
-  await page.getByTestId('marker-clearance-object').selectOption(chest.id)
+  const owner = await ownerAgent()
+  const objects = (await owner.get(`/api/scenes/${scene.id}/objects`).expect(200)).body.objects as { id: string; members: string[] }[]
+  const chestObject = objects.find((o) => o.members.includes(chest.id)) ?? (await owner.post(`/api/scenes/${scene.id}/objects`).send({ name: 'chart chest', members: [chest.id] }).expect(201)).body.object
+  await page.keyboard.press('Escape')
+  await page.keyboard.press('c')
+  await page.getByTestId('marker-clearance-object').selectOption(chestObject.id)
   await page.getByTestId('marker-clearance-section').selectOption(section.id)
   await expect.poll(() => page.getByTestId('marker-clearance-caution').innerText()).toMatch(/planning aid/i)
   await page.getByTestId('marker-clearance-check').click()
