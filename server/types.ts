@@ -65,13 +65,17 @@ export interface Services {
   publicOrigin(): string
 }
 
+/** Which stored points count (scan frame): a placement's scene cuts (shared/measure/trims.ts keepsPoint). */
+export type PointFilter = (x: number, y: number, z: number) => boolean
+
 /** Nearest-point search over stored scans, with their tile caches (server/points/scanIndexes.ts). */
 export interface ScanIndexes {
   nearest(scanId: string, x: number, y: number, z: number, k: number, maxDistance?: number): Promise<{ x: number; y: number; z: number; distance: number }[]>
-  snap(scanId: string, x: number, y: number, z: number): Promise<SnappedPoint | null>
+  /** `keep`: only points it holds for count (a placement's scene cuts, in the scan's frame). */
+  snap(scanId: string, x: number, y: number, z: number, keep?: PointFilter): Promise<SnappedPoint | null>
   /** `maxPoints`: stop reading after maxPoints + 1 points (the caller's cap; see scanIndexes.ts). */
-  slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints?: number): Promise<Float64Array>
-  allPoints(scanId: string, maxPoints?: number): Promise<Float64Array>
+  slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints?: number, keep?: PointFilter): Promise<Float64Array>
+  allPoints(scanId: string, maxPoints?: number, keep?: PointFilter): Promise<Float64Array>
   clearCaches(): Promise<void>
   forget(scanId: string): void
   /** The tile cache all scans share: bytes held, its budget (`limits.nearestCacheBytes`), tiles held. */

@@ -19,6 +19,12 @@ export const queryKeys = {
   sceneState: (sceneId: string, at: string) => ['scenes', sceneId, 'state', at] as const,
   /** The scene's registration report (placements and their registrations). */
   registrations: (sceneId: string) => ['scenes', sceneId, 'registrations'] as const,
+  /** The scene's objects with their members' trims. */
+  objects: (sceneId: string) => ['scenes', sceneId, 'objects'] as const,
+  /** Every placement's scene cuts (one list per placement). */
+  sceneCuts: (sceneId: string) => ['scenes', sceneId, 'scene-cuts'] as const,
+  /** What an object keeps at a revision (counts and a thinned sample). */
+  objectPoints: (objectId: string, revision: number) => ['objects', objectId, 'points', revision] as const,
   exports: (sceneId: string) => ['scenes', sceneId, 'exports'] as const,
   /** One registration (a draft polled while it refines). */
   registration: (registrationId: string) => ['registrations', registrationId] as const,

@@ -65,6 +65,7 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   let workDoc: Y.Doc | null = null
   let recordDoc: Y.Doc | null = null
   let mirror: ReturnType<typeof setTimeout> | null = null
+  let objectsRefetch: ReturnType<typeof setTimeout> | null = null
   /** Markers whose work entry changed after their record entry last did: shown as pending until it moves. */
   const awaiting = new Set<string>()
 
@@ -121,6 +122,8 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
   function stop(): void {
     if (mirror) clearTimeout(mirror)
     mirror = null
+    if (objectsRefetch) clearTimeout(objectsRefetch)
+    objectsRefetch = null
     work?.destroy()
     record?.destroy()
     workDoc?.destroy()
@@ -202,6 +205,18 @@ export function useLiveScene(sceneId: MaybeRefOrGetter<string>) {
       mirrorSoon(id)
     })
     wDoc.getMap(WORK_MAPS.instances).observe(() => mirrorSoon(id))
+    // Objects and trims are read through the API (it gives trims in the scene frame, with counts): a change
+    // by anyone asks for them again, once per burst.
+    const refetchObjects = () => {
+      if (objectsRefetch !== null) return
+      objectsRefetch = setTimeout(() => {
+        objectsRefetch = null
+        void client.invalidateQueries({ queryKey: queryKeys.objects(id) })
+        void client.invalidateQueries({ queryKey: queryKeys.sceneCuts(id) })
+      }, 0)
+    }
+    wDoc.getMap(WORK_MAPS.objects).observe(refetchObjects)
+    wDoc.getMap(WORK_MAPS.trims).observe(refetchObjects)
     rDoc.getMap(RECORD_MAPS.markers).observe((event) => {
       for (const key of event.keysChanged) awaiting.delete(key)
       mirrorSoon(id)

@@ -4,6 +4,7 @@ import { clearanceUi } from './clearance'
 import { distanceUi } from './distance'
 import { pointToPlaneUi } from './pointToPlane'
 import { sectionUi } from './section'
+import { sizeUi } from './size'
 import type { MarkerKindUi } from './types'
 
 /**
@@ -18,6 +19,7 @@ const KIND_UIS: { [K in MarkerKind]: MarkerKindUi<K> } = {
   section: sectionUi,
   clearance: clearanceUi,
   'point-to-plane': pointToPlaneUi,
+  size: sizeUi,
 }
 
 /** The kinds in the dock's order. */
@@ -32,4 +34,4 @@ export function kindOfTool(toolId: string | null | undefined): MarkerKindUi | un
   return MARKER_KIND_UIS.find((k) => k.tool.id === toolId)
 }
 
-export type { MarkerKindUi, PlacingContext, CardContext, KindDrawing } from './types'
+export type { MarkerKindUi, PlacingContext, CardContext, KindDrawing, KindFigure } from './types'

@@ -1,12 +1,18 @@
 import type { Component } from 'vue'
 import type { LengthUnit } from '@shared/format/units'
-import type { Instance, Marker, MarkerCreateBody, MarkerKind } from '@shared/schemas'
+import type { Instance, Marker, MarkerCreateBody, MarkerKind, SceneObject } from '@shared/schemas'
 import type { IconSource } from '@/components/base/icons'
 import type { Fact } from '@/components/markers/markerFacts'
 import type { MarkerFigureData } from '@/components/markers/markerFigure'
 import type { Picked } from '@/components/viewer/markerPlacing'
 import type { MarkerStroke, MarkerView } from '@/viewer/markerLayer'
 import type { Vec3 } from '@/viewer/types'
+
+/** A figure a kind draws with a component of its own (a size's box from above and from the side); the unit is added to its props. */
+export interface KindFigure {
+  component: Component
+  props: Record<string, unknown>
+}
 
 /** What a kind draws in the viewport besides its anchors' dots (app/components/viewer/markerViews.ts adds those and the label). */
 export interface KindDrawing {
@@ -37,6 +43,8 @@ export interface PlacingContext {
   }
   unit: LengthUnit
   placements: Instance[]
+  /** The scene's objects (the things to be moved, made of trimmed placements). */
+  objects: readonly SceneObject[]
   markers: Marker[]
   /** The project's required margin, metres. */
   requiredMargin: number
@@ -48,6 +56,8 @@ export interface PlacingContext {
 export interface CardContext {
   markers: readonly Marker[]
   instances: readonly Instance[]
+  /** The scene's objects, when the page has them (a clearance names one). */
+  objects?: readonly SceneObject[]
   unit: LengthUnit
 }
 
@@ -97,8 +107,8 @@ export interface MarkerKindUi<K extends MarkerKind = MarkerKind> {
   caption(marker: Marker): string
   /** The card's facts under the value. */
   facts?(marker: Marker, ctx: CardContext): Fact[]
-  /** A plane figure under the facts (sections and clearances). */
-  figure?(marker: Marker, ctx: CardContext): MarkerFigureData | null
+  /** A figure under the facts: a plane figure (sections and clearances) or the kind's own (`KindFigure`). */
+  figure?(marker: Marker, ctx: CardContext): MarkerFigureData | KindFigure | null
   /** A note under the value (an angle near 0 or 180 degrees). */
   note?(marker: Marker): string | null
   /** The words of a checked marker with no anchors to be on the points (sections, clearances). */

@@ -27,6 +27,9 @@ import { SceneMark, type MarkKind } from './sceneMarks'
 import { SlabOutline, padExtent, slabAxes, slabPlanes, type PlaneExtent } from './sectionSlab'
 import { TileCache, entryFromTile, tileKey, type TileEntry } from './TileCache'
 import { TileRequests, type TileWant } from './TileRequests'
+import { TrimBoxHandles, type BoxHandleKind, type BoxTrimShape } from './trimBoxHandles'
+import { TrimOutlines, type TrimOutline } from './trimOutlines'
+import type { PlacementTrims } from './trimStates'
 import type {
   ColorMode,
   GizmoMode,
@@ -47,6 +50,8 @@ export const MIN_DRAW_LIMIT = 1_000
 export const MAX_DRAW_LIMIT = 50_000_000
 export const DEFAULT_CACHE_BYTES = 512 * 1024 * 1024
 export const DEFAULT_MAX_REQUESTS = 4
+/** Points whose trim states are computed again per frame after a trim change (1 M took 0.3-0.6 s on the shared 2-core machine). */
+export const TRIM_POINTS_PER_FRAME = 200_000
 /** A click lands on a stored point whose image is within this many CSS pixels of the cursor. */
 export const PICK_TOLERANCE_PX = 6
 const HOVER_EVERY_MS = 70
@@ -109,6 +114,9 @@ export class PointViewer {
   private slabOutline = new SlabOutline()
   private marks: Record<MarkKind, SceneMark>
   private markerLayer: MarkerLayer
+  private trimOutlines: TrimOutlines
+  private boxHandles: TrimBoxHandles
+  private placementTrims = new Map<string, PlacementTrims>()
   private readonly peopleCursors = new Map<number, SceneMark>()
   private cache: TileCache
   private requests: TileRequests
@@ -122,7 +130,7 @@ export class PointViewer {
   private pointSize: number
   private colorMode: ColorMode
   private detailPx: number
-  private clickMode: 'pick' | 'none' = 'pick'
+  private clickMode: 'pick' | 'screen' | 'none' = 'pick'
   /** Picks and the hover ring only on this placement (the align tool's side being clicked), or on all. */
   private pickOnly: string | null = null
   private slab: SectionSlab | null = null
@@ -148,6 +156,7 @@ export class PointViewer {
   private resizeObserver: ResizeObserver
   private disposed = false
   private savedPose: { position: THREE.Vector3; target: THREE.Vector3 } | null = null
+  private cutStyle: 'hide' | 'dim' = 'hide'
 
   constructor(
     private container: HTMLElement,
@@ -202,6 +211,21 @@ export class PointViewer {
       requestRender: this.requestRender,
     })
     this.scene.add(this.markerLayer.object)
+    this.trimOutlines = new TrimOutlines(
+      (p) => this.sceneToRender(p),
+      (instanceId) => this.extentOf(instanceId),
+    )
+    this.boxHandles = new TrimBoxHandles(this.perspective, this.canvas, {
+      toRender: (p) => this.sceneToRender(p),
+      toScene: (p) => this.renderToScene(p),
+      onChange: (shape, final) => this.emitter.emit('trim-box-change', { shape, final }),
+      onDragging: (dragging) => {
+        const controls = this.profileOrbit ?? this.orbit
+        controls.enabled = !dragging && !this.walk.enabled
+      },
+      requestRender: this.requestRender,
+    })
+    this.scene.add(this.trimOutlines.object, this.boxHandles.object)
 
     this.cache = new TileCache(options.cacheBytes ?? DEFAULT_CACHE_BYTES)
     this.requests = new TileRequests(this.source, options.maxRequests ?? DEFAULT_MAX_REQUESTS, this.onTileLoaded, this.onTileFailed)
@@ -283,10 +307,78 @@ export class PointViewer {
     this.needsRender = true
   }
 
-  /** 'pick': a click picks a stored point (and emits `pick`), hovering shows where; 'none': clicks only navigate. */
-  setClickMode(mode: 'pick' | 'none'): void {
+  /**
+   * 'pick': a click picks a stored point (and emits `pick`), hovering shows where; 'screen': a click emits
+   * `screen-click` with where it landed (an outline's corners); 'none': clicks only navigate.
+   */
+  setClickMode(mode: 'pick' | 'screen' | 'none'): void {
     this.clickMode = mode
-    if (mode === 'none') this.showHover(null)
+    this.markerLayer.setPassive(mode === 'screen')
+    if (mode !== 'pick') this.showHover(null)
+  }
+
+  /**
+   * Each placement's trims to show (scan frame, by placement id): its scene cuts hide or dim their points, the
+   * open object's trims light the points they keep. Placements not in the map show every point.
+   */
+  setPlacementTrims(trims: ReadonlyMap<string, PlacementTrims>): void {
+    this.placementTrims = new Map(trims)
+    for (const inst of this.instances.values()) inst.setTrims(this.placementTrims.get(inst.id) ?? null)
+    // At once: the placements' drawn tiles take their new geometries before the next frame.
+    this.updateLod()
+  }
+
+  /** A scene cut's points: hidden (the default) or dimmed. */
+  setCutStyle(style: 'hide' | 'dim'): void {
+    for (const inst of this.instances.values()) inst.material.uniforms.uCutStyle.value = style === 'dim' ? 1 : 0
+    this.cutStyle = style
+    this.needsRender = true
+  }
+
+  /** How many drawn points scene cuts take away, per placement (browser tests). */
+  cutPoints(): Record<string, number> {
+    const out: Record<string, number> = {}
+    for (const inst of this.instances.values()) out[inst.id] = inst.cutCount()
+    return out
+  }
+
+  /** Trims drawn as outlines (scene frame). */
+  setTrimOutlines(trims: readonly TrimOutline[]): void {
+    this.trimOutlines.set(trims)
+    this.needsRender = true
+  }
+
+  /** How many trims are drawn as outlines (browser tests). */
+  get trimOutlineCount(): number {
+    return this.trimOutlines.count
+  }
+
+  /** The outline being drawn on the screen, its corners so far (scene frame). */
+  setOutlineDraft(corners: readonly Vec3[]): void {
+    this.trimOutlines.setDraft(corners)
+    this.needsRender = true
+  }
+
+  /** The box trim being drawn, with its handles (`trim-box-change` as they are dragged), or none. */
+  editTrimBox(shape: BoxTrimShape | null, kind: BoxHandleKind = 'move', colour?: string): void {
+    this.boxHandles.show(shape && this.origin ? shape : null, kind, colour)
+    this.needsRender = true
+  }
+
+  /** The box trim's handle under the pointer ('X', 'XY', ...), or null (browser tests find a handle this way). */
+  get trimHandleHovered(): string | null {
+    return this.boxHandles.handle
+  }
+
+  /** Where the view turns about (scene frame): a new box starts there. */
+  viewCentre(): Vec3 {
+    const target = (this.profileOrbit ?? this.orbit).target
+    return this.renderToScene(target)
+  }
+
+  /** Half the scene's diagonal, metres (a sensible first size for a box). */
+  get radius(): number {
+    return this.sceneRadius()
   }
 
   /** Picks (and the hover ring) land only on this placement's points, or (null) on any drawn placement. */
@@ -404,9 +496,6 @@ export class PointViewer {
   /** Looks at the section head-on: an orthographic camera along the slab's normal, turning disabled. */
   viewSectionHeadOn(): void {
     if (!this.slab || !this.origin) return
-    if (this.walk.enabled) this.setWalking(false)
-    if (!this.ortho) this.savedPose = { position: this.perspective.position.clone(), target: this.orbit.target.clone() }
-    this.disposeProfile()
     const { u, v } = slabAxes(this.slab.normal)
     const n = new THREE.Vector3(...this.slab.normal)
     const radius = this.sceneRadius()
@@ -417,6 +506,60 @@ export class PointViewer {
       .addScaledVector(v, (extent.vMin + extent.vMax) / 2)
     const aspect = this.width / Math.max(this.height, 1)
     const halfHeight = Math.max((extent.vMax - extent.vMin) / 2, (extent.uMax - extent.uMin) / 2 / aspect)
+    this.enterHeadOn(centre, n, v, halfHeight)
+  }
+
+  /**
+   * Looks head-on along a scene axis, no perspective (to draw an outline): `toward` is where the camera looks
+   * (the current view direction snapped to the nearest of ±X, ±Y, ±Z when left out); the whole scene framed
+   * about the current centre of turning. Returns the screen's axes in the scene frame: u to the right, v up,
+   * and n = u × v towards the viewer.
+   */
+  viewAxisHeadOn(toward?: Vec3): { u: Vec3; v: Vec3; n: Vec3; origin: Vec3 } | null {
+    if (!this.origin) return null
+    const camera = this.camera()
+    const look = toward ? new THREE.Vector3(...toward) : camera.getWorldDirection(new THREE.Vector3())
+    const axes = [new THREE.Vector3(1, 0, 0), new THREE.Vector3(0, 1, 0), new THREE.Vector3(0, 0, 1)]
+    let best = axes[0]!.clone()
+    let dot = 0
+    for (const a of axes) {
+      const d = look.dot(a)
+      if (Math.abs(d) > Math.abs(dot)) {
+        dot = d
+        best = a.clone()
+      }
+    }
+    // n points back at the viewer; up is Z for a side view, and +Y (or -Y looking up) for a plan view.
+    const n = best.multiplyScalar(dot > 0 ? -1 : 1)
+    const up = Math.abs(n.z) > 0.5 ? new THREE.Vector3(0, n.z > 0 ? 1 : -1, 0) : new THREE.Vector3(0, 0, 1)
+    const centre = (this.profileOrbit ?? this.orbit).target.clone()
+    this.enterHeadOn(centre, n, up, this.sceneRadius() * 0.9)
+    const u = new THREE.Vector3().crossVectors(up, n).normalize()
+    return { u: [u.x, u.y, u.z], v: [up.x, up.y, up.z], n: [n.x, n.y, n.z], origin: this.renderToScene(centre) }
+  }
+
+  /**
+   * Where a click on the screen (CSS pixels) lands on the plane through `point` across the head-on view (scene
+   * frame), or null outside a head-on view.
+   */
+  screenToPlane(x: number, y: number, point: Vec3): Vec3 | null {
+    if (!this.ortho || !this.origin) return null
+    const camera = this.ortho
+    camera.updateMatrixWorld()
+    const p = new THREE.Vector3((x / this.width) * 2 - 1, -(y / this.height) * 2 + 1, -1).unproject(camera)
+    const n = camera.getWorldDirection(new THREE.Vector3())
+    const o = this.sceneToRender(point)
+    p.addScaledVector(n, o.clone().sub(p).dot(n))
+    return this.renderToScene(p)
+  }
+
+  private enterHeadOn(centre: THREE.Vector3, n: THREE.Vector3, up: THREE.Vector3, halfHeight: number): void {
+    if (this.walk.enabled) this.setWalking(false)
+    if (!this.ortho) this.savedPose = { position: this.perspective.position.clone(), target: this.orbit.target.clone() }
+    this.disposeProfile()
+    const radius = this.sceneRadius()
+    const aspect = this.width / Math.max(this.height, 1)
+    const v = up
     const camera = new THREE.OrthographicCamera(-halfHeight * aspect, halfHeight * aspect, halfHeight, -halfHeight, 0.01, radius * 6 + 10)
     // Up must be set before the controls are made: OrbitControls fixes its frame from camera.up.
     camera.up.copy(v)
@@ -432,6 +575,7 @@ export class PointViewer {
     controls.addEventListener('change', this.onCameraChange)
     this.profileOrbit = controls
     this.gizmo.camera = camera
+    this.boxHandles.setCamera(camera)
     this.emitter.emit('profile-change', true)
     this.onCameraChange()
   }
@@ -440,6 +584,7 @@ export class PointViewer {
     if (!this.ortho) return
     this.disposeProfile()
     this.gizmo.camera = this.perspective
+    this.boxHandles.setCamera(this.perspective)
     this.orbit.enabled = !this.walk.enabled
     if (this.savedPose) {
       this.perspective.position.copy(this.savedPose.position)
@@ -469,6 +614,7 @@ export class PointViewer {
       this.orbit.update()
     }
     this.gizmo.enabled = !on
+    this.boxHandles.setEnabled(!on)
     this.emitter.emit('walk-change', on)
     this.onCameraChange()
   }
@@ -589,6 +735,8 @@ export class PointViewer {
     this.grid.dispose()
     this.slabOutline.dispose()
     this.markerLayer.dispose()
+    this.trimOutlines.dispose()
+    this.boxHandles.dispose()
     for (const mark of this.peopleCursors.values()) mark.dispose()
     for (const mark of Object.values(this.marks)) mark.dispose()
     this.emitter.clear()
@@ -697,6 +845,27 @@ export class PointViewer {
     return new THREE.Vector3(o[0], o[1], o[2])
   }
 
+  private renderToScene(p: THREE.Vector3): Vec3 {
+    const o = this.origin ?? [0, 0, 0]
+    return [p.x + o[0], p.y + o[1], p.z + o[2]]
+  }
+
+  /** A placement's centre and half diagonal (scene frame), or the scene's when it has no points yet. */
+  private extentOf(instanceId?: string): { centre: Vec3; radius: number } {
+    const inst = instanceId ? this.instances.get(instanceId) : undefined
+    if (inst?.tree) {
+      const { min, max } = inst.tree.bounds
+      return { centre: inst.sceneCentre(), radius: Math.max(Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]) / 2, 0.05) }
+    }
+    return { centre: this.sceneCentre(), radius: this.sceneRadius() }
+  }
+
+  private sceneCentre(): Vec3 {
+    if (!this.sceneBox) return this.origin ? [...this.origin] : [0, 0, 0]
+    const c = this.sceneBox.getCenter(new THREE.Vector3())
+    return [c.x, c.y, c.z]
+  }
+
   private sceneToRender(p: Vec3): THREE.Vector3 {
     const o = this.origin ?? [0, 0, 0]
     return new THREE.Vector3(p[0] - o[0], p[1] - o[1], p[2] - o[2])
@@ -757,11 +926,14 @@ export class PointViewer {
       if (!this.origin) {
         this.origin = inst.sceneCentre()
         this.markerLayer.originKnown()
+        this.boxHandles.replace()
       }
+      inst.setTrims(this.placementTrims.get(inst.id) ?? null)
     }
     const u = inst.material.uniforms
     u.uPointSize.value = this.pointSize * this.pixelRatio
     u.uColorMode.value = COLOR_MODE_INDEX[this.colorMode]
+    u.uCutStyle.value = this.cutStyle === 'dim' ? 1 : 0
     this.applyScanUniforms(record)
     if (changed) this.emitter.emit('instance-status', { instanceId: inst.id, status: inst.status, message: inst.message })
   }
@@ -839,6 +1011,7 @@ export class PointViewer {
     const size = box.getSize(new THREE.Vector3())
     const centre = box.getCenter(new THREE.Vector3())
     this.grid.fit(centre.x - o[0], centre.y - o[1], box.min.z - o[2], Math.max(size.x, size.y))
+    this.trimOutlines.rebuild()
     this.updateClipRange()
   }
 
@@ -914,12 +1087,19 @@ export class PointViewer {
       }
     }
     let drawn = 0
-    for (const inst of this.instances.values()) drawn += inst.show(inst.visible ? (shown.get(inst) ?? []) : [])
+    const trimBudget = { points: TRIM_POINTS_PER_FRAME }
+    let trimsPending = false
+    for (const inst of this.instances.values()) {
+      drawn += inst.show(inst.visible ? (shown.get(inst) ?? []) : [], trimBudget)
+      trimsPending ||= inst.trimsPending
+    }
     this.pointsDrawn = drawn
     this.requests.want([...wants.values()])
     this.cache.evict(keep, (entry) => {
       for (const inst of this.instances.values()) if (inst.scanId === entry.scanId) inst.forget(entry.key)
     })
+    // Tiles still showing older trims' states: more of them next frame.
+    if (trimsPending) this.lodDirty = true
     this.needsRender = true
   }
 
@@ -955,7 +1135,7 @@ export class PointViewer {
       if (onlyPickable && this.pickOnly && inst.id !== this.pickOnly) continue
       for (const [key, object] of inst.drawnObjects()) {
         const entry = this.cache.peek(key)
-        if (entry) targets.push({ instance: inst, entry, object })
+        if (entry) targets.push({ instance: inst, entry, object, states: inst.statesOf(key) })
       }
     }
     return targets
@@ -996,15 +1176,19 @@ export class PointViewer {
     this.autoFrame = false
     this.canvas.focus({ preventScroll: true })
     const p = this.canvasPoint(event)
-    this.down = { x: p.x, y: p.y, at: performance.now(), button: event.button, onGizmo: this.gizmo.object !== undefined && this.gizmo.axis !== null }
+    this.down = { x: p.x, y: p.y, at: performance.now(), button: event.button, onGizmo: (this.gizmo.object !== undefined && this.gizmo.axis !== null) || this.boxHandles.onHandle }
   }
 
   private onPointerUp = (event: PointerEvent): void => {
     const down = this.down
     this.down = null
-    if (!down || down.button !== 0 || down.onGizmo || this.gizmo.dragging) return
+    if (!down || down.button !== 0 || down.onGizmo || this.gizmo.dragging || this.boxHandles.dragging) return
     const p = this.canvasPoint(event)
     if (Math.hypot(p.x - down.x, p.y - down.y) > CLICK_SLOP_PX || performance.now() - down.at > CLICK_MAX_MS) return
+    if (this.clickMode === 'screen') {
+      this.emitter.emit('screen-click', p)
+      return
+    }
     if (this.clickMode !== 'pick') return
     void this.pickAt(p.x, p.y).then((result) => {
       if (result && !this.disposed) this.emitter.emit('pick', result)
@@ -1023,7 +1207,7 @@ export class PointViewer {
   }
 
   private onPointerMove = (event: PointerEvent): void => {
-    if (this.clickMode !== 'pick' || event.buttons !== 0 || this.gizmo.dragging) {
+    if (this.clickMode !== 'pick' || event.buttons !== 0 || this.gizmo.dragging || this.boxHandles.dragging) {
       if (this.hoverAt) this.showHover(null)
       return
     }

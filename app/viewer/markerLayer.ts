@@ -260,6 +260,11 @@ export class MarkerLayer {
     this.object.name = 'markers'
   }
 
+  /** Labels let clicks through to the view (an outline being drawn), or (false) take them again. */
+  setPassive(passive: boolean): void {
+    this.labelRenderer.domElement.classList.toggle('sm-marker-labels--passive', passive)
+  }
+
   /** The render origin is fixed from now on: build what was handed over before. */
   originKnown(): void {
     this.ready = true

@@ -6,7 +6,7 @@
  * those no deeper than the front-most one plus a depth window (1 % of its depth, at least 2 cm) count as the
  * surface under the cursor, and of those the one whose image is nearest the cursor is picked. So a click on a
  * wall picks the wall's point under the cursor, not a point 6 px away that happens to be a hair nearer, and
- * never a point seen through the wall.
+ * never a point seen through the wall. A point a scene cut takes away is never a candidate (hidden or dimmed).
  *
  * Work: a cone test in each node's own frame (rigid, so distances hold): the ray is moved into the node's
  * frame once, then per point a dot product and a comparison with the cone's radius at that depth; only points
@@ -15,12 +15,15 @@
  */
 import * as THREE from 'three'
 import type { TileEntry } from './TileCache'
+import { TRIM_STATE } from './trimStates'
 import type { ViewInstance } from './ViewInstance'
 
 export interface PickTarget {
   instance: ViewInstance
   entry: TileEntry
   object: THREE.Points
+  /** The points' trim states (trimStates.ts), or null: a point a scene cut takes away is never picked. */
+  states?: Uint8Array | null
 }
 
 export interface PickHit {
@@ -96,7 +99,9 @@ export function pickPoint(targets: Iterable<PickTarget>, view: PickView, cursorX
     const dx = _local.direction.x, dy = _local.direction.y, dz = _local.direction.z
     const positions = entry.positions
     const count = entry.count
+    const states = target.states ?? null
     for (let i = 0, j = 0; i < count; i++, j += 3) {
+      if (states !== null && states[i] === TRIM_STATE.cut) continue
       const vx = positions[j]! - ox
       const vy = positions[j + 1]! - oy
       const vz = positions[j + 2]! - oz

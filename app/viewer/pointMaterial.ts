@@ -2,6 +2,8 @@
  * The points' shader: round points of a fixed size in pixels, coloured by the scan's RGB, its intensity
  * (normalised by the range loaded so far), the scene height (Spanmark's own ramp, below) or the placement's
  * colour, and clipped by the section slab (three's clipping chunks, so the renderer's clipping planes apply).
+ * A placement with trims shown gets a per-point `trimState` (trimStates.ts): a scene cut's points are hidden
+ * (moved outside the clip volume) or dimmed, an open object's kept points lit, its other points dimmed.
  * Colours are display (sRGB) values written as they are: no colour-space conversion on the way out.
  */
 import * as THREE from 'three'
@@ -36,7 +38,9 @@ const vertexShader = /* glsl */ `
 #include <clipping_planes_pars_vertex>
 attribute vec3 rgb;
 attribute float intensity;
+attribute float trimState;
 uniform float uPointSize;
+uniform float uCutStyle;
 uniform int uColorMode;
 uniform vec3 uPlacementColor;
 uniform float uHasRgb;
@@ -61,6 +65,20 @@ void main() {
   else if (uColorMode == 2) {
     float sceneZ = (modelMatrix * vec4(position, 1.0)).z + uOriginZ;
     c = heightRamp((sceneZ - uHeightRange.x) / max(uHeightRange.y - uHeightRange.x, 1e-6));
+  }
+  // trimState: 0 shown as it is, 1 cut by a scene cut, 2 kept by the open object, 3 left out by it.
+  if (trimState > 0.5 && trimState < 1.5) {
+    if (uCutStyle < 0.5) {
+      gl_Position = vec4(2.0, 2.0, 2.0, 1.0);
+      gl_PointSize = 0.0;
+    } else {
+      c = mix(c, vec3(0.118, 0.106, 0.094), 0.78);
+      gl_PointSize = max(1.0, uPointSize * 0.6);
+    }
+  } else if (trimState > 1.5 && trimState < 2.5) {
+    c = mix(c, vec3(0.788, 0.541, 0.071), 0.6);
+  } else if (trimState > 2.5) {
+    c = mix(c, vec3(0.118, 0.106, 0.094), 0.6);
   }
   vColor = c;
   #include <clipping_planes_vertex>
@@ -88,6 +106,8 @@ export interface PointUniforms {
   uIntensityRange: THREE.IUniform<THREE.Vector2>
   uHeightRange: THREE.IUniform<THREE.Vector2>
   uOriginZ: THREE.IUniform<number>
+  /** A scene cut's points: 0 hidden, 1 dimmed. */
+  uCutStyle: THREE.IUniform<number>
 }
 
 export type PointMaterial = THREE.ShaderMaterial & { uniforms: PointUniforms }
@@ -102,7 +122,12 @@ export function createPointMaterial(): PointMaterial {
     uIntensityRange: { value: new THREE.Vector2(0, 1) },
     uHeightRange: { value: new THREE.Vector2(0, 1) },
     uOriginZ: { value: 0 },
+    uCutStyle: { value: 0 },
   }
   const material = new THREE.ShaderMaterial({ uniforms, vertexShader, fragmentShader, clipping: true })
+  // Tiles drawn without trims carry no trimState: the attribute then reads 0 (shown as it is), whatever another
+  // program last left in that attribute slot.
+  const withDefaults = material as unknown as { defaultAttributeValues: Record<string, number[]> }
+  withDefaults.defaultAttributeValues = { ...withDefaults.defaultAttributeValues, trimState: [0] }
   return material as PointMaterial
 }

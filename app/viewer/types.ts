@@ -88,4 +88,8 @@ export interface ViewerEvents {
   'profile-change': boolean
   /** A marker's label was clicked: its id. */
   'marker-select': string
+  /** A click in 'screen' click mode (an outline's corner): CSS pixels from the canvas's top left. */
+  'screen-click': { x: number; y: number }
+  /** The box trim being drawn was dragged by its handles (`final` once, on release); scene frame. */
+  'trim-box-change': { shape: { centre: Vec3; size: Vec3; rotation: [number, number, number, number] }; final: boolean }
 }

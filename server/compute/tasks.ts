@@ -5,6 +5,7 @@ import { concaveOutline } from '@shared/measure/polygon'
 import { searchPassage, supportPoints } from '@shared/measure/orientation'
 import { strayPoints } from '@shared/measure/strayPoints'
 import { trimMask } from '@shared/measure/trims'
+import { measureSizes } from '@shared/measure/sizes'
 
 /**
  * The tasks a compute worker thread runs: the heavy functions of shared/measure, by name. Each runs as it is
@@ -22,6 +23,7 @@ export const TASKS = {
   searchPassage,
   trimMask,
   strayPoints,
+  measureSizes,
 }
 
 export type Tasks = typeof TASKS

@@ -253,7 +253,9 @@ export interface ExportsTable {
   id: Generated<string>
   project_id: string
   scene_id: string
-  source: 'scene' | 'placement'
+  source: 'scene' | 'placement' | 'object'
+  /** The object exported (source 'object'); null once it is deleted. */
+  object_id: ColumnType<string | null, string | null | undefined, string | null>
   /** The placement exported (source 'placement'); null once that placement is removed. */
   instance_id: string | null
   format: 'las' | 'e57' | 'ply'

@@ -3,7 +3,7 @@ import { transformPoint } from '@shared/geometry/rigidTransform'
 import { anchorBudget, type UncertaintyPart } from '@shared/measure/uncertainty'
 import { blankCheck, TOLERANCE_LIMITS, type Check, type CheckedAnchor, type CheckPart, type MarkerKind, type Vec3 } from '@shared/schemas'
 import type { StoredAnchor } from '../repositories/markers'
-import type { ScanIndexes } from '../types'
+import type { PointFilter, ScanIndexes } from '../types'
 
 /**
  * What every kind's check shares: its inputs and context, snapping anchors to the stored points with their
@@ -19,6 +19,8 @@ export interface CheckPlacement {
    * registrationUncertainty); 0 for a placement that is not aligned (the reference, or moved by hand).
    */
   registrationU: number
+  /** The placement's scene cuts (scan frame): the points they cut are never snapped to or read. */
+  keep?: PointFilter
 }
 
 export interface CheckScan {
@@ -122,7 +124,7 @@ export async function snapAnchor(ctx: CheckContext, anchor: StoredAnchor, index:
   const { placement, scan } = placementOf(ctx, anchor.instanceId, name)
   const picked = transformPoint(placement.matrix, anchor.x, anchor.y, anchor.z)
   const tolerance = toleranceFor(ctx.settings, scan.spacing)
-  const found = await ctx.points.snap(placement.scanId, anchor.x, anchor.y, anchor.z)
+  const found = await ctx.points.snap(placement.scanId, anchor.x, anchor.y, anchor.z, placement.keep)
   if (!found) throw new Stop('invalid-geometry', `${name}: the scan has no stored points.`)
   const snapped = transformPoint(placement.matrix, found.x, found.y, found.z)
   const budget = anchorBudget({

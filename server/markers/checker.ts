@@ -1,5 +1,5 @@
 import { Stop } from './checkParts'
-import { readObjectPoints } from './objectPoints'
+import { readObjectPoints, sceneCutFilters } from './objectPoints'
 import type pino from 'pino'
 import type { Check } from '@shared/schemas'
 import type { Db } from '../db'
@@ -268,8 +268,10 @@ export class MarkerChecker {
     const registered = await registrationStates(this.db, sceneId, instances)
     const placements = new Map<string, CheckPlacement>()
     const scans = new Map<string, CheckScan>()
+    const cuts = await sceneCutFilters(this.db, instances.map((i) => i.id))
     for (const i of instances) {
-      placements.set(i.id, { matrix: i.matrix, scanId: i.scan_id, registrationU: registered.get(i.id)?.current?.u ?? 0 })
+      const keep = cuts.get(i.id)
+      placements.set(i.id, { matrix: i.matrix, scanId: i.scan_id, registrationU: registered.get(i.id)?.current?.u ?? 0, ...(keep ? { keep } : {}) })
       if (!scans.has(i.scan_id)) {
         const scan = await findScan(this.db, i.scan_id)
         if (scan) scans.set(i.scan_id, { name: scan.name, status: scan.status, spacing: scan.spacing, pointUncertainty: scan.entered_uncertainty ?? scan.estimated_uncertainty })

@@ -1,11 +1,13 @@
 import type { CheckState } from '@shared/collab/states'
 import { TrimShape, type TrimMode } from '@shared/schemas'
 import type { Conn } from '../db'
+import { HttpError } from '../errors'
 import { compute, sharedFloat64Array } from '../compute/pool'
 import { findObject, listSceneCuts, listTrimsOfObject, type TrimRow } from '../repositories/objects'
 import { findScan } from '../repositories/scans'
 import { listInstances } from '../repositories/scenes'
-import type { ScanIndexes } from '../types'
+import type { PointFilter, ScanIndexes } from '../types'
+import { keepsPoint } from '@shared/measure/trims'
 import { tooManyPoints } from './checkParts'
 
 /**
@@ -46,6 +48,11 @@ export interface ObjectReadProblem {
 
 type LocalTrim = { mode: TrimMode; shape: TrimShape }
 const local = (rows: readonly TrimRow[]): LocalTrim[] => rows.map((t) => ({ mode: t.mode, shape: TrimShape.parse(t.shape) }))
+
+/** The filter of a placement's scene cuts (scan frame), or undefined when it has none: for walks and snaps. */
+export async function sceneCutFilters(db: Conn, instanceIds: readonly string[]): Promise<Map<string, PointFilter>> {
+  return new Map([...(await sceneCutsOf(db, instanceIds))].map(([id, trims]) => [id, keepsPoint(trims)]))
+}
 
 /** A placement's scene cuts in its own frame (for snapping, sections and registration too). */
 export async function sceneCutsOf(db: Conn, instanceIds: readonly string[]): Promise<Map<string, LocalTrim[]>> {
@@ -88,7 +95,14 @@ export async function readObjectPoints(
     const scan = await findScan(deps.db, placement.scan_id)
     if (scan && (scan.status === 'queued' || scan.status === 'processing')) return { state: 'pending', problem: `the object “${name}”: its scan “${scan.name}” is still being processed.` }
     if (!scan || scan.status !== 'ready') return { state: 'invalid-geometry', problem: `the object “${name}”: its scan ${scan ? `“${scan.name}” failed to process` : 'was deleted'}.` }
-    const xyz = await deps.points.allPoints(placement.scan_id, cap)
+    let xyz: Float64Array
+    try {
+      xyz = await deps.points.allPoints(placement.scan_id, cap)
+    } catch (err) {
+      // A scan marked ready with no tiles (nothing stored): a problem of this object, not a missing route.
+      if (err instanceof HttpError && err.status === 404) return { state: 'invalid-geometry', problem: `the object “${name}”: its scan “${scan.name}” has no stored points.` }
+      throw err
+    }
     if (options.cancelled?.()) return { state: 'pending', problem: 'superseded by a newer change' }
     if (xyz.length / 3 > cap) return { state: 'invalid-geometry', problem: tooMany(`the object “${name}”: its scan “${scan.name}”`, cap) }
     const sceneCuts = cuts.get(id) ?? []

@@ -4,7 +4,7 @@ import { getTilesForSearch, listTiles } from '../repositories/scans'
 import { decodeTile } from '@shared/points/tileFormat'
 import { NearestIndex, type LoadedTile } from './index/nearestIndex'
 import { SharedByteCache } from './index/tileCache'
-import type { ScanIndexes, SnappedPoint } from '../types'
+import type { PointFilter, ScanIndexes, SnappedPoint } from '../types'
 
 /**
  * One nearest-point index per ready scan, built from its hierarchy on first use and kept while used
@@ -67,9 +67,18 @@ export class ScanIndexRegistry implements ScanIndexes {
   }
 
   /** The nearest stored point with its per-point standard uncertainty when the scan has one. */
-  async snap(scanId: string, x: number, y: number, z: number): Promise<SnappedPoint | null> {
+  async snap(scanId: string, x: number, y: number, z: number, keep?: PointFilter): Promise<SnappedPoint | null> {
     const index = await this.index(scanId)
-    const [found] = await index.nearest(x, y, z, 1)
+    let found: Awaited<ReturnType<NearestIndex['nearest']>>[number] | undefined
+    if (!keep) [found] = await index.nearest(x, y, z, 1)
+    else {
+      // Never to a cut point: the nearest that counts, among ever more neighbours.
+      for (let k = 16; !found; k *= 8) {
+        const near = await index.nearest(x, y, z, k)
+        found = near.find((p) => keep(p.x, p.y, p.z))
+        if (near.length < k || k > 1 << 20) break
+      }
+    }
     if (!found) return null
     return { x: found.x, y: found.y, z: found.z, distance: found.distance, uncertainty: index.uncertaintyOf(found.key, found.index) }
   }
@@ -78,18 +87,18 @@ export class ScanIndexRegistry implements ScanIndexes {
    * Stored points within `half` of a plane (scan frame), as x y z triples, float64. With `maxPoints`, reading
    * stops at maxPoints + 1 points: the caller tells an over-full slab by the length, and no more is held.
    */
-  async slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints = Infinity): Promise<Float64Array> {
+  async slab(scanId: string, origin: readonly number[], normal: readonly number[], half: number, maxPoints = Infinity, keep?: PointFilter): Promise<Float64Array> {
     const out = new GrowableXyz()
     const index = await this.index(scanId)
-    await collectUpTo(out, maxPoints, (visit) => index.forEachPointInSlab(origin, normal, half, visit))
+    await collectUpTo(out, maxPoints, (visit) => index.forEachPointInSlab(origin, normal, half, visit), keep)
     return out.array()
   }
 
   /** Every stored point of the scan (scan frame), x y z triples; with `maxPoints`, as `slab`. */
-  async allPoints(scanId: string, maxPoints = Infinity): Promise<Float64Array> {
+  async allPoints(scanId: string, maxPoints = Infinity, keep?: PointFilter): Promise<Float64Array> {
     const out = new GrowableXyz()
     const index = await this.index(scanId)
-    await collectUpTo(out, maxPoints, (visit) => index.forEachPoint(visit))
+    await collectUpTo(out, maxPoints, (visit) => index.forEachPoint(visit), keep)
     return out.array()
   }
 
@@ -112,9 +121,10 @@ export class ScanIndexRegistry implements ScanIndexes {
 /** Thrown from a visitor to stop a walk once the cap is passed (the tree walks have no other way out). */
 const FULL = Symbol('full')
 
-async function collectUpTo(out: GrowableXyz, maxPoints: number, walk: (visit: (x: number, y: number, z: number) => void) => Promise<unknown>): Promise<void> {
+async function collectUpTo(out: GrowableXyz, maxPoints: number, walk: (visit: (x: number, y: number, z: number) => void) => Promise<unknown>, keep?: PointFilter): Promise<void> {
   try {
     await walk((x, y, z) => {
+      if (keep && !keep(x, y, z)) return
       out.push(x, y, z)
       if (out.count > maxPoints) throw FULL
     })

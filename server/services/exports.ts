@@ -7,6 +7,7 @@ import { HttpError } from '../errors'
 import { sendExport } from '../jobs/queue'
 import { findExport, insertExport, listExports } from '../repositories/exports'
 import { findInstance, findScene, listInstances } from '../repositories/scenes'
+import { findObject, type ObjectRow } from '../repositories/objects'
 import type { Services } from '../types'
 
 /** The scene's list shows this many exports, newest first. */
@@ -19,6 +20,7 @@ export function toExport(row: Selectable<ExportsTable>): Export {
     sceneId: row.scene_id,
     source: row.source,
     instanceId: row.instance_id,
+    objectId: row.object_id,
     format: row.format,
     fileName: row.file_name,
     status: row.status,
@@ -51,7 +53,13 @@ export async function createExport(s: Services, sceneId: string, body: ExportCre
   const scene = await findScene(s.db, sceneId)
   if (!scene) throw HttpError.notFound('No such scene.')
   let placements
-  if (body.instanceId) {
+  let object: ObjectRow | undefined
+  if (body.objectId) {
+    object = await findObject(s.db, body.objectId)
+    if (!object || object.scene_id !== sceneId) throw new HttpError(404, ErrorCode.notFound, 'body.objectId: no such object in this scene.', 'objectId')
+    const all = await listInstances(s.db, sceneId)
+    placements = all.filter((p) => object!.members.includes(p.id))
+  } else if (body.instanceId) {
     const instance = await findInstance(s.db, body.instanceId)
     if (!instance || instance.scene_id !== sceneId) throw new HttpError(404, ErrorCode.notFound, 'body.instanceId: no such placement in this scene.', 'instanceId')
     placements = [instance]
@@ -67,10 +75,11 @@ export async function createExport(s: Services, sceneId: string, body: ExportCre
   const row = await insertExport(s.db, {
     project_id: scene.project_id,
     scene_id: sceneId,
-    source: body.instanceId ? 'placement' : 'scene',
+    source: object ? 'object' : body.instanceId ? 'placement' : 'scene',
     instance_id: body.instanceId ?? null,
+    object_id: object?.id ?? null,
     format: body.format,
-    file_name: fileNameOf(body.instanceId ? [scene.name, placements[0]!.scan_name] : [scene.name], body.format),
+    file_name: fileNameOf(object ? [scene.name, object.name] : body.instanceId ? [scene.name, placements[0]!.scan_name] : [scene.name], body.format),
     requested_by: userId,
   })
   await sendExport(s.boss, row.id)

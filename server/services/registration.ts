@@ -1,3 +1,5 @@
+import { sceneCutsOf } from '../markers/objectPoints'
+import { keepsPoint } from '@shared/measure/trims'
 import { randomUUID } from 'node:crypto'
 import { IDENTITY, invertRigid, multiplyRigid, rigidProblem, transformPoint, type Matrix4 } from '@shared/geometry/rigidTransform'
 import { fitSphereKnownRadius } from '@shared/geometry/sphereFit'
@@ -193,7 +195,8 @@ async function settingsOf(s: Services, sceneId: string) {
 async function snapSide(s: Services, side: Side, picked: Vec3, field: string, target: 'point' | 'sphere', radius: number, settings: Awaited<ReturnType<typeof settingsOf>>): Promise<TieSide> {
   const { instance, scan } = side
   const [lx, ly, lz] = transformPoint(invertRigid(instance.matrix), ...picked)
-  const found = await s.scanIndexes.snap(scan.id, lx, ly, lz)
+  const cuts = (await sceneCutsOf(s.db, [instance.id])).get(instance.id)
+  const found = await s.scanIndexes.snap(scan.id, lx, ly, lz, cuts ? keepsPoint(cuts) : undefined)
   if (!found) throw invalid(field, `the scan "${instance.scan_name}" has no stored points.`)
   const tolerance = toleranceFor(settings, scan.spacing)
   if (found.distance > tolerance) {
@@ -396,8 +399,12 @@ async function runRefine(s: Services, id: string, initial: StoredIcp, signal: Ab
     const [moving, held] = await Promise.all([findInstance(s.db, row.moving_instance_id), row.held_instance_id ? findInstance(s.db, row.held_instance_id) : undefined])
     if (!moving || !held) throw new Error('a placement of this registration was removed')
     const heldScan = await findScan(s.db, held.scan_id)
-    const target = await s.registrationJobs.target(`${held.scan_id}:${heldScan?.ready_at?.toISOString() ?? ''}`, () => s.scanIndexes.allPoints(held.scan_id))
-    const movingPoints = await s.scanIndexes.allPoints(moving.scan_id)
+    // Scene cuts (people walking past, a tripod leg) are left out of the fit on both sides.
+    const cuts = await sceneCutsOf(s.db, [held.id, moving.id])
+    const heldKeep = cuts.get(held.id), movingKeep = cuts.get(moving.id)
+    const cutKey = heldKeep ? `:${JSON.stringify(heldKeep)}` : ''
+    const target = await s.registrationJobs.target(`${held.scan_id}:${heldScan?.ready_at?.toISOString() ?? ''}${cutKey}`, () => s.scanIndexes.allPoints(held.scan_id, Infinity, heldKeep ? keepsPoint(heldKeep) : undefined))
+    const movingPoints = await s.scanIndexes.allPoints(moving.scan_id, Infinity, movingKeep ? keepsPoint(movingKeep) : undefined)
     signal.throwIfAborted()
     await save({ stage: 'pairing the points' })
     const fit = (row.fit as StoredFit | null) ?? null

@@ -4,6 +4,7 @@ import { clearance } from './clearance'
 import { distance } from './distance'
 import { pointToPlane } from './pointToPlane'
 import { section } from './section'
+import { size } from './size'
 
 /**
  * The marker kinds, one module each (shared/kinds/<kind>/: params, create body, result, words). The API's
@@ -11,7 +12,7 @@ import { section } from './section'
  * server's checks (server/markers/kinds/) and the client's tools (app/kinds/) keep their own registries keyed
  * by these kinds. Adding a kind: DEVELOPERS.md, "Adding things": a marker kind.
  */
-export const KINDS = [distance, angle, section, clearance, pointToPlane] as const
+export const KINDS = [distance, angle, section, clearance, pointToPlane, size] as const
 
 type Kinds = typeof KINDS
 type Kind = Kinds[number]

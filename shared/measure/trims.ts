@@ -176,6 +176,16 @@ export function insideTrim(shape: TrimShape, x: number, y: number, z: number): b
   return insideCompiled(compile(shape), x, y, z)
 }
 
+/**
+ * The rule as a predicate over single points, constants compiled once: for walks that visit points one at a
+ * time (a slab, a nearest-point search) rather than holding them in an array.
+ */
+export function keepsPoint(trims: readonly TrimLike[]): (x: number, y: number, z: number) => boolean {
+  const keeps = trims.filter((t) => t.mode === 'keep').map((t) => compile(t.shape))
+  const cuts = trims.filter((t) => t.mode === 'cut').map((t) => compile(t.shape))
+  return (x, y, z) => (keeps.length === 0 || keeps.some((c) => insideCompiled(c, x, y, z))) && !cuts.some((c) => insideCompiled(c, x, y, z))
+}
+
 /** Sets out[i] = to where out[i] === from and point i is inside c: one tight loop per shape kind. */
 function pass(c: Compiled, xyz: Float64Array, out: Uint8Array, from: number, to: number): void {
   const n = out.length

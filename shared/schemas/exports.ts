@@ -9,7 +9,7 @@ export const EXPORT_FORMATS = ['las', 'e57', 'ply'] as const
 export const ExportFormat = z.enum(EXPORT_FORMATS, { error: "must be one of 'las', 'e57', 'ply'" })
 export type ExportFormat = z.infer<typeof ExportFormat>
 
-export const EXPORT_SOURCES = ['scene', 'placement'] as const
+export const EXPORT_SOURCES = ['scene', 'placement', 'object'] as const
 export const ExportSourceKind = z.enum(EXPORT_SOURCES)
 export type ExportSourceKind = z.infer<typeof ExportSourceKind>
 
@@ -26,10 +26,12 @@ export const EXPORT_FORMAT_LABELS: Record<ExportFormat, string> = {
 export const ExportCreateBody = z
   .object({
     format: ExportFormat,
-    /** With an instance id: that placement alone; without: the whole scene. */
+    /** With an instance id: that placement alone; with an object id: the object's kept points; without: the whole scene. */
     instanceId: Id.optional(),
+    objectId: Id.optional(),
   })
   .strict()
+  .refine((b) => !(b.instanceId && b.objectId), { error: 'give instanceId (a placement) or objectId (an object), not both', path: ['objectId'] })
 export type ExportCreateBody = z.infer<typeof ExportCreateBody>
 
 export const Export = z.object({
@@ -38,6 +40,8 @@ export const Export = z.object({
   sceneId: Id,
   source: ExportSourceKind,
   instanceId: Id.nullable(),
+  /** The object exported (source 'object'); null once it is deleted. */
+  objectId: Id.nullable().default(null),
   format: ExportFormat,
   fileName: z.string(),
   status: z.enum(EXPORT_STATUSES),

@@ -6,7 +6,8 @@
 // its own station frame and placed back by a known rigid matrix, made into one object: the same clearance.
 // Stray points (isolated mixed pixels beside an edge) are dropped by the statistical outlier filter (Rusu et
 // al. 2008). Synthetic scans of known geometry made here (tests/utils/solids.ts), not demo data.
-import { resultOf, type Marker, type SceneObject, type Trim } from '@shared/schemas'
+import { resultOf, type Export, type Marker, type SceneObject, type Trim } from '@shared/schemas'
+import { readAll } from '../../server/points/readers/index'
 import { Matrix4 } from 'three'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { upload, waitForScan } from '../utils/scans'
@@ -75,6 +76,26 @@ async function waitChecked(id: string, revisionAbove = 0): Promise<Marker> {
     await new Promise((r) => setTimeout(r, 50))
   }
 }
+
+async function waitForExport(id: string): Promise<Export> {
+  const deadline = Date.now() + 30_000
+  for (;;) {
+    const e = (await owner.agent.get(`/api/exports/${id}`).expect(200)).body.export as Export
+    if (e.status === 'ready' || e.status === 'failed') return e
+    if (Date.now() > deadline) throw new Error(`export ${id} still ${e.status} after 30 s`)
+    await new Promise((r) => setTimeout(r, 50))
+  }
+}
+
+const download = (id: string) =>
+  owner.agent
+    .get(`/api/exports/${id}/file`)
+    .buffer(true)
+    .parse((r, done) => {
+      const parts: Buffer[] = []
+      r.on('data', (c: Buffer) => parts.push(c))
+      r.on('end', () => done(null, Buffer.concat(parts)))
+    })
 
 const walls: Record<number, string> = {}
 const sections = {} as Record<number, string>
@@ -207,6 +228,15 @@ describe('objects and trims', () => {
     console.info(`strays: margin with ${withStrays.check.value?.toFixed(4)}, dropped ${read.stray.dropped}: ${clean.check.value?.toFixed(4)} +- ${clean.check.expandedUncertainty?.toFixed(4)}`)
     expect(withStrays.check.value!).toBeLessThan(TRUE_MARGIN - withStrays.check.expandedUncertainty!)
     expect(Math.abs(clean.check.value! - TRUE_MARGIN)).toBeLessThanOrEqual(clean.check.expandedUncertainty!)
+    // Exported, the object is its kept points: trims and stray points applied (PLY, float32 coordinates).
+    const created = await owner.agent.post(`/api/scenes/${sceneId}/exports`).send({ format: 'ply', objectId: object.id }).expect(202)
+    const done = await waitForExport(created.body.export.id)
+    expect(done).toMatchObject({ status: 'ready', source: 'object', objectId: object.id, pointCount: read.kept })
+    const ply = await readAll(new Uint8Array((await download(done.id)).body as Buffer), 'ply')
+    let lowest = Infinity, widest = 0
+    for (let i = 0; i < ply.positions.length; i += 3) (lowest = Math.min(lowest, ply.positions[i + 2]!)), (widest = Math.max(widest, ply.positions[i]!))
+    expect(lowest).toBeGreaterThan(0.02 - 1e-6)
+    expect(widest).toBeLessThan(W / 2 + 0.01)
     // Signed off, then a trim changes: back to open, with a revision saying why.
     await mentor.agent.put(`/api/markers/${clean.id}/review`).send({ state: 'signed-off' }).expect(200)
     await owner.agent.post(`/api/objects/${object.id}/trims`).send({ instanceId, ...keepBox }).expect(201)
@@ -215,5 +245,39 @@ describe('objects and trims', () => {
     const revisions = (await owner.agent.get(`/api/markers/${clean.id}/history`).expect(200)).body.revisions as { action: string; note: string | null }[]
     expect(revisions.at(-1)).toMatchObject({ action: 'reopened', note: expect.stringContaining('“box with strays”') })
     await waitChecked(clean.id, clean.check.basedOn)
+  })
+
+  it('a scene cut leaves a person walking past out of the section and of snapping, for everyone reading the placement', async () => {
+    // The 0.90 m door with someone standing in it (a block 0.25 x 0.3 x 1.7 m at x 0.05..0.30, clear of the jamb).
+    const walled = wallWithOpening({ width: 0.9, height: 2.0, thickness: 0.2, noise: 0.002, seed: 60 })
+    const person = new SurfaceSampler(0.01, 0.002, 61)
+    person.rect([0.05, -0.15, 0], Z, 1.7, Y, 0.3).rect([0.05, -0.15, 1.7], X, 0.25, Y, 0.3).rect([0.05, -0.15, 0], X, 0.25, Z, 1.7).rect([0.3, -0.15, 0], Y, 0.3, Z, 1.7)
+    walled.xyz.push(...person.xyz)
+    const shift = new Matrix4().makeTranslation(20, 0, 0).elements
+    const wallId = await scanOf(walled, 'door-with-person', 0.002, shift)
+    const anchor = (x: number) => ({ instanceId: wallId, x: 20 + x, y: 0, z: 1 })
+    const section = await waitChecked((await post({ kind: 'section', anchors: [anchor(-0.45), anchor(0.45)], params: { plane: 'two-points', thickness: 0.1, opening: true } })).id)
+    const blocked = resultOf(section.check, 'section')!.opening!.clearWidth
+    // An anchor picked on the person's face snaps to it.
+    const onPerson = await waitChecked((await post({ kind: 'distance', anchors: [{ instanceId: wallId, x: 20.051, y: 0, z: 1 }, anchor(-0.45)] })).id)
+    expect(onPerson.check.anchors[0]!.residual!).toBeLessThan(0.01)
+    // Cut the person out of the placement (scene frame in; a scene cut only cuts).
+    await owner.agent.post(`/api/instances/${wallId}/trims`).send({ mode: 'cut', label: 'someone in the door', shape: { shape: 'box', centre: [20.175, 0, 0.96], size: [0.3, 0.36, 1.88] } }).expect(201)
+    const cleared = await waitChecked(section.id, section.check.basedOn)
+    const width = resultOf(cleared.check, 'section')!.opening!.clearWidth
+    const U = resultOf(cleared.check, 'section')!.opening!.uncertainty.width
+    console.info(`door with a person: clear width ${blocked.toFixed(3)} m; person cut: ${width.toFixed(4)} +- ${U.toFixed(4)} m`)
+    expect(blocked).toBeLessThan(0.65)
+    // Cut out, the person is as if never there: the same door scanned without them gives the same width within
+    // U (the scans' spacing is estimated from all their points, so the two do not agree to the last digit).
+    const emptyId = await scanOf(wallWithOpening({ width: 0.9, height: 2.0, thickness: 0.2, noise: 0.002, seed: 60 }), 'door-empty', 0.002, new Matrix4().makeTranslation(26, 0, 0).elements)
+    const empty = await waitChecked((await post({ kind: 'section', anchors: [{ instanceId: emptyId, x: 25.55, y: 0, z: 1 }, { instanceId: emptyId, x: 26.45, y: 0, z: 1 }], params: { plane: 'two-points', thickness: 0.1, opening: true } })).id)
+    expect(Math.abs(width - resultOf(empty.check, 'section')!.opening!.clearWidth)).toBeLessThanOrEqual(U)
+    expect(Math.abs(width - 0.9)).toBeLessThanOrEqual(2 * U)
+    // The same pick now snaps to the nearest point that counts (the floor or the jamb, far off), never to a cut point.
+    const moved = await waitChecked(onPerson.id, onPerson.check.basedOn)
+    expect(moved.check.anchors[0]!.residual!).toBeGreaterThan(0.1)
+    const cuts = (await owner.agent.get(`/api/instances/${wallId}/trims`).expect(200)).body.trims as Trim[]
+    expect(cuts.map((c) => c.label)).toEqual(['someone in the door'])
   })
 })

@@ -64,6 +64,10 @@ export const ICONS = {
   align: ['M6.5 11.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M13.5 4.5a2 2 0 1 1-4 0 2 2 0 0 1 4 0z', 'M6 10l4-4', 'M2 6.5V2h4.5', 'M14 9.5V14H9.5'],
   /** A checkpoint: a pennant on a staff. */
   pennant: ['M4 14V2.5', 'M4 3h8l-2.2 2.6L12 8.2H4'],
+  /** An object: a crate seen from a corner, on a short base line. */
+  object: ['M8 2.5l5 2.4v5.6L8 12.9 3 10.5V4.9z', 'M3 4.9l5 2.4 5-2.4', 'M8 7.3v5.6', 'M2 14.2h12'],
+  /** A trim: a dashed frame with a blade across one corner. */
+  trim: ['M2.5 5V2.5H5M7 2.5h2M11 2.5h2.5V5M13.5 7v2M13.5 11v2.5H11M9 13.5H7M5 13.5H2.5V11M2.5 9V7', 'M4.5 11.5l7-7'],
 } as const
 
 export type IconName = keyof typeof ICONS

@@ -22,13 +22,14 @@ export const clearanceUi: MarkerKindUi<'clearance'> = {
   colour: '#F08A5D',
   tool: { id: 'clearance', key: 'C', label: 'Clearance: an object through an opening' },
   clicks: () => 0,
-  hint: () => 'Choose the object’s placement and a section with an opening, then check.',
+  hint: () => 'Choose the object and a section with an opening, then check.',
   panel: {
     component: defineAsyncComponent(() => import('./ClearancePanel.vue')),
-    bind: ({ tools, unit, placements, markers, requiredMargin, likelyPlacementId }, ui) => ({
+    bind: ({ tools, unit, placements, objects, markers, requiredMargin, likelyPlacementId }, ui) => ({
       toolKey: ui.tool.key,
       hint: tools.hint,
       placements,
+      objects,
       markers,
       defaultMargin: requiredMargin,
       preferredPlacementId: likelyPlacementId,
@@ -54,12 +55,14 @@ export const clearanceUi: MarkerKindUi<'clearance'> = {
   },
   labelPrefix: () => 'margin ',
   caption: () => 'smallest margin',
-  facts(marker, { markers, instances, unit }) {
+  facts(marker, { markers, instances, objects, unit }) {
     const c = resultOf(marker.check, 'clearance')
-    const params = marker.params as { objectInstanceId?: string; sectionMarkerId?: string; alsoThrough?: string[] }
+    const params = marker.params as { objectId?: string; objectInstanceId?: string; sectionMarkerId?: string; alsoThrough?: string[] }
     const labelOf = (id: string | undefined) => markers.find((m) => m.id === id)?.label ?? 'a removed section'
+    // A clearance names an object; an older one names a placement, read as an object of that one placement.
+    const objectText = params.objectId !== undefined ? (objects?.find((o) => o.id === params.objectId)?.name ?? 'a removed object') : placementName(instances, params.objectInstanceId)
     const out: Fact[] = [
-      { term: 'object', text: placementName(instances, params.objectInstanceId) },
+      { term: 'object', text: objectText },
       { term: 'through', text: [params.sectionMarkerId, ...(params.alsoThrough ?? [])].map(labelOf).join(', then ') },
     ]
     if (!c) return out

@@ -1,7 +1,8 @@
 import type { ClearanceParams, MarkerCreateBody } from '@shared/schemas'
 
 export interface ClearanceOptions {
-  objectInstanceId: string
+  /** The object (shared/schemas/objects.ts) that must pass: its members' kept points. */
+  objectId: string
   sectionMarkerId: string
   /** Further sections along the travel: the passage is the overlap of their openings. */
   alsoThrough?: string[]
@@ -15,7 +16,7 @@ export interface ClearanceOptions {
 
 export function clearanceBody(options: ClearanceOptions): MarkerCreateBody {
   const params: ClearanceParams = {
-    objectInstanceId: options.objectInstanceId,
+    objectId: options.objectId,
     sectionMarkerId: options.sectionMarkerId,
   }
   if (options.alsoThrough?.length) params.alsoThrough = options.alsoThrough

@@ -5,6 +5,7 @@ import { clearance } from './clearance'
 import { distance } from './distance'
 import { pointToPlane } from './pointToPlane'
 import { section } from './section'
+import { size } from './size'
 
 /**
  * The server's side of each marker kind: its check. A kind's check gets the check frame (`base`: state,
@@ -39,6 +40,7 @@ const KIND_CHECKS: Record<MarkerKind, KindCheck> = {
   section,
   clearance,
   'point-to-plane': pointToPlane,
+  size,
 }
 
 export function kindCheck(kind: MarkerKind): KindCheck {

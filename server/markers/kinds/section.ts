@@ -78,7 +78,7 @@ export async function computeSection(input: CheckInput, s: Snapped[], ctx: Check
     const o = transformPoint(inv, origin[0], origin[1], origin[2])
     const r = inv
     const n = [r[0]! * frame.n[0] + r[4]! * frame.n[1] + r[8]! * frame.n[2], r[1]! * frame.n[0] + r[5]! * frame.n[1] + r[9]! * frame.n[2], r[2]! * frame.n[0] + r[6]! * frame.n[1] + r[10]! * frame.n[2]]
-    const local = await ctx.points.slab(placement.scanId, o, n, params.thickness / 2, cap - read)
+    const local = await ctx.points.slab(placement.scanId, o, n, params.thickness / 2, cap - read, placement.keep)
     if (ctx.cancelled?.()) throw new Stop('pending', 'superseded by a newer change')
     read += local.length / 3
     if (read > cap) throw new Stop('invalid-geometry', tooManyPoints('the slab', cap, ids.length > 1 ? 'make the slab thinner, or let the section cut fewer placements' : 'make the slab thinner, or place the section across a smaller part of the scan'))

@@ -79,7 +79,13 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
   const row = await claimExport(db, exportId)
   if (!row) return
   const every = deps.progressEveryMs ?? 250
-  const source: ExportSource = row.source === 'placement' ? { kind: 'placement', sceneId: row.scene_id, instanceId: row.instance_id ?? '00000000-0000-0000-0000-000000000000' } : { kind: 'scene', sceneId: row.scene_id }
+  const none = '00000000-0000-0000-0000-000000000000'
+  const source: ExportSource =
+    row.source === 'placement'
+      ? { kind: 'placement', sceneId: row.scene_id, instanceId: row.instance_id ?? none }
+      : row.source === 'object'
+        ? { kind: 'object', sceneId: row.scene_id, objectId: row.object_id ?? none }
+        : { kind: 'scene', sceneId: row.scene_id }
   const heartbeat = setInterval(() => void touchExport(db, exportId).catch(() => {}), Math.max(200, (deps.staleMs ?? 30_000) / 3))
   heartbeat.unref()
   let lastReport = 0
@@ -93,6 +99,7 @@ export async function runExport(deps: ExportDeps, exportId: string): Promise<voi
   }
   try {
     if (row.source === 'placement' && !row.instance_id) throw new ExportError('The placement to export was removed from the scene.')
+    if (row.source === 'object' && !row.object_id) throw new ExportError('The object to export was deleted.')
     const t0 = performance.now()
     const parts = await resolveParts(db, source)
     totalStored = Math.max(1, parts.reduce((n, p) => n + p.storedPoints, 0))

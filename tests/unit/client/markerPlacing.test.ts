@@ -83,10 +83,10 @@ describe('request bodies', () => {
   })
 
   it('send the required margin of a clearance only when one is given', () => {
-    const plain = MarkerCreateBody.parse(clearanceBody({ objectInstanceId: A, sectionMarkerId: B }))
-    expect(plain).toMatchObject({ kind: 'clearance', anchors: [], params: { objectInstanceId: A, sectionMarkerId: B } })
+    const plain = MarkerCreateBody.parse(clearanceBody({ objectId: A, sectionMarkerId: B }))
+    expect(plain).toMatchObject({ kind: 'clearance', anchors: [], params: { objectId: A, sectionMarkerId: B } })
     expect('requiredMargin' in plain.params).toBe(false)
-    const margin = MarkerCreateBody.parse(clearanceBody({ objectInstanceId: A, sectionMarkerId: B, requiredMargin: 0.05 }))
+    const margin = MarkerCreateBody.parse(clearanceBody({ objectId: A, sectionMarkerId: B, requiredMargin: 0.05 }))
     expect(margin.params).toMatchObject({ requiredMargin: 0.05 })
   })
 })

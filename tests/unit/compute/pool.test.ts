@@ -107,8 +107,10 @@ function sceneContext(): { ctx: CheckContext; section: CheckInput; clearance: Ch
     placements: new Map([[WALL_ID, { matrix: identity, scanId: 'wall', registrationU: 0 }], [BOX_ID, { matrix: identity, scanId: 'box', registrationU: 0 }]]),
     scans: new Map([['wall', { name: 'wall', status: 'ready', spacing: 0.02, pointUncertainty: 0.001 }], ['box', { name: 'box', status: 'ready', spacing: 0.02, pointUncertainty: 0.001 }]]),
     settings: { anchorTolerance: null, requiredMargin: 0.05 },
-    objectPoints: async () => {
-      throw new Error('this test names no object')
+    // The clearance names its box by placement: a one-member object with no trims (identity placement).
+    objectPoints: async (target) => {
+      if (typeof target === 'string' || target.instanceId !== BOX_ID) throw new Error('this test names the box placement only')
+      return { name: 'box', points: Float64Array.from(box), around: new Float64Array(0), members: [{ instanceId: BOX_ID, scanName: 'box', registrationU: 0, stored: box.length / 3, kept: box.length / 3 }], pointUncertainty: 0.001, spacing: 0.02, strayDropped: 0 }
     },
     points: {
       async snap(scanId, x, y, z) {
