@@ -7,6 +7,7 @@ import path from 'node:path'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import { DEMO_ACCOUNTS, DEMO_GUEST, DEMO_PASSWORD, DEMO_PROJECT } from '../../server/demo/accounts'
+import { DEMO_SCENE } from '../../server/demo/synth/demoScans'
 import { writeBinaryPly } from '../../server/points/writers/plyWriter'
 import { launchBrowser, shot, watchConsole } from '../utils/browser'
 import { startTestServer, tokenOf, type TestServer } from '../utils/server'
@@ -63,8 +64,9 @@ async function openDemoAs(role: string): Promise<{ page: Page; problems: string[
 
 it('uploads one file of each format from the page and shows each one ready with its figures, and the bad one failed', { timeout: 120_000 }, async () => {
   const { page, problems } = await openDemoAs('measurer')
-  // The demo's own three scans, processed by the worker after seeding.
-  await expect.poll(() => page.locator('[data-testid="scan-row"][data-status="ready"]').count(), { timeout: 60_000 }).toBe(3)
+  // The demo's own scans (the door's two stations, the chest's two), processed by the worker after seeding.
+  const demoScans = DEMO_SCENE.placements.length
+  await expect.poll(() => page.locator('[data-testid="scan-row"][data-status="ready"]').count(), { timeout: 60_000 }).toBe(demoScans)
   await expect.poll(() => page.getByTestId('scan-laser-caution').count()).toBeGreaterThan(0)
   await shot(page, '20-demo-scans')
 
@@ -75,7 +77,7 @@ it('uploads one file of each format from the page and shows each one ready with 
     return p
   })
   await page.getByTestId('scan-upload-input').setInputFiles(paths)
-  await expect.poll(() => page.getByTestId('scan-row').count(), { timeout: 30_000 }).toBe(3 + paths.length)
+  await expect.poll(() => page.getByTestId('scan-row').count(), { timeout: 30_000 }).toBe(demoScans + paths.length)
   await expect.poll(() => page.locator('[data-testid="scan-row"][data-status="queued"], [data-testid="scan-row"][data-status="processing"]').count(), { timeout: 60_000 }).toBe(0)
   await shot(page, '21-scans-uploaded')
   for (const [name, f] of Object.entries(all)) {
