@@ -1,4 +1,5 @@
 import {
+  ObjectHistory,
   ObjectList,
   ObjectPoints,
   ObjectResponse,
@@ -34,6 +35,11 @@ export function deleteObject(objectId: string): Promise<void> {
 /** What the object's trims and stray filter keep, per member, and a thinned sample of the kept points. */
 export async function objectPoints(objectId: string, signal?: AbortSignal): Promise<ObjectPoints> {
   return http.get(apiPath`/api/objects/${objectId}/points`, ObjectPoints, { signal })
+}
+
+/** The object's versions and its trims', newest first. */
+export async function objectHistory(objectId: string, signal?: AbortSignal) {
+  return (await http.get(apiPath`/api/objects/${objectId}/history`, ObjectHistory, { signal })).revisions
 }
 
 /** A trim of one member of the object. */

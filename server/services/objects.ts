@@ -11,6 +11,7 @@ import {
   TrimShape,
   TrimUpdateBody,
   type ObjectPoints,
+  type ObjectRevision,
   type SceneObject,
   type Trim,
 } from '@shared/schemas'
@@ -363,7 +364,7 @@ export async function objectPointsOf(s: Services, objectId: string, sampleLimit 
 const round = (x: number) => Math.round(x * 1e4) / 1e4
 
 /** An object's versions and its trims', newest first (at most 200). */
-export async function historyOfObject(s: Services, objectId: string) {
+export async function historyOfObject(s: Services, objectId: string): Promise<ObjectRevision[]> {
   const rows = await repo.listObjectRevisions(s.db, { sceneId: (await sceneOfObject(s, objectId)).scene_id, objectId, limit: 200 })
-  return rows.map((r) => ({ id: r.id, objectId: r.object_id, trimId: r.trim_id, action: r.action, state: r.state, by: r.user_name ?? null, at: r.created_at.toISOString() }))
+  return rows.map((r): ObjectRevision => ({ id: r.id, objectId: r.object_id, trimId: r.trim_id, action: r.action, state: r.state as Record<string, unknown>, by: r.user_name ?? null, at: r.created_at.toISOString() }))
 }

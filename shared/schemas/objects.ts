@@ -178,6 +178,20 @@ export const ObjectList = z.object({ objects: z.array(SceneObject) })
 export const TrimResponse = z.object({ trim: Trim })
 export const TrimList = z.object({ trims: z.array(Trim) })
 
+/** One version of an object or of one of its trims (GET /api/objects/:objectId/history), newest first. */
+export const ObjectRevision = z.object({
+  id: Id,
+  objectId: Id.nullable(),
+  trimId: Id.nullable(),
+  action: z.enum(['created', 'edited', 'deleted']),
+  /** The object or trim as written (the API's shape then). */
+  state: z.record(z.string(), z.unknown()),
+  by: z.string().nullable(),
+  at: Timestamp,
+})
+export type ObjectRevision = z.infer<typeof ObjectRevision>
+export const ObjectHistory = z.object({ revisions: z.array(ObjectRevision) })
+
 /** GET /api/objects/:objectId/points: what the object's trims and stray filter keep, and a thinned sample. */
 export const ObjectPoints = z.object({
   objectId: Id,

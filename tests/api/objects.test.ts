@@ -6,7 +6,7 @@
 // its own station frame and placed back by a known rigid matrix, made into one object: the same clearance.
 // Stray points (isolated mixed pixels beside an edge) are dropped by the statistical outlier filter (Rusu et
 // al. 2008). Synthetic scans of known geometry made here (tests/utils/solids.ts), not demo data.
-import { resultOf, type Export, type Marker, type SceneObject, type Trim } from '@shared/schemas'
+import { ObjectHistory, resultOf, type Export, type Marker, type SceneObject, type Trim } from '@shared/schemas'
 import { readAll } from '../../server/points/readers/index'
 import { Matrix4 } from 'three'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -168,7 +168,7 @@ describe('objects and trims', () => {
     // Mentors read but do not trim.
     await mentor.agent.get(`/api/objects/${object.id}/trims`).expect(200)
     await mentor.agent.post(`/api/objects/${object.id}/trims`).send({ instanceId: boxes[noise], ...keepBox }).expect(403)
-    const history = (await owner.agent.get(`/api/objects/${object.id}/history`).expect(200)).body.revisions as { action: string; trimId: string | null }[]
+    const history = ObjectHistory.parse((await owner.agent.get(`/api/objects/${object.id}/history`).expect(200)).body).revisions
     expect(history.map((r) => `${r.action} ${r.trimId ? 'trim' : 'object'}`)).toEqual(['edited trim', 'created trim', 'created object'])
     await owner.agent.delete(`/api/objects/${object.id}`).expect(204)
     // The object's trims went with it.
