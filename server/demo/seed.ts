@@ -108,7 +108,7 @@ async function seedDemoObject(s: Services, sceneId: string, instanceIds: Record<
  * The demo's first markers, on station A (placed where it stood): the door's head height, a section through
  * the wall with its free opening, and the chest's clearance through it kept upright and free to turn (the
  * riggers of the story ask for 80 mm a side); and the door's width from station A to station B, which reads
- * right only once B is aligned. The clearances and the size read the chest on its trolley as an object. Written as
+ * right only once B is aligned. The clearances and the size marker read the chest on its trolley as an object. Written as
  * rows and checked once the scans are processed.
  */
 async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, instanceIds: Record<string, string>, objectId: string, userId: string): Promise<void> {
@@ -139,8 +139,8 @@ async function seedDemoMarkers(s: Services, projectId: string, sceneId: string, 
   })
   await add({ kind: 'clearance', label: 'chest upright through the door', anchors: [], params: { objectId, sectionMarkerId: section, maxTurnDegrees: 0 } })
   await add({ kind: 'clearance', label: 'chest, any turn', anchors: [], params: { objectId, sectionMarkerId: section } })
-  // TODO(size marker): the chest's size, a marker of kind `size` with params { objectId }, goes here once that
-  // kind is on main: await add({ kind: 'size', label: 'chest on its trolley, size', anchors: [], params: { objectId } })
+  // The chest's size on its trolley: the oriented box of the object's kept points, its height from the yard floor.
+  await add({ kind: 'size', label: 'chest on its trolley, size', anchors: [], params: { objectId } })
   // The clear width across the two stations: A's right jamb to B's left jamb (each sees only the far one, at
   // 1 m, mid-reveal). B's anchor is on B's own points, so while B is only roughly placed the width reads
   // wrong; aligning B puts it right, with both registrations in its uncertainty.

@@ -117,6 +117,16 @@ it('seeds the demo project with its four scans, processed to ready', { timeout: 
   const free = resultOf(by['chest, any turn']!.check, 'clearance')!
   expect(free.outcome).toBe('passes')
   expect(Math.abs(Math.abs(free.rotationDegrees) - 90)).toBeLessThan(3)
+  // The chest's size on its trolley (the size kind: the oriented box of the kept points, the height from the
+  // floor fitted under it) against the generator's chest and trolley: within U, and 1 mm more (one fixed-seed
+  // draw; U covers about 95 % of draws).
+  const size = by['chest on its trolley, size']!.check
+  expect(size.state, size.reason ?? '').toBe('checked')
+  const sizes = resultOf(size, 'size')!
+  expect(sizes.floor.found).toBe(true)
+  expect(Math.abs(sizes.length.value - CHEST.length)).toBeLessThan(sizes.length.U + 0.001)
+  expect(Math.abs(sizes.width.value - CHEST.depth)).toBeLessThan(sizes.width.U + 0.001)
+  expect(Math.abs(sizes.height.value - (TROLLEY.height + CHEST.height))).toBeLessThan(sizes.height.U + 0.001)
   // Across the stations: B only roughly placed, so the width reads off the true 1.40 m by more than its U.
   const across = by['door width across the stations']!.check
   expect(across.state, across.reason ?? '').toBe('checked')
