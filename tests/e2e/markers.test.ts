@@ -246,8 +246,8 @@ it('prints the measurement sheet with the API’s values, the scans used and the
     const word = { open: 'open', 'changes-asked': 'changes asked', 'signed-off': 'signed off' }[m.review.state]
     await expect(page.locator(`[data-testid="sheet-row"][data-marker-id="${m.id}"] [data-testid="sheet-review"]`).innerText()).resolves.toMatch(new RegExp(`^${word}`))
   }
-  // Each section's and clearance's figure under its row (those with a result to draw).
-  const drawn = list.filter((m) => (m.kind === 'section' || m.kind === 'clearance') && m.check.result !== null).length
+  // Each section's, clearance's and size's figure under its row (those with a result to draw).
+  const drawn = list.filter((m) => (m.kind === 'section' || m.kind === 'clearance' || m.kind === 'size') && m.check.result !== null).length
   await expect(page.getByTestId('sheet-figure').count()).resolves.toBe(drawn)
   await expect(page.getByTestId('sheet-print').innerText()).resolves.toMatch(/save as PDF/)
   await expect(page.getByTestId('sheet-scans').locator('tbody tr').count()).resolves.toBe(scene.instances.length)
