@@ -156,6 +156,8 @@ describe('viewing passes', () => {
           .executeTakeFirstOrThrow()
       ).id,
       uploadId: (await owner.agent.post(`/api/projects/${projectId}/uploads`).send({ fileName: 'walk.xyz', sizeBytes: 100 }).expect(201)).body.upload.id,
+      objectId: (await owner.agent.post(`/api/scenes/${sceneId}/objects`).send({ name: 'walk object', members: [instanceId] }).expect(201)).body.object.id,
+      trimId: (await owner.agent.post(`/api/instances/${instanceId}/trims`).send({ mode: 'cut', shape: { shape: 'below', point: [0, 0, -5] } }).expect(201)).body.trim.id,
       partNumber: '1',
       userId: owner.user.id,
       nodeKey: 'r',
