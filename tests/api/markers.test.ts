@@ -10,6 +10,7 @@ import { upload, waitForScan } from '../utils/scans'
 import { joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid, drumSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
 import { parse } from 'csv-parse/sync'
+import { waitChecked as waitCheckedBy } from '../utils/markers'
 
 let t: TestServer
 let owner: Awaited<ReturnType<typeof signUpAgent>>
@@ -52,15 +53,7 @@ const anchor = (name: Name, x: number, y: number, z: number) => ({ instanceId: p
 const openingSection = (name: Name, halfWidth: number) =>
   post({ kind: 'section', anchors: [anchor(name, -halfWidth, 0, 1), anchor(name, halfWidth, 0, 1)], params: { plane: 'two-points', thickness: 0.1, opening: true } })
 
-async function waitChecked(id: string, revisionAbove: number): Promise<Marker> {
-  const deadline = Date.now() + 30_000
-  for (;;) {
-    const m = (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker as Marker
-    if (m.check.state !== 'pending' && m.check.basedOn > revisionAbove) return m
-    if (Date.now() > deadline) throw new Error(`marker ${id} still ${m.check.state} at revision ${m.check.basedOn}`)
-    await new Promise((r) => setTimeout(r, 50))
-  }
-}
+const waitChecked = (id: string, revisionAbove = 0) => waitCheckedBy(owner.agent, id, revisionAbove)
 
 beforeAll(async () => {
   t = await startTestServer({}, { WORKER: 'spawn' })

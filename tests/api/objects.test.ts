@@ -13,6 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { upload, waitForScan } from '../utils/scans'
 import { joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { SurfaceSampler, wallWithOpening } from '../utils/solids'
+import { waitChecked as waitCheckedBy } from '../utils/markers'
 
 let t: TestServer
 let owner: Awaited<ReturnType<typeof signUpAgent>>
@@ -67,15 +68,7 @@ async function post(body: object, status = 201): Promise<Marker> {
   return res.body.marker
 }
 
-async function waitChecked(id: string, revisionAbove = 0): Promise<Marker> {
-  const deadline = Date.now() + 30_000
-  for (;;) {
-    const m = (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker as Marker
-    if (m.check.state !== 'pending' && m.check.basedOn > revisionAbove) return m
-    if (Date.now() > deadline) throw new Error(`marker ${id} still ${m.check.state} at revision ${m.check.basedOn}`)
-    await new Promise((r) => setTimeout(r, 50))
-  }
-}
+const waitChecked = (id: string, revisionAbove = 0) => waitCheckedBy(owner.agent, id, revisionAbove)
 
 async function waitForExport(id: string): Promise<Export> {
   const deadline = Date.now() + 30_000

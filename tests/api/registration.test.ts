@@ -14,6 +14,7 @@ import { liveClient } from '../utils/live'
 import { upload, waitForScan } from '../utils/scans'
 import { guestAgent, joinProject, signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { wallWithOpening } from '../utils/solids'
+import { waitChecked as waitCheckedBy } from '../utils/markers'
 
 type V = [number, number, number]
 const NOISE = 0.001
@@ -80,15 +81,7 @@ async function waitRefined(id: string): Promise<Registration> {
   }
 }
 
-async function waitChecked(id: string, revisionAbove: number): Promise<Marker> {
-  const deadline = Date.now() + 30_000
-  for (;;) {
-    const m = (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker as Marker
-    if (m.check.state !== 'pending' && m.check.basedOn > revisionAbove) return m
-    if (Date.now() > deadline) throw new Error(`marker ${id} still ${m.check.state} at revision ${m.check.basedOn}`)
-    await new Promise((r) => setTimeout(r, 50))
-  }
-}
+const waitChecked = (id: string, revisionAbove = 0) => waitCheckedBy(owner.agent, id, revisionAbove)
 
 /** How far a placement matrix puts site points from where S puts them, at the sphere centres and the wall's corners, metres. */
 function worstOffset(matrix: readonly number[]): number {

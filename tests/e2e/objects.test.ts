@@ -10,18 +10,17 @@
 // Screenshots go to /tmp/objui-shots/.
 import '../utils/browserLane'
 import fs from 'node:fs'
-import path from 'node:path'
 import { afterAll, beforeAll, expect, it } from 'vitest'
 import { Matrix4 } from 'three'
-import type { Browser, Page } from 'playwright-core'
+import type { Browser } from 'playwright-core'
 import { resultOf, type Marker, type ObjectPoints, type SceneObject } from '@shared/schemas'
 import { formatCount } from '@/lib/format'
-import { launchBrowser, waitNonePending, watchConsole } from '../utils/browser'
+import { launchBrowser, shot, waitNonePending, watchConsole } from '../utils/browser'
 import { upload, waitForScan } from '../utils/scans'
 import { signUpAgent, startTestServer, type TestServer } from '../utils/server'
 import { boxSolid, SurfaceSampler, wallWithOpening } from '../utils/solids'
+import { waitChecked as waitCheckedBy } from '../utils/markers'
 
-const SHOTS = '/tmp/objui-shots'
 const CRATE = { w: 0.6, d: 0.4, h: 1.2 }
 const DOOR = { width: 0.9, height: 2.0 }
 /** Grid spacing of the scans, metres: coarse enough to keep the file quick, fine enough for millimetre margins. */
@@ -73,19 +72,7 @@ function withStrays(s: SurfaceSampler): SurfaceSampler {
   return s
 }
 
-async function waitChecked(id: string): Promise<Marker> {
-  for (const deadline = Date.now() + 30_000; ; ) {
-    const m = (await owner.agent.get(`/api/markers/${id}`).expect(200)).body.marker as Marker
-    if (m.check.state !== 'pending') return m
-    if (Date.now() > deadline) throw new Error(`marker ${id} still pending`)
-    await new Promise((r) => setTimeout(r, 100))
-  }
-}
-
-async function shot(page: Page, name: string): Promise<void> {
-  fs.mkdirSync(SHOTS, { recursive: true })
-  await page.screenshot({ path: path.join(SHOTS, `${name}.png`) })
-}
+const waitChecked = (id: string) => waitCheckedBy(owner.agent, id)
 
 beforeAll(async () => {
   if (!fs.existsSync('dist/index.html')) throw new Error('browser tests need the client build: run them through `npm test`')
