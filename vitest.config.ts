@@ -1,7 +1,7 @@
 import os from 'node:os'
 import { defineConfig, mergeConfig } from 'vitest/config'
 import viteConfig from './vite.config'
-import { SpreadBrowserFiles } from './tests/utils/sequencer'
+import { PlannedLaneSequencer } from './tests/utils/sequencer'
 
 // The client's aliases and Vue plugin, plus the test settings.
 export default mergeConfig(
@@ -17,9 +17,9 @@ export default mergeConfig(
       pool: 'forks',
       // At least two files at once, even on two cores: most files wait on their servers, PostgreSQL and the
       // ingest worker more than they compute. Browser files take turns (tests/utils/browserLane.ts) and are
-      // spread among the others (tests/utils/sequencer.ts). SPANMARK_TEST_WORKERS overrides.
+      // planned so the browser lane never waits (tests/utils/sequencer.ts). SPANMARK_TEST_WORKERS overrides.
       maxWorkers: Number(process.env.SPANMARK_TEST_WORKERS) || Math.max(2, os.availableParallelism() - 1),
-      sequence: { sequencer: SpreadBrowserFiles },
+      sequence: { sequencer: PlannedLaneSequencer },
     },
   }),
 )
