@@ -20,9 +20,12 @@ export function planOrder<T>(files: readonly T[], browser: (f: T) => boolean, se
       start = Math.max(t, laneFree)
       laneFree = start + seconds(next)
     } else {
-      // The longest file that ends before the lane frees, else the shortest (the least the lane waits).
+      // Another worker comes free by the time the lane does (the one in the lane, usually): this one takes the
+      // longest file left. Else the longest that ends before the lane frees, else the shortest (the least the
+      // lane waits).
+      const covered = free.some((f, i) => i !== w && f <= laneFree)
       const room = laneFree - t
-      const fits = lane.length ? rest.findIndex((f) => seconds(f) <= room) : 0
+      const fits = !lane.length || covered ? 0 : rest.findIndex((f) => seconds(f) <= room)
       next = rest.splice(fits >= 0 ? fits : rest.length - 1, 1)[0]!
     }
     free[w] = start + seconds(next)

@@ -10,8 +10,9 @@ import { planOrder } from './plan'
  * left idle while the workers go through API files puts the browser files end to end at the back. The plan
  * plays the run through with each file's seconds from the last full run (`fileSeconds.json`, written by
  * `npm run test:timings`; a file not in it counts 40 s in the browser lane, 5 s elsewhere): whenever a worker
- * comes free, it takes the next browser file if the lane is free by then, else the longest other file that
- * ends before the lane frees (else the shortest). The workers then take files in that order.
+ * comes free, it takes the next browser file if the lane is free by then, else the longest other file (when
+ * another worker comes free by the time the lane does), else the longest that ends before the lane frees, else
+ * the shortest. The workers then take files in that order (tests/utils/plan.ts).
  */
 const SECONDS: Record<string, number> = (() => {
   try {
