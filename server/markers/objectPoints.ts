@@ -118,14 +118,25 @@ export async function readObjectPoints(
     total += nKept
     if (total > cap) return { state: 'invalid-geometry', problem: tooMany(`the object “${name}”`, cap) }
     const m = placement.matrix
+    // Selected points placed in the scene, written straight into their array (no per-point allocation on a
+    // million-point walk); the kept points' box is taken from that array afterwards.
     const inScene = (select: (i: number) => boolean, n: number, grow: boolean) => {
       const out = new Float64Array(3 * n)
       for (let i = 0, k = 0; i < count; i++) {
         if (!select(i)) continue
         const x = xyz[3 * i]!, y = xyz[3 * i + 1]!, z = xyz[3 * i + 2]!
-        const p = [m[0]! * x + m[4]! * y + m[8]! * z + m[12]!, m[1]! * x + m[5]! * y + m[9]! * z + m[13]!, m[2]! * x + m[6]! * y + m[10]! * z + m[14]!]
-        out[k++] = p[0]!, out[k++] = p[1]!, out[k++] = p[2]!
-        if (grow) for (let a = 0; a < 3; a++) (box.min[a] = Math.min(box.min[a]!, p[a]!)), (box.max[a] = Math.max(box.max[a]!, p[a]!))
+        out[k++] = m[0]! * x + m[4]! * y + m[8]! * z + m[12]!
+        out[k++] = m[1]! * x + m[5]! * y + m[9]! * z + m[13]!
+        out[k++] = m[2]! * x + m[6]! * y + m[10]! * z + m[14]!
+      }
+      if (grow) {
+        for (let k = 0; k < out.length; k += 3) {
+          for (let a = 0; a < 3; a++) {
+            const v = out[k + a]!
+            if (v < box.min[a]!) box.min[a] = v
+            if (v > box.max[a]!) box.max[a] = v
+          }
+        }
       }
       return out
     }
